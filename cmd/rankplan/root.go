@@ -1,0 +1,113 @@
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"rankplan/runner"
+	"rankplan/runner/data"
+	"rankplan/spec"
+)
+
+// Exit codes. They are part of the interface: scripts and CI jobs branch on them.
+const (
+	exitOK    = 0 // success
+	exitError = 1 // the run failed for a reason other than its input (e.g. the output could not be written)
+	exitInput = 2 // usage error, invalid plan or unusable data
+	// 3 to 9 are reserved for `rankplan verify`.
+)
+
+const exitCodesHelp = `Exit codes:
+  0  success
+  1  the command failed for a reason other than its input (e.g. writing the output)
+  2  usage error, invalid plan or unusable data
+  3-9 reserved for verify`
+
+// usageError is a mistake in the command line: wrong flags or arguments.
+type usageError struct{ err error }
+
+func (e *usageError) Error() string { return e.err.Error() }
+func (e *usageError) Unwrap() error { return e.err }
+
+func usageErrorf(format string, args ...any) error {
+	return &usageError{fmt.Errorf(format, args...)}
+}
+
+// Main runs rankplan with args and returns the exit code. It is the only place that prints
+// errors: each line once, as "rankplan: <context>: <cause>".
+func Main(args []string, stdout, stderr io.Writer) int {
+	root := newRoot(stdout, stderr)
+	root.SetArgs(args)
+	err := root.Execute()
+	if err == nil {
+		return exitOK
+	}
+	for _, line := range strings.Split(err.Error(), "\n") {
+		fmt.Fprintf(stderr, "rankplan: %s\n", line)
+	}
+	code := exitCode(err)
+	var ue *usageError
+	if errors.As(err, &ue) {
+		fmt.Fprintf(stderr, "rankplan: see 'rankplan --help' for usage\n")
+	}
+	return code
+}
+
+// exitCode maps an error to an exit code by its type, never by its text.
+func exitCode(err error) int {
+	var (
+		ue *usageError
+		ie *runner.InputError
+		de *data.Error
+	)
+	_, isPlan := spec.AsList(err)
+	switch {
+	case errors.As(err, &ue), errors.As(err, &ie), errors.As(err, &de), isPlan:
+		return exitInput
+	}
+	return exitError
+}
+
+func newRoot(stdout, stderr io.Writer) *cobra.Command {
+	root := &cobra.Command{
+		Use:   "rankplan",
+		Short: "Run preregistered rank-based analysis plans reproducibly",
+		Long: `rankplan runs a declarative analysis plan (YAML) that compares several groups with
+rank-based tests, validates the plan against a JSON Schema, and writes results that
+reproduce byte for byte.
+
+A typical session:
+  rankplan init --data lines.csv --group line --outcome minutes -o plan.yaml
+  rankplan check plan.yaml
+  rankplan run plan.yaml --out runs/2026-12-01
+
+Statistical output supports, and does not replace, qualified judgement; regulated use
+follows the lab's own procedures and software validation.
+
+` + exitCodesHelp,
+		SilenceErrors: true,
+		SilenceUsage:  true,
+	}
+	root.SetOut(stdout)
+	root.SetErr(stderr)
+	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
+		return &usageError{fmt.Errorf("%s: %w", c.CommandPath(), err)}
+	})
+	root.AddCommand(newInitCmd(), newCheckCmd(), newRunCmd(), newSchemaCmd(), newVersionCmd())
+	root.CompletionOptions.HiddenDefaultCmd = true
+	return root
+}
+
+// exactArgs is cobra.ExactArgs with our usage error type and wording.
+func exactArgs(n int, what string) cobra.PositionalArgs {
+	return func(c *cobra.Command, args []string) error {
+		if len(args) != n {
+			return usageErrorf("%s: expected %s, got %d argument(s)", c.CommandPath(), what, len(args))
+		}
+		return nil
+	}
+}

@@ -1,0 +1,26 @@
+package main
+
+import (
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"rankplan/schemas"
+)
+
+func newSchemaCmd() *cobra.Command {
+	return &cobra.Command{
+		Use:       "schema plan|results",
+		Short:     "Print the JSON Schema of plans or of results.json",
+		Args:      exactArgs(1, "plan or results"),
+		ValidArgs: schemas.Names,
+		RunE: func(c *cobra.Command, args []string) error {
+			b, err := schemas.Source(args[0])
+			if err != nil {
+				return usageErrorf("schema: %v; expected one of: %s", err, strings.Join(schemas.Names, ", "))
+			}
+			_, err = c.OutOrStdout().Write(b)
+			return err
+		},
+	}
+}

@@ -1,0 +1,45 @@
+#!/usr/bin/python3
+"""Writes the invented data sets of the rankplan examples.
+
+The data are invented for demonstration: they describe no real product, patient or
+study. Run from the examples folder: /usr/bin/python3 generate.py
+The output is fixed by the seeds below, so rerunning reproduces the committed files.
+"""
+import random
+
+def dissolution():
+    # Minutes until 80% of a tablet has dissolved, four production lines, 12 tablets each.
+    # Right-skewed (log-normal), read to the nearest half minute, so some values tie.
+    rng = random.Random(20261201)
+    centre = {"L1": 14.0, "L2": 15.5, "L3": 14.5, "L4": 18.0}
+    rows = []
+    for line, m in centre.items():
+        for i in range(12):
+            minutes = round(rng.lognormvariate(0, 0.18) * m * 2) / 2
+            rows.append((f"{line}-{i + 1:02d}", line, f"{minutes:.1f}"))
+    rows[17] = (rows[17][0], rows[17][1], "NA")  # a tablet whose reading was lost
+    rng.shuffle(rows)
+    with open("dissolution/tablets.csv", "w", newline="") as f:
+        f.write("tablet,line,minutes\r\n")
+        for r in rows:
+            f.write(",".join(r) + "\r\n")
+
+def symptom_scores():
+    # 0-10 symptom scores in three dose arms of unequal size: ordinal, heavily tied.
+    rng = random.Random(7041)
+    arms = {"placebo": (18, [1, 1, 2, 3, 4, 5, 6, 6, 5, 3, 2]),
+            "low dose": (16, [1, 2, 3, 4, 6, 6, 5, 4, 3, 1, 1]),
+            "high dose": (17, [2, 4, 6, 7, 6, 4, 3, 2, 1, 1, 1])}
+    rows = []
+    for arm, (n, weights) in arms.items():
+        for i in range(n):
+            score = rng.choices(range(11), weights=weights)[0]
+            rows.append((f"P{len(rows) + 101}", arm, str(score)))
+    rows.append(("P999", "", "4"))  # a participant whose arm was not recorded
+    with open("symptom-scores/scores.csv", "w", newline="") as f:
+        f.write("participant;arm;score_day28\n")
+        for r in rows:
+            f.write(";".join(r) + "\n")
+
+dissolution()
+symptom_scores()

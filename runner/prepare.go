@@ -1,0 +1,340 @@
+package runner
+
+import (
+	"bytes"
+	"cmp"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"slices"
+	"strconv"
+	"strings"
+
+	"rankplan/runner/data"
+	"rankplan/runner/results"
+	"rankplan/spec"
+)
+
+// InputError marks a failure caused by the run's inputs (plan, data, options) rather than
+// by rankplan or the machine. The command line maps it to the "unusable input" exit code.
+type InputError struct{ Err error }
+
+func (e *InputError) Error() string { return e.Err.Error() }
+func (e *InputError) Unwrap() error { return e.Err }
+
+func inputErr(err error) error {
+	if err == nil {
+		return nil
+	}
+	return &InputError{Err: err}
+}
+
+// Prepared is a plan joined with its data: for each analysis, the observations that enter
+// it, grouped in report order, and the rows left out.
+type Prepared struct {
+	Plan     *spec.Plan
+	DataPath string
+	Data     results.Data
+	Analyses []Input
+}
+
+// Input is what one analysis computes on.
+type Input struct {
+	Analysis *spec.Analysis
+	Groups   []string  // analysed groups, in report order
+	Group    []int32   // per observation: index into Groups
+	Values   []float64 // per observation: the outcome
+	Counts   []int     // per group: observations
+	Excluded []results.Exclusion
+}
+
+// Prepare reads the plan's data file and makes every check that needs the data. Problems
+// with the plan's meaning come back as a [spec.ErrorList] positioned in the plan file, and
+// problems in the data file as a [*data.Error]; both are wrapped in an [InputError].
+func Prepare(p *spec.Plan) (*Prepared, error) {
+	path := p.DataPath()
+	src, err := os.Open(path)
+	if err != nil {
+		return nil, inputErr(spec.ErrorList{p.Errorf("data.file", "cannot open the data file %s: %v", path, unwrapPathError(err))})
+	}
+	defer src.Close()
+
+	opt := data.Options{
+		Name:          path,
+		Delimiter:     p.Data.DelimiterByte(),
+		Decimal:       p.Data.Decimal[0],
+		GroupColumn:   p.Data.Group,
+		MissingTokens: p.Data.Missing.Tokens,
+		FailOnMissing: p.Data.Missing.Policy == spec.FailOnMissing,
+	}
+	outcomeCol := map[string]int{}
+	for _, a := range p.Analyses {
+		if _, ok := outcomeCol[a.Outcome]; !ok {
+			outcomeCol[a.Outcome] = len(opt.OutcomeColumns)
+			opt.OutcomeColumns = append(opt.OutcomeColumns, a.Outcome)
+		}
+	}
+
+	if p.Data.SHA256 != "" {
+		if err := checkPin(p, path, src); err != nil {
+			return nil, err
+		}
+	}
+	header, err := data.Header(src, opt)
+	if err != nil {
+		return nil, inputErr(err)
+	}
+	if errs := checkColumns(p, path, header); len(errs) > 0 {
+		return nil, inputErr(errs.Err())
+	}
+	if _, err := src.Seek(0, io.SeekStart); err != nil {
+		return nil, fmt.Errorf("read data file: %w", err)
+	}
+	t, err := data.Load(src, opt)
+	if err != nil {
+		return nil, inputErr(err)
+	}
+
+	prep := &Prepared{
+		Plan:     p,
+		DataPath: path,
+		Data: results.Data{
+			SHA256:             hex.EncodeToString(t.SHA256[:]),
+			Bytes:              t.Size,
+			Rows:               t.Rows,
+			HighPrecisionCells: t.HighPrecisionCells,
+		},
+	}
+	groups, errs := groupOrder(p, path, t.Groups)
+	if len(errs) > 0 {
+		return nil, inputErr(errs.Err())
+	}
+	for i := range p.Analyses {
+		a := &p.Analyses[i]
+		in, err := select_(p, i, t, groups, t.Outcome[outcomeCol[a.Outcome]])
+		if err != nil {
+			return nil, inputErr(err)
+		}
+		prep.Analyses = append(prep.Analyses, in)
+	}
+	return prep, nil
+}
+
+func unwrapPathError(err error) error {
+	var pe *os.PathError
+	if errors.As(err, &pe) {
+		return pe.Err
+	}
+	return err
+}
+
+// checkPin refuses data whose SHA-256 differs from the plan's pin, before anything else is
+// read from it, and leaves the file positioned at its start.
+func checkPin(p *spec.Plan, path string, f *os.File) error {
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return fmt.Errorf("hash data file %s: %w", path, err)
+	}
+	got := hex.EncodeToString(h.Sum(nil))
+	if got != p.Data.SHA256 {
+		return inputErr(spec.ErrorList{p.Errorf("data.sha256",
+			"the data file %s has SHA-256 %s, but the plan pins %s; the data have changed since the plan was written",
+			path, got, p.Data.SHA256)})
+	}
+	if _, err := f.Seek(0, io.SeekStart); err != nil {
+		return fmt.Errorf("read data file %s: %w", path, err)
+	}
+	return nil
+}
+
+func checkColumns(p *spec.Plan, path string, header []string) spec.ErrorList {
+	have := map[string]bool{}
+	for _, h := range header {
+		have[h] = true
+	}
+	list := strings.Join(quoteEach(header), ", ")
+	var errs spec.ErrorList
+	need := func(keyPath, col string) {
+		if !have[col] {
+			errs = append(errs, p.Errorf(keyPath, "no column %q in %s (columns: %s)", col, path, list))
+		}
+	}
+	need("data.group", p.Data.Group)
+	if p.Has("data.outcome") {
+		need("data.outcome", p.Data.Outcome)
+	}
+	for i, a := range p.Analyses {
+		key := "analyses." + strconv.Itoa(i) + ".outcome"
+		if p.Has(key) {
+			need(key, a.Outcome)
+		} else if !p.Has("data.outcome") {
+			need(key, a.Outcome)
+		}
+	}
+	return errs
+}
+
+func quoteEach(s []string) []string {
+	out := make([]string, len(s))
+	for i, x := range s {
+		out[i] = strconv.Quote(x)
+	}
+	return out
+}
+
+// groupOrder decides which data groups are analysed, in which order, and checks that the
+// groups the plan names exist. Without groups.include or groups.order every group found is
+// analysed, ordered by label (byte order), so that the order does not depend on row order.
+func groupOrder(p *spec.Plan, path string, found []string) ([]string, spec.ErrorList) {
+	inData := map[string]bool{}
+	for _, g := range found {
+		inData[g] = true
+	}
+	var errs spec.ErrorList
+	for _, list := range []struct {
+		key   string
+		names []string
+	}{{"groups.include", p.Groups.Include}, {"groups.order", p.Groups.Order}} {
+		for i, g := range list.names {
+			if !inData[g] {
+				errs = append(errs, p.Errorf(list.key+"."+strconv.Itoa(i),
+					"no rows of group %q in column %q of %s (groups found: %s)", g, p.Data.Group, path, strings.Join(quoteEach(sortedCopy(found)), ", ")))
+			}
+		}
+	}
+	if len(p.Groups.Order) > 0 && len(p.Groups.Include) == 0 {
+		listed := map[string]bool{}
+		for _, g := range p.Groups.Order {
+			listed[g] = true
+		}
+		for _, g := range sortedCopy(found) {
+			if !listed[g] {
+				errs = append(errs, p.Errorf("groups.order",
+					"does not list group %q found in %s; add it, or name the groups to analyse in groups.include", g, path))
+			}
+		}
+	}
+	if len(errs) > 0 {
+		return nil, errs
+	}
+	if order := p.GroupOrder(); order != nil {
+		return order, nil
+	}
+	if len(found) < 2 {
+		return nil, spec.ErrorList{p.Errorf("data.group",
+			"column %q of %s holds %d group(s) (%s); at least two are needed", p.Data.Group, path, len(found), strings.Join(quoteEach(found), ", "))}
+	}
+	return sortedCopy(found), nil
+}
+
+func sortedCopy(s []string) []string {
+	c := slices.Clone(s)
+	slices.Sort(c)
+	return c
+}
+
+// select_ builds the input of analysis i: each row is either used or counted once as
+// excluded, under the first reason that applies in this order: missing-group,
+// group-not-included, missing-outcome.
+func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []float64) (Input, error) {
+	a := &p.Analyses[i]
+	pos := make(map[string]int32, len(groups))
+	for j, g := range groups {
+		pos[g] = int32(j)
+	}
+	// Table group index → analysis group index, or -1 when the group is not analysed.
+	remap := make([]int32, len(t.Groups))
+	for j, g := range t.Groups {
+		if k, ok := pos[g]; ok {
+			remap[j] = k
+		} else {
+			remap[j] = -1
+		}
+	}
+	in := Input{
+		Analysis: a,
+		Groups:   groups,
+		Group:    make([]int32, 0, t.Rows),
+		Values:   make([]float64, 0, t.Rows),
+		Counts:   make([]int, len(groups)),
+	}
+	type key struct {
+		reason string
+		group  int32 // table group index, -1 for a missing label
+	}
+	excluded := map[key]int{}
+	for r := 0; r < t.Rows; r++ {
+		g := t.Group[r]
+		switch {
+		case g < 0:
+			excluded[key{results.ReasonMissingGroup, -1}]++
+		case remap[g] < 0:
+			excluded[key{results.ReasonNotIncluded, g}]++
+		case math.IsNaN(outcome[r]):
+			excluded[key{results.ReasonMissingOutcome, g}]++
+		default:
+			k := remap[g]
+			in.Group = append(in.Group, k)
+			in.Values = append(in.Values, outcome[r])
+			in.Counts[k]++
+		}
+	}
+	reasonRank := map[string]int{results.ReasonMissingGroup: 0, results.ReasonNotIncluded: 1, results.ReasonMissingOutcome: 2}
+	keys := make([]key, 0, len(excluded))
+	for k := range excluded {
+		keys = append(keys, k)
+	}
+	label := func(g int32) string {
+		if g < 0 {
+			return ""
+		}
+		return t.Groups[g]
+	}
+	slices.SortFunc(keys, func(x, y key) int {
+		return cmp.Or(cmp.Compare(reasonRank[x.reason], reasonRank[y.reason]), strings.Compare(label(x.group), label(y.group)))
+	})
+	in.Excluded = []results.Exclusion{}
+	for _, k := range keys {
+		in.Excluded = append(in.Excluded, results.Exclusion{Group: label(k.group), Reason: k.reason, Rows: excluded[k]})
+	}
+
+	var errs spec.ErrorList
+	at := "analyses." + strconv.Itoa(i)
+	for j, g := range groups {
+		if in.Counts[j] == 0 {
+			var why bytes.Buffer
+			for _, e := range in.Excluded {
+				if e.Group == g {
+					fmt.Fprintf(&why, "; %d row(s) excluded as %s", e.Rows, e.Reason)
+				}
+			}
+			errs = append(errs, p.Errorf(at, "group %q has no observations of %q left to analyse%s; every analysed group needs at least one",
+				g, a.Outcome, why.String()))
+		}
+	}
+	return in, errs.Err()
+}
+
+// Preview summarises a prepared plan for `rankplan check`.
+func (prep *Prepared) Preview() *results.Preview {
+	p := prep.Plan
+	pv := &results.Preview{
+		Plan: results.Plan{ID: p.ID, Title: p.Title, Alpha: p.Alpha, Seed: p.Seed.String()},
+		Data: prep.Data,
+	}
+	for _, in := range prep.Analyses {
+		pa := results.PreviewAnalysis{
+			ID: in.Analysis.ID, Test: string(in.Analysis.Test), PValue: string(in.Analysis.PValue.Method),
+			Outcome: in.Analysis.Outcome, N: len(in.Values), Excluded: in.Excluded,
+		}
+		for j, g := range in.Groups {
+			pa.Groups = append(pa.Groups, results.GroupCount{Name: g, N: in.Counts[j]})
+		}
+		pv.Analyses = append(pv.Analyses, pa)
+	}
+	return pv
+}

@@ -1,0 +1,143 @@
+package report
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+
+	"rankplan/runner/results"
+)
+
+// Caution is printed under every summary and report.
+const Caution = "Statistical output supports, and does not replace, qualified judgement; " +
+	"regulated use follows the lab's own procedures and software validation."
+
+// FormatP writes a p-value for people: four significant digits, and for a p-value
+// below the smallest normal double the bound implied by its log10.
+func FormatP(p *results.PValue) string {
+	if p.Value == nil {
+		return "< 1e" + strconv.Itoa(int(math.Floor(p.Log10))+1) + " (log10 p = " + strconv.FormatFloat(p.Log10, 'f', 4, 64) + ")"
+	}
+	return Num(*p.Value)
+}
+
+// Num writes a number with up to four significant digits after the point, as people read
+// tables; results.json keeps every digit.
+func Num(x float64) string {
+	if x != 0 && (math.Abs(x) < 1e-4 || math.Abs(x) >= 1e7) {
+		return strconv.FormatFloat(x, 'g', 4, 64)
+	}
+	s := strconv.FormatFloat(x, 'g', 6, 64)
+	if strings.ContainsAny(s, "e") {
+		return strconv.FormatFloat(x, 'f', 2, 64)
+	}
+	return s
+}
+
+// Exclusions writes the exclusion counts of an analysis on one line, or "none".
+func Exclusions(ex []results.Exclusion) string {
+	if len(ex) == 0 {
+		return "none"
+	}
+	parts := make([]string, len(ex))
+	total := 0
+	for i, e := range ex {
+		g := e.Group
+		if g == "" {
+			g = "(no group)"
+		}
+		parts[i] = fmt.Sprintf("%s %s: %d", g, e.Reason, e.Rows)
+		total += e.Rows
+	}
+	return fmt.Sprintf("%d row(s): %s", total, strings.Join(parts, ", "))
+}
+
+// Summary writes the short terminal summary of a run.
+func Summary(w io.Writer, res *results.Results, dataPath string) error {
+	ew := &errWriter{w: w}
+	ew.printf("plan %s: %s\n", res.Plan.ID, res.Plan.Title)
+	ew.printf("data %s: %d rows, sha256 %s\n", dataPath, res.Data.Rows, res.Data.SHA256)
+	if res.Data.HighPrecisionCells > 0 {
+		ew.printf("note: %d cell(s) have more than 15 significant digits; values are compared as doubles, so such cells may tie\n", res.Data.HighPrecisionCells)
+	}
+	for _, a := range res.Analyses {
+		ew.printf("\nanalysis %s: %s of %q, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, len(a.Groups), a.N)
+		ew.printf("  excluded: %s\n", Exclusions(a.Excluded))
+		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
+		fmt.Fprintf(tw, "  group\tn\tmedian\tQ1\tQ3\tmean rank\t\n")
+		for _, g := range a.Groups {
+			fmt.Fprintf(tw, "  %s\t%d\t%s\t%s\t%s\t%s\t\n", g.Name, g.N, Num(g.Median), Num(g.Q1), Num(g.Q3), Num(g.MeanRank))
+		}
+		tw.Flush()
+		if a.Status != "ok" {
+			ew.printf("  not computable: %s\n", a.Reason)
+			continue
+		}
+		kw := a.KruskalWallis
+		ew.printf("  H = %s (tie-corrected; C = %s), df = %d, p = %s (%s)\n",
+			Num(kw.H), Num(kw.TieCorrection), kw.DF, FormatP(a.PValue), methodName(a.PValue.Method))
+		verdict := "do not reject the null hypothesis of identical distributions (p > alpha)"
+		if a.Decision.Reject {
+			verdict = "reject the null hypothesis of identical distributions (p <= alpha)"
+		}
+		ew.printf("  at alpha = %s: %s\n", Num(a.Decision.Alpha), verdict)
+	}
+	ew.printf("\n%s\n", Caution)
+	return ew.err
+}
+
+func testName(t string) string {
+	if t == "kruskal-wallis" {
+		return "Kruskal-Wallis"
+	}
+	return t
+}
+
+func methodName(m string) string {
+	if m == "asymptotic" {
+		return "asymptotic chi-square"
+	}
+	return m
+}
+
+type errWriter struct {
+	w   io.Writer
+	err error
+}
+
+func (e *errWriter) Write(b []byte) (int, error) {
+	if e.err != nil {
+		return 0, e.err
+	}
+	n, err := e.w.Write(b)
+	e.err = err
+	return n, err
+}
+
+func (e *errWriter) printf(format string, args ...any) { fmt.Fprintf(e, format, args...) }
+
+// Preview writes what `rankplan check` found: the groups and their sizes, and the rows
+// that would be left out, for each analysis.
+func Preview(w io.Writer, pv *results.Preview, planPath, dataPath string) error {
+	ew := &errWriter{w: w}
+	ew.printf("plan %s is valid: %s\n", planPath, pv.Plan.Title)
+	ew.printf("data %s: %d rows, sha256 %s\n", dataPath, pv.Data.Rows, pv.Data.SHA256)
+	if pv.Data.HighPrecisionCells > 0 {
+		ew.printf("note: %d cell(s) have more than 15 significant digits; values are compared as doubles, so such cells may tie\n", pv.Data.HighPrecisionCells)
+	}
+	for _, a := range pv.Analyses {
+		ew.printf("\nanalysis %s: %s of %q, p-value %s, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, a.PValue, len(a.Groups), a.N)
+		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
+		fmt.Fprintf(tw, "  group\tn\t\n")
+		for _, g := range a.Groups {
+			fmt.Fprintf(tw, "  %s\t%d\t\n", g.Name, g.N)
+		}
+		tw.Flush()
+		ew.printf("  excluded: %s\n", Exclusions(a.Excluded))
+	}
+	ew.printf("\nnothing was computed; run it with: rankplan run %s --out DIR\n", planPath)
+	return ew.err
+}

@@ -1,0 +1,136 @@
+// Package results defines the one results struct that a run computes and every rendering
+// (results.json, the terminal summary, later the report) reads. It holds no timestamps,
+// host names or paths, so that the same plan on the same data gives the same bytes on any
+// machine; who ran it, when and where belongs in the audit log.
+package results
+
+// Format names this layout of results.json; a change of layout changes the name.
+const Format = "rankplan-results/1"
+
+// Results is everything a run computed, in plan order.
+type Results struct {
+	Format      string      `json:"format"`
+	Plan        Plan        `json:"plan"`
+	Data        Data        `json:"data"`
+	Conventions Conventions `json:"conventions"`
+	Analyses    []Analysis  `json:"analyses"`
+}
+
+// Plan identifies the plan that ran.
+type Plan struct {
+	ID    string  `json:"id"`
+	Title string  `json:"title"`
+	Alpha float64 `json:"alpha"`
+	Seed  string  `json:"seed"` // decimal string: JSON numbers above 2^53 are not exact
+}
+
+// Data identifies the data that were read (by content, not by path).
+type Data struct {
+	SHA256 string `json:"sha256"`
+	Bytes  int64  `json:"bytes"`
+	Rows   int    `json:"rows"` // data rows read, header not counted
+	// HighPrecisionCells counts numeric cells with more than 15 significant digits. Values are
+	// compared as IEEE 754 doubles, so two such cells that differ only past the 15th digit
+	// may be read as tied.
+	HighPrecisionCells int `json:"high_precision_cells"`
+}
+
+// Conventions states the definitions behind the numbers, so that a reader can recompute them.
+type Conventions struct {
+	Ranks     string `json:"ranks"`
+	Quantiles string `json:"quantiles"`
+	Decision  string `json:"decision"`
+}
+
+// Analysis is the result of one planned analysis.
+type Analysis struct {
+	ID       string      `json:"id"`
+	Title    string      `json:"title,omitempty"`
+	Test     string      `json:"test"`
+	Outcome  string      `json:"outcome"`
+	N        int         `json:"n"`
+	Groups   []Group     `json:"groups"`
+	Excluded []Exclusion `json:"excluded"`
+	// Status is "ok", or "not-computable" with Reason saying why (e.g. all values tied).
+	Status        string         `json:"status"`
+	Reason        string         `json:"reason,omitempty"`
+	KruskalWallis *KruskalWallis `json:"kruskal_wallis,omitempty"`
+	PValue        *PValue        `json:"p_value,omitempty"`
+	Decision      *Decision      `json:"decision,omitempty"`
+}
+
+// Group describes one analysed group.
+type Group struct {
+	Name     string  `json:"name"`
+	N        int     `json:"n"`
+	Median   float64 `json:"median"`
+	Q1       float64 `json:"q1"`
+	Q3       float64 `json:"q3"`
+	Min      float64 `json:"min"`
+	Max      float64 `json:"max"`
+	RankSum  float64 `json:"rank_sum"`
+	MeanRank float64 `json:"mean_rank"`
+}
+
+// Exclusion counts the rows left out of an analysis for one group and reason.
+type Exclusion struct {
+	Group  string `json:"group"` // "" when the group label itself is missing
+	Reason string `json:"reason"`
+	Rows   int    `json:"rows"`
+}
+
+// Reasons for leaving a row out of an analysis.
+const (
+	ReasonMissingGroup   = "missing-group"
+	ReasonMissingOutcome = "missing-outcome"
+	ReasonNotIncluded    = "group-not-included"
+)
+
+// KruskalWallis is the omnibus statistic.
+type KruskalWallis struct {
+	H             float64 `json:"h"`             // tie-corrected H* = H / C
+	HUncorrected  float64 `json:"h_uncorrected"` // H without the tie correction
+	TieCorrection float64 `json:"tie_correction"`
+	DF            int     `json:"df"`
+	TieBlocks     int     `json:"tie_blocks"`  // distinct values that occur more than once
+	TiedValues    int     `json:"tied_values"` // observations sharing their value with another
+}
+
+// PValue is a p-value with the method that produced it. Value is null when the p-value is
+// below the smallest positive double; Log10 is always given.
+type PValue struct {
+	Method string   `json:"method"`
+	Value  *float64 `json:"value"`
+	Log10  float64  `json:"log10"`
+}
+
+// Decision is the test's verdict at the plan's alpha.
+type Decision struct {
+	Alpha  float64 `json:"alpha"`
+	Reject bool    `json:"reject"`
+}
+
+// Preview is what `rankplan check` shows: the plan joined with its data, before anything
+// is computed.
+type Preview struct {
+	Plan     Plan              `json:"plan"`
+	Data     Data              `json:"data"`
+	Analyses []PreviewAnalysis `json:"analyses"`
+}
+
+// PreviewAnalysis is one analysis as it would run.
+type PreviewAnalysis struct {
+	ID       string       `json:"id"`
+	Test     string       `json:"test"`
+	PValue   string       `json:"p_value_method"`
+	Outcome  string       `json:"outcome"`
+	N        int          `json:"n"`
+	Groups   []GroupCount `json:"groups"`
+	Excluded []Exclusion  `json:"excluded"`
+}
+
+// GroupCount is a group and its number of observations.
+type GroupCount struct {
+	Name string `json:"name"`
+	N    int    `json:"n"`
+}

@@ -1,0 +1,47 @@
+package runner
+
+import (
+	"runtime"
+	"runtime/debug"
+)
+
+// Version is rankplan's release version.
+const Version = "0.1.0-dev"
+
+// ToolInfo identifies the running build of rankplan.
+type ToolInfo struct {
+	Version   string
+	Revision  string // VCS revision the binary was built from, "" when unknown
+	Modified  bool   // the work tree had uncommitted changes at build time
+	GoVersion string
+	GOOS      string
+	GOARCH    string
+}
+
+// Tool reads the build information that the Go toolchain embeds in the binary.
+func Tool() ToolInfo {
+	t := ToolInfo{Version: Version, GoVersion: runtime.Version(), GOOS: runtime.GOOS, GOARCH: runtime.GOARCH}
+	if bi, ok := debug.ReadBuildInfo(); ok {
+		for _, s := range bi.Settings {
+			switch s.Key {
+			case "vcs.revision":
+				t.Revision = s.Value
+			case "vcs.modified":
+				t.Modified = s.Value == "true"
+			}
+		}
+	}
+	return t
+}
+
+// RevisionText writes the revision for people: "unknown" when the build has none (as with
+// `go run` or test binaries), and a "+modified" mark for builds of an edited tree.
+func (t ToolInfo) RevisionText() string {
+	if t.Revision == "" {
+		return "unknown (built without version control information)"
+	}
+	if t.Modified {
+		return t.Revision + "+modified"
+	}
+	return t.Revision
+}

@@ -1,0 +1,80 @@
+package schemas
+
+import (
+	"bytes"
+	_ "embed"
+	"encoding/json"
+	"fmt"
+	"sync"
+
+	"github.com/santhosh-tekuri/jsonschema/v5"
+)
+
+// The identifiers under which the schemas are compiled. They are names, not addresses:
+// nothing is fetched from them (the .invalid top-level domain never resolves, RFC 2606).
+const (
+	PlanID    = "https://rankplan.invalid/schema/plan-v1.json"
+	ResultsID = "https://rankplan.invalid/schema/results-v1.json"
+)
+
+var (
+	//go:embed plan.schema.json
+	planJSON []byte
+	//go:embed results.schema.json
+	resultsJSON []byte
+)
+
+// Names lists the schemas that [Source] knows, in the order `rankplan schema` documents them.
+var Names = []string{"plan", "results"}
+
+// Source returns the JSON text of the named schema ("plan" or "results").
+func Source(name string) ([]byte, error) {
+	switch name {
+	case "plan":
+		return bytes.Clone(planJSON), nil
+	case "results":
+		return bytes.Clone(resultsJSON), nil
+	}
+	return nil, fmt.Errorf("no schema named %q (known: plan, results)", name)
+}
+
+type compiled struct {
+	once   sync.Once
+	schema *jsonschema.Schema
+	tree   any
+	err    error
+}
+
+var plan, results compiled
+
+func (c *compiled) load(id string, src []byte) (*jsonschema.Schema, any, error) {
+	c.once.Do(func() {
+		comp := jsonschema.NewCompiler()
+		comp.Draft = jsonschema.Draft2020
+		comp.AssertFormat = true
+		if err := comp.AddResource(id, bytes.NewReader(src)); err != nil {
+			c.err = fmt.Errorf("schema %s: %w", id, err)
+			return
+		}
+		s, err := comp.Compile(id)
+		if err != nil {
+			c.err = fmt.Errorf("schema %s: %w", id, err)
+			return
+		}
+		var tree any
+		if err := json.Unmarshal(src, &tree); err != nil {
+			c.err = fmt.Errorf("schema %s: %w", id, err)
+			return
+		}
+		c.schema, c.tree = s, tree
+	})
+	return c.schema, c.tree, c.err
+}
+
+// Plan returns the compiled plan schema and its decoded JSON tree (for building messages
+// that name allowed keys and values). The embedded schema is tested to compile, so an
+// error here means a broken build.
+func Plan() (*jsonschema.Schema, any, error) { return plan.load(PlanID, planJSON) }
+
+// Results returns the compiled results schema and its decoded JSON tree.
+func Results() (*jsonschema.Schema, any, error) { return results.load(ResultsID, resultsJSON) }

@@ -1,0 +1,169 @@
+package spec
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+)
+
+// Load reads and validates the plan file at path. Every problem found is reported at once
+// as an [ErrorList]; an unreadable file gives an ordinary wrapped error.
+func Load(path string) (*Plan, error) {
+	src, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("read plan: %w", err)
+	}
+	p, err := Parse(path, src)
+	if err != nil {
+		return nil, err
+	}
+	p.Dir = filepath.Dir(path)
+	return p, nil
+}
+
+// Parse validates a plan held in memory; name is used in messages and as [Plan.File].
+// Relative data paths resolve against the folder of name.
+func Parse(name string, src []byte) (*Plan, error) {
+	doc, errs := parseYAML(name, src)
+	if doc == nil {
+		return nil, errs.Err()
+	}
+	// Conversion errors and schema errors are reported together, in one pass.
+	errs = append(errs, validateSchema(doc)...)
+	if len(errs) > 0 {
+		return nil, errs.Err()
+	}
+	raw, err := json.Marshal(doc.value)
+	if err != nil {
+		return nil, ErrorList{{File: name, Line: 1, Column: 1, Path: "(top level)", Msg: err.Error()}}
+	}
+	dec := json.NewDecoder(bytes.NewReader(raw))
+	dec.DisallowUnknownFields()
+	p := &Plan{File: name, Dir: filepath.Dir(name), doc: doc}
+	if err := dec.Decode(p); err != nil {
+		// The schema admits only what Plan can hold, so this is a schema/type mismatch.
+		return nil, ErrorList{{File: name, Line: 1, Column: 1, Path: "(top level)",
+			Msg: "plan does not fit the plan types: " + err.Error()}}
+	}
+	p.applyDefaults()
+	if errs := p.check(); len(errs) > 0 {
+		return nil, errs.Err()
+	}
+	return p, nil
+}
+
+// Errorf makes a positioned error at the key written as a dotted path of keys and list
+// indexes, e.g. "data.outcome" or "analyses.0.outcome". When that key is absent from the
+// file (a default applies), the error points at the nearest key that is present.
+func (p *Plan) Errorf(keyPath, format string, args ...any) *Error {
+	var tokens []string
+	if keyPath != "" {
+		tokens = strings.Split(keyPath, ".")
+	}
+	if p.doc == nil {
+		return &Error{File: p.File, Path: keyPath, Msg: fmt.Sprintf(format, args...)}
+	}
+	e := p.doc.errAt(tokens, false, format, args...)
+	return e
+}
+
+// Has reports whether the plan file wrote the key at keyPath (see [Plan.Errorf]).
+func (p *Plan) Has(keyPath string) bool {
+	if p.doc == nil {
+		return false
+	}
+	_, ok := p.doc.nodes[pathKey(strings.Split(keyPath, "."))]
+	return ok
+}
+
+// DataPath returns the data file's path: data.file resolved against the plan's folder.
+func (p *Plan) DataPath() string {
+	if filepath.IsAbs(p.Data.File) {
+		return p.Data.File
+	}
+	return filepath.Join(p.Dir, filepath.FromSlash(p.Data.File))
+}
+
+// notImplemented is the one wording for features that later releases add.
+const notImplemented = "not implemented yet in this version of rankplan"
+
+// check makes the checks of meaning that the schema cannot express.
+func (p *Plan) check() ErrorList {
+	var errs ErrorList
+	add := func(path, format string, args ...any) { errs = append(errs, p.Errorf(path, format, args...)) }
+
+	if !(p.Alpha > 0 && p.Alpha < 1) {
+		add("alpha", "expected a value > 0 and < 1; found %v", p.Alpha)
+	}
+	if p.Data.Delimiter == "," && p.Data.Decimal == "," {
+		add("data.decimal", `a decimal comma needs another delimiter; set data.delimiter to ";" or "tab"`)
+	}
+	for i, t := range p.Data.Missing.Tokens {
+		if t != strings.TrimSpace(t) {
+			add("data.missing.tokens."+strconv.Itoa(i), "tokens are compared after trimming spaces, so %q can never match; write %q", t, strings.TrimSpace(t))
+		}
+	}
+	if p.Data.Group == p.Data.Outcome {
+		add("data.outcome", "the outcome column must differ from the group column %q", p.Data.Group)
+	}
+	if len(p.Groups.Include) > 0 && len(p.Groups.Order) > 0 {
+		in := make(map[string]bool, len(p.Groups.Include))
+		for _, g := range p.Groups.Include {
+			in[g] = true
+		}
+		same := len(p.Groups.Order) == len(p.Groups.Include)
+		for _, g := range p.Groups.Order {
+			same = same && in[g]
+		}
+		if !same {
+			add("groups.order", "must list exactly the groups of groups.include, in the order wanted")
+		}
+	}
+
+	ids := map[string]int{}
+	for i, a := range p.Analyses {
+		at := "analyses." + strconv.Itoa(i)
+		if j, dup := ids[a.ID]; dup {
+			add(at+".id", "duplicate analysis id %q; analyses[%d] has it already", a.ID, j)
+		}
+		ids[a.ID] = i
+		if a.Outcome == p.Data.Group {
+			add(at+".outcome", "the outcome column must differ from the group column %q", p.Data.Group)
+		}
+		if a.Test != KruskalWallis {
+			add(at+".test", "%q is %s; use \"kruskal-wallis\"", a.Test, notImplemented)
+		}
+		switch m := a.PValue.Method; m {
+		case Permutation, Auto:
+			if a.PValue.Resamples == 0 {
+				add(at+".pvalue", "method %q needs resamples, the number of Monte Carlo resamples (e.g. 100000)", m)
+			}
+		default:
+			if a.PValue.Resamples != 0 {
+				add(at+".pvalue.resamples", "applies only to the methods permutation and auto, not %q", m)
+			}
+		}
+		if m := a.PValue.Method; m != Asymptotic {
+			add(at+".pvalue.method", "%q is %s; use \"asymptotic\"", m, notImplemented)
+		}
+		ph := a.PostHoc
+		if ph.Method == NoPostHoc {
+			if ph.Adjust != NoAdjustment {
+				add(at+".posthoc.adjust", "an adjustment needs a post-hoc method; set posthoc.method")
+			}
+			if ph.Control != "" {
+				add(at+".posthoc.control", "a control group needs a post-hoc method; set posthoc.method")
+			}
+			if ph.When != "" {
+				add(at+".posthoc.when", "applies only with a post-hoc method; set posthoc.method")
+			}
+		} else {
+			add(at+".posthoc.method", "%q is %s; use \"none\"", ph.Method, notImplemented)
+		}
+	}
+	return errs
+}

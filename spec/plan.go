@@ -1,0 +1,216 @@
+package spec
+
+import (
+	"encoding/json"
+	"fmt"
+	"strconv"
+)
+
+// FormatVersion is the plan format this package reads (the plan's `rankplan` key).
+const FormatVersion = 1
+
+// Test names an omnibus test. Only [KruskalWallis] runs in this release; the schema
+// accepts the others so that plans can name them, and [Parse] refuses them as not
+// implemented yet.
+type Test string
+
+// The omnibus tests a plan can name.
+const (
+	KruskalWallis      Test = "kruskal-wallis"
+	JonckheereTerpstra Test = "jonckheere-terpstra"
+	MedianTest         Test = "median"
+	ANOVA              Test = "anova"
+	WelchANOVA         Test = "welch-anova"
+	FlignerKilleen     Test = "fligner-killeen"
+)
+
+// PValueMethod names how the omnibus p-value is computed.
+type PValueMethod string
+
+// The p-value methods a plan can name.
+const (
+	Asymptotic  PValueMethod = "asymptotic"  // chi-square reference distribution
+	Exact       PValueMethod = "exact"       // exact permutation distribution given the ties
+	Permutation PValueMethod = "permutation" // Monte Carlo permutation with a resample count
+	Auto        PValueMethod = "auto"        // exact within the work budget, else Monte Carlo
+)
+
+// PostHoc names a pairwise procedure.
+type PostHoc string
+
+// The pairwise procedures a plan can name.
+const (
+	NoPostHoc PostHoc = "none"
+	Dunn      PostHoc = "dunn"
+	Conover   PostHoc = "conover"
+	DSCF      PostHoc = "dscf"
+	Nemenyi   PostHoc = "nemenyi"
+	RankSum   PostHoc = "rank-sum"
+)
+
+// Adjustment names a multiplicity adjustment.
+type Adjustment string
+
+// The adjustments a plan can name.
+const (
+	NoAdjustment Adjustment = "none"
+	Bonferroni   Adjustment = "bonferroni"
+	Sidak        Adjustment = "sidak"
+	Holm         Adjustment = "holm"
+	Hochberg     Adjustment = "hochberg"
+	Hommel       Adjustment = "hommel"
+	BH           Adjustment = "bh"
+	BY           Adjustment = "by"
+)
+
+// MissingPolicy says what happens to rows with a missing group or outcome.
+type MissingPolicy string
+
+// The missing-value policies.
+const (
+	ExcludeMissing MissingPolicy = "exclude" // leave the row out and count it per group and reason
+	FailOnMissing  MissingPolicy = "fail"    // stop with an error naming the cell
+)
+
+// Plan is a validated analysis plan. Optional keys hold their defaults after [Parse]
+// (see [Plan.applyDefaults]); [Plan.Pos] finds where any key was written.
+type Plan struct {
+	Format      int        `json:"rankplan"`
+	ID          string     `json:"id"`
+	Title       string     `json:"title"`
+	Description string     `json:"description,omitempty"`
+	Data        Data       `json:"data"`
+	Groups      Groups     `json:"groups"`
+	Alpha       float64    `json:"alpha"`
+	Seed        Seed       `json:"seed"`
+	Analyses    []Analysis `json:"analyses"`
+
+	// File is the plan's path as given to Load (used in messages); Dir is the folder that
+	// relative data paths are resolved against.
+	File string `json:"-"`
+	Dir  string `json:"-"`
+
+	doc *document
+}
+
+// Data is the plan's data source.
+type Data struct {
+	File      string  `json:"file"`
+	SHA256    string  `json:"sha256,omitempty"`
+	Delimiter string  `json:"delimiter"` // ",", ";" or "tab"; default ","
+	Decimal   string  `json:"decimal"`   // "." or ","; default "."
+	Group     string  `json:"group"`
+	Outcome   string  `json:"outcome"`
+	Missing   Missing `json:"missing"`
+}
+
+// DelimiterByte returns the delimiter as the byte the CSV reader uses.
+func (d Data) DelimiterByte() byte {
+	if d.Delimiter == "tab" {
+		return '\t'
+	}
+	return d.Delimiter[0]
+}
+
+// Missing holds the tokens that mean a missing cell and the policy for their rows.
+type Missing struct {
+	Tokens []string      `json:"tokens"` // default ["", "NA"]
+	Policy MissingPolicy `json:"policy"` // default exclude
+}
+
+// Groups optionally restricts and orders the groups.
+type Groups struct {
+	Include []string `json:"include,omitempty"`
+	Order   []string `json:"order,omitempty"`
+}
+
+// Analysis is one analysis of one outcome.
+type Analysis struct {
+	ID      string      `json:"id"`
+	Title   string      `json:"title,omitempty"`
+	Test    Test        `json:"test"`
+	Outcome string      `json:"outcome"` // default: the plan's data.outcome
+	PValue  PValue      `json:"pvalue"`
+	PostHoc PostHocPlan `json:"posthoc"`
+}
+
+// PValue is how an analysis computes its omnibus p-value.
+type PValue struct {
+	Method    PValueMethod `json:"method"`
+	Resamples int64        `json:"resamples,omitempty"`
+}
+
+// PostHocPlan is the pairwise follow-up of an analysis.
+type PostHocPlan struct {
+	Method  PostHoc    `json:"method"`            // default none
+	Adjust  Adjustment `json:"adjust"`            // default none
+	Control string     `json:"control,omitempty"` // empty: all pairs
+	When    string     `json:"when,omitempty"`    // "significant" or "always"
+}
+
+// Seed is the plan's seed, an unsigned 64-bit integer. In JSON it is written as a decimal
+// string, since JSON numbers above 2^53 are not exact in many readers.
+type Seed uint64
+
+// MarshalJSON writes the seed as a decimal string.
+func (s Seed) MarshalJSON() ([]byte, error) {
+	return json.Marshal(strconv.FormatUint(uint64(s), 10))
+}
+
+// UnmarshalJSON reads a seed written as a JSON integer or as a string of decimal digits.
+func (s *Seed) UnmarshalJSON(b []byte) error {
+	var text string
+	if len(b) > 0 && b[0] == '"' {
+		if err := json.Unmarshal(b, &text); err != nil {
+			return err
+		}
+	} else {
+		text = string(b)
+	}
+	u, err := strconv.ParseUint(text, 10, 64)
+	if err != nil {
+		return fmt.Errorf("expected an integer from 0 to 18446744073709551615; found %s", text)
+	}
+	*s = Seed(u)
+	return nil
+}
+
+func (s Seed) String() string { return strconv.FormatUint(uint64(s), 10) }
+
+// applyDefaults fills the optional keys, so that the rest of the program never has to know
+// a default. The defaults are part of the plan format: changing one is a format change.
+func (p *Plan) applyDefaults() {
+	if p.Data.Delimiter == "" {
+		p.Data.Delimiter = ","
+	}
+	if p.Data.Decimal == "" {
+		p.Data.Decimal = "."
+	}
+	if p.Data.Missing.Tokens == nil {
+		p.Data.Missing.Tokens = []string{"", "NA"}
+	}
+	if p.Data.Missing.Policy == "" {
+		p.Data.Missing.Policy = ExcludeMissing
+	}
+	for i := range p.Analyses {
+		a := &p.Analyses[i]
+		if a.Outcome == "" {
+			a.Outcome = p.Data.Outcome
+		}
+		if a.PostHoc.Method == "" {
+			a.PostHoc.Method = NoPostHoc
+		}
+		if a.PostHoc.Adjust == "" {
+			a.PostHoc.Adjust = NoAdjustment
+		}
+	}
+}
+
+// GroupOrder returns the groups the plan names for analysis, in report order: groups.order
+// if given, else groups.include; nil when the plan leaves both to the data.
+func (p *Plan) GroupOrder() []string {
+	if len(p.Groups.Order) > 0 {
+		return p.Groups.Order
+	}
+	return p.Groups.Include
+}
