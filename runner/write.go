@@ -101,7 +101,7 @@ func writeFileAtomic(path string, b []byte) error {
 // be written anyway.
 func CheckNewFile(path string) error {
 	if _, err := os.Lstat(path); err == nil {
-		return &InputError{Err: fmt.Errorf("%s already exists; rankplan never overwrites a file, so name a new one", path)}
+		return &InputError{Err: fmt.Errorf("%s already exists; rankplan never overwrites earlier output, so name a new one", path)}
 	}
 	return nil
 }

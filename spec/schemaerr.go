@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"github.com/santhosh-tekuri/jsonschema/v5"
+	"gopkg.in/yaml.v3"
 
 	"rankplan/schemas"
 )
@@ -130,7 +131,7 @@ func describe(d *document, tree any, v *jsonschema.ValidationError) []located {
 		var out []located
 		for _, r := range s["required"].([]any) {
 			if _, ok := obj[r.(string)]; !ok {
-				out = append(out, located{tokens, d.errAt(tokens, false, "missing required key %q", r)})
+				out = append(out, located{tokens, d.errAt(tokens, true, "missing required key %q", r)})
 			}
 		}
 		return out
@@ -164,7 +165,12 @@ func describe(d *document, tree any, v *jsonschema.ValidationError) []located {
 				want = append(want, typeWords[x.(string)])
 			}
 		}
-		return at("expected %s; found %s", strings.Join(want, " or "), valueName(inst))
+		hint := ""
+		if n, ok := d.nodes[pathKey(tokens)]; ok && n.val.Kind == yaml.ScalarNode && n.val.Style == 0 &&
+			slices.Contains(want, "text") {
+			hint = "; put it in quotes to make it text"
+		}
+		return at("expected %s; found %s%s", strings.Join(want, " or "), valueName(inst), hint)
 	case "minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum":
 		var bounds []string
 		for _, b := range []struct{ kw, op string }{

@@ -134,7 +134,9 @@ func (d *document) underBad(tokens []string) bool {
 var yamlLine = regexp.MustCompile(`^yaml: line (\d+): (.*)$`)
 
 // syntaxError turns a yaml.v3 syntax error into a positioned Error. yaml.v3 reports only a
-// line, so the column is that of the line's first non-blank character.
+// line, so the column is that of the line's first non-blank character. For errors of its
+// parser stage (all worded "did not find expected …") yaml.v3 v3.0.1 prints the zero-based
+// line of the offending token, unlike its scanner errors; TestSyntaxErrorLines pins this.
 func syntaxError(file string, src []byte, err error) *Error {
 	e := &Error{File: file, Line: 1, Column: 1, Path: "(syntax)",
 		Msg: "not a valid YAML plan: " + strings.TrimPrefix(err.Error(), "yaml: ")}
@@ -142,6 +144,9 @@ func syntaxError(file string, src []byte, err error) *Error {
 		e.Line, _ = strconv.Atoi(m[1])
 		e.Msg = "not a valid YAML plan: " + m[2]
 		lines := strings.Split(string(src), "\n")
+		if strings.HasPrefix(m[2], "did not find expected") && e.Line < len(lines) {
+			e.Line++
+		}
 		if e.Line >= 1 && e.Line <= len(lines) {
 			l := lines[e.Line-1]
 			e.Column = len(l) - len(strings.TrimLeft(l, " \t")) + 1

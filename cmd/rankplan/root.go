@@ -95,7 +95,7 @@ follows the lab's own procedures and software validation.
 	root.SetOut(stdout)
 	root.SetErr(stderr)
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
-		return &usageError{fmt.Errorf("%s: %w", c.CommandPath(), err)}
+		return &usageError{fmt.Errorf("%s: %w", strings.TrimPrefix(c.CommandPath(), "rankplan "), err)}
 	})
 	root.AddCommand(newInitCmd(), newCheckCmd(), newRunCmd(), newSchemaCmd(), newVersionCmd())
 	root.CompletionOptions.HiddenDefaultCmd = true
@@ -106,7 +106,7 @@ follows the lab's own procedures and software validation.
 func exactArgs(n int, what string) cobra.PositionalArgs {
 	return func(c *cobra.Command, args []string) error {
 		if len(args) != n {
-			return usageErrorf("%s: expected %s, got %d argument(s)", c.CommandPath(), what, len(args))
+			return usageErrorf("%s: expected %s, got %d argument(s)", strings.TrimPrefix(c.CommandPath(), "rankplan "), what, len(args))
 		}
 		return nil
 	}

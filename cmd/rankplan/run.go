@@ -28,6 +28,9 @@ never overwrites earlier results. A short summary goes to standard output.`,
 			if o.out == "" {
 				return usageErrorf("run: --out DIR is required (a folder that does not exist yet)")
 			}
+			if err := runner.CheckNewFile(o.out); err != nil {
+				return err
+			}
 			p, err := spec.Load(args[0])
 			if err != nil {
 				return err

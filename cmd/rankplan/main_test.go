@@ -1,0 +1,70 @@
+package main
+
+import (
+	"errors"
+	"flag"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strconv"
+	"testing"
+
+	"github.com/rogpeppe/go-internal/testscript"
+
+	"rankplan/runner"
+)
+
+var update = flag.Bool("update", false, "rewrite the expected output in testdata/script/*.txtar")
+
+func TestMain(m *testing.M) {
+	testscript.Main(m, map[string]func(){
+		"rankplan": func() { os.Exit(Main(os.Args[1:], os.Stdout, os.Stderr)) },
+	})
+}
+
+// TestScripts runs the command-line scenarios in testdata/script. Each script runs in a
+// fresh folder holding a copy of examples/ and the files of the archive.
+//
+// Extra commands:
+//
+//	exits CODE PROG ARGS...   run PROG and require exit code CODE (stdout and stderr are kept for cmp)
+//	validate-results FILE     require FILE to match the results schema
+func TestScripts(t *testing.T) {
+	testscript.Run(t, testscript.Params{
+		Dir:                 "testdata/script",
+		UpdateScripts:       *update,
+		RequireExplicitExec: true,
+		Setup: func(env *testscript.Env) error {
+			return os.CopyFS(filepath.Join(env.WorkDir, "examples"), os.DirFS("../../examples"))
+		},
+		Cmds: map[string]func(ts *testscript.TestScript, neg bool, args []string){
+			"exits": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) < 2 {
+					ts.Fatalf("usage: exits CODE PROG ARGS...")
+				}
+				want, err := strconv.Atoi(args[0])
+				ts.Check(err)
+				got := 0
+				if err := ts.Exec(args[1], args[2:]...); err != nil {
+					var ee *exec.ExitError
+					if !errors.As(err, &ee) {
+						ts.Fatalf("%v", err)
+					}
+					got = ee.ExitCode()
+				}
+				if got != want {
+					ts.Fatalf("exit code %d, want %d", got, want)
+				}
+			},
+			"validate-results": func(ts *testscript.TestScript, neg bool, args []string) {
+				if len(args) != 1 {
+					ts.Fatalf("usage: validate-results FILE")
+				}
+				err := runner.ValidateResults([]byte(ts.ReadFile(args[0])))
+				if neg != (err != nil) {
+					ts.Fatalf("validate-results %s: %v", args[0], err)
+				}
+			},
+		},
+	})
+}
