@@ -1,0 +1,134 @@
+package stats
+
+import (
+	"errors"
+	"fmt"
+)
+
+// ErrAllTied is returned (wrapped or bare; test with errors.Is) when every observation
+// has the same value, so the tie correction is 0 and H is not computable.
+var ErrAllTied = errors.New("not computable: all observations are tied")
+
+// KruskalWallis is the result of the Kruskal-Wallis H test with midranks and the tie
+// correction (Kruskal & Wallis 1952, JASA 47:583-621), with its asymptotic chi-square
+// p-value. See [KruskalWallisTest] for the formulas.
+type KruskalWallis struct {
+	N, K          int
+	DF            int       // degrees of freedom, K - 1
+	H             float64   // tie-corrected H* = H / C, in [0, N-1]
+	HUncorrected  float64   // H, without the tie correction
+	TieCorrection float64   // C = 1 - Σ(t^3 - t)/(N^3 - N), in (0, 1]
+	MeanRank      []float64 // R_i / n_i, the mean midrank of group i; len K
+	P             float64   // chi-square(DF) upper tail at H*; 0 only if it underflows float64
+	Log10P        float64   // log10 of that tail, always finite, accurate when P underflows
+}
+
+// KruskalWallisTest computes the Kruskal-Wallis test from a [Ranking] (Kruskal & Wallis
+// 1952, JASA 47:583-621; centred form and tie correction as in the project's
+// METHODS.md §1.1 and §9.4). With D_i = 2 R_i - n_i (N + 1), an exact integer,
+//
+//	H  = 12/(N (N+1)) · Σ_i D_i^2 / (4 n_i)
+//	C  = 1 - Σ_j (t_j/N) · ((t_j^2 - 1)/(N^2 - 1))
+//	H* = H / C
+//	p  = Q((K-1)/2, H*/2)   (chi-square upper tail with K-1 df; see [ChiSquareUpperTail])
+//
+// Each D_i is converted to float64 once; the group terms are summed in group order and
+// the tie terms in block order, with explicit float64 conversions so that no fused
+// multiply-add changes the result between architectures. H is a sum of squares, so it
+// is never negative (the uncentred form Σ R_i^2/n_i - 3(N+1) can round below 0; this
+// form cannot). H* cannot exceed N - 1; when rounding of H / C lands a few ulps above it
+// (perfectly separated groups), H* is set to N - 1.
+//
+// It returns [ErrAllTied] when all observations are tied (C = 0), and an error when r
+// is nil or not a consistent Ranking.
+func KruskalWallisTest(r *Ranking) (KruskalWallis, error) {
+	if err := checkRanking(r); err != nil {
+		return KruskalWallis{}, fmt.Errorf("kruskal-wallis: %w", err)
+	}
+	if len(r.Blocks) < 2 {
+		return KruskalWallis{}, fmt.Errorf("kruskal-wallis: %w", ErrAllTied)
+	}
+	fN := float64(r.N)
+	np1 := int64(r.N) + 1
+
+	sum := 0.0
+	mean := make([]float64, r.K)
+	for i, n := range r.Counts {
+		dev := float64(r.RankSum2[i] - int64(n)*np1)
+		sum += float64(dev*dev) / float64(4*int64(n))
+		mean[i] = float64(r.RankSum2[i]) / float64(2*int64(n))
+	}
+	h := float64(12*sum) / float64(fN*float64(fN+1))
+
+	den := float64(fN*fN) - 1
+	ties := 0.0
+	for _, b := range r.Blocks {
+		if b.Size > 1 {
+			ft := float64(b.Size)
+			ties += float64(float64(ft/fN) * float64((float64(ft*ft)-1)/den))
+		}
+	}
+	c := 1 - ties
+	if !(c > 0) {
+		return KruskalWallis{}, fmt.Errorf("kruskal-wallis: %w", ErrAllTied)
+	}
+	hStar := h / c
+	if maxH := float64(r.N - 1); hStar > maxH {
+		hStar = maxH
+	}
+
+	df := r.K - 1
+	p, lp, err := ChiSquareUpperTail(hStar, df)
+	if err != nil {
+		return KruskalWallis{}, fmt.Errorf("kruskal-wallis: p-value: %w", err)
+	}
+	return KruskalWallis{
+		N:             r.N,
+		K:             r.K,
+		DF:            df,
+		H:             hStar,
+		HUncorrected:  h,
+		TieCorrection: c,
+		MeanRank:      mean,
+		P:             p,
+		Log10P:        lp,
+	}, nil
+}
+
+// checkRanking reports whether r is internally consistent: K >= 2 non-empty groups
+// whose sizes add up to N, tie blocks whose sizes add up to N, and rank sums adding up
+// to N (N + 1). It costs O(K + m).
+func checkRanking(r *Ranking) error {
+	if r == nil {
+		return errors.New("nil ranking")
+	}
+	if r.K < 2 || len(r.Counts) != r.K || len(r.RankSum2) != r.K {
+		return fmt.Errorf("inconsistent ranking: K = %d with %d counts and %d rank sums",
+			r.K, len(r.Counts), len(r.RankSum2))
+	}
+	total := 0
+	var rankTotal int64
+	for i, n := range r.Counts {
+		if n <= 0 {
+			return fmt.Errorf("inconsistent ranking: group %d has size %d", i, n)
+		}
+		total += n
+		rankTotal += r.RankSum2[i]
+	}
+	inBlocks := 0
+	for _, b := range r.Blocks {
+		if b.Size <= 0 {
+			return fmt.Errorf("inconsistent ranking: tie block of size %d", b.Size)
+		}
+		inBlocks += b.Size
+	}
+	if total != r.N || inBlocks != r.N {
+		return fmt.Errorf("inconsistent ranking: N = %d, group sizes add up to %d, tie blocks to %d",
+			r.N, total, inBlocks)
+	}
+	if want := int64(r.N) * (int64(r.N) + 1); rankTotal != want {
+		return fmt.Errorf("inconsistent ranking: doubled rank sums add up to %d, want N(N+1) = %d",
+			rankTotal, want)
+	}
+	return nil
+}
