@@ -8,6 +8,8 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+
+	"gopkg.in/yaml.v3"
 )
 
 // Load reads and validates the plan file at path. Every problem found is reported at once
@@ -67,8 +69,12 @@ func (p *Plan) Errorf(keyPath, format string, args ...any) *Error {
 	if p.doc == nil {
 		return &Error{File: p.File, Path: keyPath, Msg: fmt.Sprintf(format, args...)}
 	}
-	e := p.doc.errAt(tokens, false, format, args...)
-	return e
+	// A mapping or list is pointed at by its key, where the reader's eye finds it.
+	atKey := false
+	if n, ok := p.doc.nodes[pathKey(tokens)]; ok && n.key != nil && n.val.Kind != yaml.ScalarNode {
+		atKey = true
+	}
+	return p.doc.errAt(tokens, atKey, format, args...)
 }
 
 // Has reports whether the plan file wrote the key at keyPath (see [Plan.Errorf]).
@@ -131,7 +137,7 @@ func (p *Plan) check() ErrorList {
 			add(at+".id", "duplicate analysis id %q; analyses[%d] has it already", a.ID, j)
 		}
 		ids[a.ID] = i
-		if a.Outcome == p.Data.Group {
+		if a.Outcome == p.Data.Group && p.Has(at+".outcome") {
 			add(at+".outcome", "the outcome column must differ from the group column %q", p.Data.Group)
 		}
 		if a.Test != KruskalWallis {

@@ -1,0 +1,283 @@
+package spec
+
+import (
+	"encoding/json"
+	"errors"
+	"os"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+)
+
+const goodPlan = `rankplan: 1
+id: p1
+title: A plan
+data:
+  file: data.csv
+  group: g
+  outcome: y
+alpha: 0.05
+seed: 42
+analyses:
+  - id: a
+    test: kruskal-wallis
+    pvalue:
+      method: asymptotic
+`
+
+// edit replaces one line of goodPlan (matched whole, after trimming) with repl.
+func edit(t *testing.T, line, repl string) string {
+	t.Helper()
+	lines := strings.Split(goodPlan, "\n")
+	for i, l := range lines {
+		if strings.TrimSpace(l) == line {
+			indent := l[:len(l)-len(strings.TrimLeft(l, " "))]
+			lines[i] = indent + strings.ReplaceAll(repl, "\n", "\n"+indent)
+			return strings.Join(lines, "\n")
+		}
+	}
+	t.Fatalf("no line %q in goodPlan", line)
+	return ""
+}
+
+func TestParseGood(t *testing.T) {
+	p, err := Parse("plan.yaml", []byte(goodPlan))
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The defaults of the plan format 1 (documented in README.md).
+	if p.Data.Delimiter != "," || p.Data.Decimal != "." || p.Data.Missing.Policy != ExcludeMissing ||
+		!reflect.DeepEqual(p.Data.Missing.Tokens, []string{"", "NA"}) {
+		t.Errorf("data defaults: %+v", p.Data)
+	}
+	a := p.Analyses[0]
+	if a.Outcome != "y" || a.PostHoc.Method != NoPostHoc || a.PostHoc.Adjust != NoAdjustment {
+		t.Errorf("analysis defaults: %+v", a)
+	}
+	if p.Seed != 42 || p.Alpha != 0.05 {
+		t.Errorf("seed %d alpha %v", p.Seed, p.Alpha)
+	}
+}
+
+func TestSeed(t *testing.T) {
+	for _, tc := range []struct {
+		yaml string
+		want uint64
+		err  string
+	}{
+		{"seed: 0", 0, ""},
+		{`seed: "18446744073709551615"`, 1<<64 - 1, ""},
+		{"seed: 18446744073709551615", 1<<64 - 1, ""},
+		{"seed: 9007199254740993", 9007199254740993, ""}, // 2^53 + 1: kept exact
+		{`seed: "18446744073709551616"`, 0, "plan does not fit"},
+		{"seed: -1", 0, "seed: expected a value >= 0; found -1"},
+		{"seed: 1.5", 0, "seed: expected an integer or text; found 1.5"},
+		{`seed: "12a"`, 0, `seed: expected the seed of every random stream`},
+	} {
+		p, err := Parse("plan.yaml", []byte(edit(t, "seed: 42", tc.yaml)))
+		if tc.err == "" {
+			if err != nil {
+				t.Errorf("%s: %v", tc.yaml, err)
+			} else if uint64(p.Seed) != tc.want {
+				t.Errorf("%s: seed %d, want %d", tc.yaml, p.Seed, tc.want)
+			}
+			continue
+		}
+		if err == nil || !strings.Contains(err.Error(), tc.err) {
+			t.Errorf("%s: error %v, want it to contain %q", tc.yaml, err, tc.err)
+		}
+	}
+}
+
+// TestParseErrors checks the position, key path and wording of each kind of plan error.
+func TestParseErrors(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		src  string
+		want []string // every line of the error, in order
+	}{
+		{"unknown key", edit(t, "outcome: y", "outcome: y\ncolour: red"),
+			[]string{"plan.yaml:8:3: data.colour: unknown key; expected one of: decimal, delimiter, file, group, missing, outcome, sha256"}},
+		{"unknown top-level key", goodPlan + "extra: 1\n",
+			[]string{"plan.yaml:15:1: extra: unknown key; expected one of: alpha, analyses, data, description, groups, id, rankplan, seed, title"}},
+		{"missing key", edit(t, "group: g", "# no group"),
+			[]string{`plan.yaml:4:1: data: missing required key "group"`}},
+		{"wrong type", edit(t, "alpha: 0.05", "alpha: [0.05]"),
+			[]string{"plan.yaml:8:8: alpha: expected a number; found a list"}},
+		{"alpha 0", edit(t, "alpha: 0.05", "alpha: 0"),
+			[]string{"plan.yaml:8:8: alpha: expected a value > 0 and < 1; found 0"}},
+		{"alpha 1.5", edit(t, "alpha: 0.05", "alpha: 1.5"),
+			[]string{"plan.yaml:8:8: alpha: expected a value > 0 and < 1; found 1.5"}},
+		{"enum", edit(t, "method: asymptotic", "method: chi2"),
+			[]string{`plan.yaml:14:15: analyses[0].pvalue.method: expected one of "asymptotic", "exact", "permutation", "auto"; found the text "chi2"`}},
+		{"duplicate key", edit(t, "alpha: 0.05", "alpha: 0.05\nalpha: 0.01"),
+			[]string{`plan.yaml:9:1: alpha: duplicate key; "alpha" is already set at line 8`}},
+		{"unquoted date", edit(t, "title: A plan", "title: 2026-12-01"),
+			[]string{"plan.yaml:3:8: title: an unquoted date or time (2026-12-01); put it in quotes if it is meant as text"}},
+		{"non-string key", goodPlan + "3: three\n",
+			[]string{`plan.yaml:15:1: (top level): keys must be text; found an integer "3" (quote it if it is meant as a key)`}},
+		{"nan", edit(t, "alpha: 0.05", "alpha: .nan"),
+			[]string{"plan.yaml:8:8: alpha: .nan is not a finite number; plans hold finite numbers only"}},
+		{"inf", edit(t, "alpha: 0.05", "alpha: -.inf"),
+			[]string{"plan.yaml:8:8: alpha: -.inf is not a finite number; plans hold finite numbers only"}},
+		{"alias", edit(t, "title: A plan", "title: &t A plan\ndescription: *t"),
+			[]string{"plan.yaml:4:14: description: anchors and aliases (*t) are not supported in plans; write the value out"}},
+		{"custom tag", edit(t, "title: A plan", "title: !secret x"),
+			[]string{"plan.yaml:3:8: title: the YAML tag !secret is not supported in plans"}},
+		{"top level list", "- a\n- b\n",
+			[]string{"plan.yaml:1:1: (top level): expected a mapping; found a list"}},
+		{"empty", "", []string{"plan.yaml:1:1: (top level): the plan file is empty; expected a YAML mapping of plan keys"}},
+		{"only comments", "# nothing\n", []string{"plan.yaml:1:1: (top level): the plan file is empty; expected a YAML mapping of plan keys"}},
+		{"two documents", goodPlan + "---\nid: x\n",
+			[]string{"plan.yaml:15:1: (top level): a second YAML document; a plan file holds exactly one"}},
+		{"duplicate analysis id", goodPlan + "  - id: a\n    test: kruskal-wallis\n    pvalue: {method: asymptotic}\n",
+			[]string{`plan.yaml:15:9: analyses[1].id: duplicate analysis id "a"; analyses[0] has it already`}},
+		{"resamples needed", edit(t, "method: asymptotic", "method: permutation"),
+			[]string{
+				`plan.yaml:13:5: analyses[0].pvalue: method "permutation" needs resamples, the number of Monte Carlo resamples (e.g. 100000)`,
+				`plan.yaml:14:15: analyses[0].pvalue.method: "permutation" is not implemented yet in this version of rankplan; use "asymptotic"`,
+			}},
+		{"not implemented test", edit(t, "test: kruskal-wallis", "test: median"),
+			[]string{`plan.yaml:12:11: analyses[0].test: "median" is not implemented yet in this version of rankplan; use "kruskal-wallis"`}},
+		{"adjust without posthoc", goodPlan + "    posthoc: {adjust: holm}\n",
+			[]string{"plan.yaml:15:23: analyses[0].posthoc.adjust: an adjustment needs a post-hoc method; set posthoc.method"}},
+		{"decimal comma with comma delimiter", edit(t, "outcome: y", "outcome: y\ndecimal: \",\""),
+			[]string{`plan.yaml:8:12: data.decimal: a decimal comma needs another delimiter; set data.delimiter to ";" or "tab"`}},
+		{"outcome is group", edit(t, "outcome: y", "outcome: g"),
+			[]string{`plan.yaml:7:12: data.outcome: the outcome column must differ from the group column "g"`}},
+		{"order differs from include", edit(t, "alpha: 0.05", "groups: {include: [A, B], order: [A, C]}\nalpha: 0.05"),
+			[]string{"plan.yaml:8:27: groups.order: must list exactly the groups of groups.include, in the order wanted"}},
+		{"unique items", edit(t, "alpha: 0.05", "groups: {include: [A, B, A]}\nalpha: 0.05"),
+			[]string{`plan.yaml:8:26: groups.include[2]: the text "A" is listed twice (also item 0); items must be unique`}},
+		{"unquoted number as text", edit(t, "group: g", "group: 12"),
+			[]string{"plan.yaml:6:10: data.group: expected text; found 12; put it in quotes to make it text"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := Parse("plan.yaml", []byte(tc.src))
+			if err == nil {
+				t.Fatal("no error")
+			}
+			list, ok := AsList(err)
+			if !ok {
+				t.Fatalf("error %T is not a plan error list: %v", err, err)
+			}
+			got := strings.Split(list.Error(), "\n")
+			if !reflect.DeepEqual(got, tc.want) {
+				t.Errorf("got\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(tc.want, "\n"))
+			}
+		})
+	}
+}
+
+// TestSyntaxErrorLines pins how yaml.v3 v3.0.1 numbers lines in syntax errors: scanner
+// errors give the 1-based line, parser errors ("did not find expected …") the 0-based one,
+// which syntaxError corrects. If a yaml.v3 upgrade changes this, this test says so.
+func TestSyntaxErrorLines(t *testing.T) {
+	for _, tc := range []struct {
+		src  string
+		want string
+	}{
+		{"a: 1\nb: 2\nc: d: e\n", "plan.yaml:3:1: (syntax): not a valid YAML plan: mapping values are not allowed in this context"},
+		{"a: 1\n\tb: 2\n", "plan.yaml:2:2: (syntax): not a valid YAML plan: found a tab character that violates indentation"},
+		{"a:\n  - 1\n - 2\n", "plan.yaml:3:2: (syntax): not a valid YAML plan: did not find expected key"},
+		{"a: 1\nb: \"abc\nc: 2\n", "plan.yaml:2:1: (syntax): not a valid YAML plan: found unexpected end of stream"},
+	} {
+		_, err := Parse("plan.yaml", []byte(tc.src))
+		if err == nil || err.Error() != tc.want {
+			t.Errorf("%q:\n got %v\nwant %s", tc.src, err, tc.want)
+		}
+	}
+}
+
+func TestErrorsSorted(t *testing.T) {
+	src := edit(t, "alpha: 0.05", "alpha: 2") + "zzz: 1\n"
+	src = strings.Replace(src, "id: p1", "id: p1\nyyy: 2", 1)
+	_, err := Parse("plan.yaml", []byte(src))
+	list, _ := AsList(err)
+	if len(list) != 3 {
+		t.Fatalf("want 3 errors, got %v", err)
+	}
+	for i := 1; i < len(list); i++ {
+		if list[i-1].Line > list[i].Line {
+			t.Errorf("errors not sorted by line: %v", err)
+		}
+	}
+}
+
+func TestExamplesParse(t *testing.T) {
+	files, err := filepath.Glob("../examples/*/plan.yaml")
+	if err != nil || len(files) < 2 {
+		t.Fatalf("examples: %v %v", files, err)
+	}
+	for _, f := range files {
+		if _, err := Load(f); err != nil {
+			t.Errorf("%s: %v", f, err)
+		}
+	}
+}
+
+func TestDraftParses(t *testing.T) {
+	d := Draft{ID: "x", Title: `a "quoted" title: with colon`, DataFile: "d ir/data.csv", SHA256: strings.Repeat("a", 64),
+		Delimiter: ";", Decimal: ",", Group: "arm: name", Outcome: "#score", GroupsFound: []string{`"A" (3 rows)`},
+		Alpha: 0.01, Seed: 1<<64 - 1, PValue: Asymptotic, PostHoc: NoPostHoc, Adjust: NoAdjustment}
+	text := d.YAML()
+	if !strings.HasPrefix(string(text), "# yaml-language-server: $schema=https://") {
+		t.Errorf("first line does not point at the schema:\n%s", text)
+	}
+	p, err := Parse("plan.yaml", text)
+	if err != nil {
+		t.Fatalf("%v\n%s", err, text)
+	}
+	if p.Title != d.Title || p.Data.Group != d.Group || p.Data.Outcome != d.Outcome || p.Data.File != d.DataFile ||
+		uint64(p.Seed) != d.Seed || p.Alpha != 0.01 || p.Data.Decimal != "," || p.Data.Delimiter != ";" {
+		t.Errorf("draft did not round-trip: %+v", p)
+	}
+}
+
+// FuzzParse: Parse never panics, every error is positioned, and an accepted plan written
+// back as JSON (which is YAML) parses to the same plan.
+func FuzzParse(f *testing.F) {
+	f.Add([]byte(goodPlan))
+	f.Add([]byte(goodPlan + "extra: [1, {a: b}]\n"))
+	f.Add([]byte("rankplan: 1\nid: &a x\ntitle: *a\n"))
+	f.Add([]byte("? [a, b]\n: c\n"))
+	f.Add([]byte("seed: 1e400\nalpha: 0x10\n"))
+	f.Add([]byte("a: !!binary aGVsbG8=\n"))
+	f.Add([]byte("<<: {a: 1}\n"))
+	f.Add([]byte("\xff\xfe"))
+	f.Fuzz(func(t *testing.T, src []byte) {
+		p, err := Parse("plan.yaml", src)
+		if err != nil {
+			list, ok := AsList(err)
+			if !ok {
+				t.Fatalf("not a plan error: %T %v", err, err)
+			}
+			for _, e := range list {
+				if e.Line < 1 || e.Column < 1 {
+					t.Fatalf("unpositioned error: %v", e)
+				}
+			}
+			return
+		}
+		b, err := json.Marshal(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		q, err := Parse("plan.yaml", b)
+		if err != nil {
+			t.Fatalf("re-parse of %s: %v", b, err)
+		}
+		p.doc, q.doc = nil, nil
+		if !reflect.DeepEqual(p, q) {
+			t.Fatalf("round trip differs:\n%+v\n%+v", p, q)
+		}
+	})
+}
+
+func TestLoadMissingFile(t *testing.T) {
+	_, err := Load(filepath.Join(t.TempDir(), "none.yaml"))
+	if !errors.Is(err, os.ErrNotExist) {
+		t.Errorf("got %v", err)
+	}
+}
