@@ -1,0 +1,282 @@
+package runner
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+
+	"rankplan/runner/results"
+	"rankplan/spec"
+	"rankplan/stats"
+)
+
+const planHead = `rankplan: 1
+id: t
+title: T
+data:
+  file: data.csv
+  group: g
+  outcome: y
+`
+
+const planTail = `alpha: 0.05
+seed: 1
+analyses:
+  - id: a
+    test: kruskal-wallis
+    pvalue: {method: asymptotic}
+`
+
+// setup writes a plan (planHead + extra + planTail) and data.csv into a new folder.
+func setup(t *testing.T, extra, csv string) *spec.Plan {
+	t.Helper()
+	dir := t.TempDir()
+	if err := os.WriteFile(filepath.Join(dir, "data.csv"), []byte(csv), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(dir, "plan.yaml")
+	if err := os.WriteFile(path, []byte(planHead+extra+planTail), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	p, err := spec.Load(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+func runAll(t *testing.T, p *spec.Plan) *results.Results {
+	t.Helper()
+	prep, err := Prepare(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := Execute(prep)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := EncodeResults(res); err != nil {
+		t.Fatal(err)
+	}
+	return res
+}
+
+func TestExclusions(t *testing.T) {
+	csv := "g,y\nA,1\nA,NA\n,3\nB,2\nB, \nC,9\nC,NA\nD,4\nD,5\n"
+	p := setup(t, "groups:\n  include: [B, A, D]\n", csv)
+	res := runAll(t, p)
+	a := res.Analyses[0]
+	want := []results.Exclusion{
+		{Group: "", Reason: results.ReasonMissingGroup, Rows: 1},
+		{Group: "C", Reason: results.ReasonNotIncluded, Rows: 2},
+		{Group: "A", Reason: results.ReasonMissingOutcome, Rows: 1},
+		{Group: "B", Reason: results.ReasonMissingOutcome, Rows: 1},
+	}
+	if !reflect.DeepEqual(a.Excluded, want) {
+		t.Errorf("excluded %+v\nwant %+v", a.Excluded, want)
+	}
+	var names []string
+	for _, g := range a.Groups {
+		names = append(names, fmt.Sprintf("%s:%d", g.Name, g.N))
+	}
+	if got := strings.Join(names, " "); got != "B:1 A:1 D:2" || a.N != 4 || res.Data.Rows != 9 {
+		t.Errorf("groups %s N %d rows %d", got, a.N, res.Data.Rows)
+	}
+}
+
+func TestMissingPolicyFail(t *testing.T) {
+	p := setup(t, "", "g,y\nA,1\nA,NA\nB,2\n")
+	p.Data.Missing.Policy = spec.FailOnMissing
+	_, err := Prepare(p)
+	if err == nil || !strings.Contains(err.Error(), `data.csv:3:3: column "y": missing value "NA"`) {
+		t.Errorf("got %v", err)
+	}
+	var ie *InputError
+	if !errors.As(err, &ie) {
+		t.Errorf("%T is not an InputError", err)
+	}
+}
+
+func TestGroupChecks(t *testing.T) {
+	for _, tc := range []struct {
+		name, extra, csv, want string
+	}{
+		{"include names a group not in data", "groups: {include: [A, Z]}\n", "g,y\nA,1\nB,2\n",
+			`plan.yaml:8:23: groups.include[1]: no rows of group "Z" in column "g"`},
+		{"order misses a data group", "groups: {order: [B, A]}\n", "g,y\nA,1\nB,2\nC,3\n",
+			`plan.yaml:8:10: groups.order: does not list group "C" found in`},
+		{"one group", "", "g,y\nA,1\nA,2\n", `plan.yaml:6:10: data.group: column "g" of`},
+		{"empty after exclusion", "", "g,y\nA,1\nB,NA\nC,2\n", `group "B" has no observations of "y" left to analyse; 1 row(s) excluded as missing-outcome`},
+		{"group column missing", "", "h,y\nA,1\nB,2\n", `plan.yaml:6:10: data.group: no column "g" in`},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := Prepare(setup(t, tc.extra, tc.csv))
+			if err == nil || !strings.Contains(err.Error(), tc.want) {
+				t.Errorf("got %v\nwant it to contain %s", err, tc.want)
+			}
+		})
+	}
+}
+
+func TestDefaultGroupOrderIsByLabel(t *testing.T) {
+	res := runAll(t, setup(t, "", "g,y\nb,1\na,2\nc,3\na,4\n"))
+	var names []string
+	for _, g := range res.Analyses[0].Groups {
+		names = append(names, g.Name)
+	}
+	if strings.Join(names, ",") != "a,b,c" {
+		t.Errorf("order %v", names)
+	}
+}
+
+func TestAllTied(t *testing.T) {
+	res := runAll(t, setup(t, "", "g,y\nA,3\nA,3\nB,3\nC,3\n"))
+	a := res.Analyses[0]
+	if a.Status != "not-computable" || !strings.Contains(a.Reason, "all observations are tied") ||
+		a.KruskalWallis != nil || a.PValue != nil || a.Decision != nil {
+		t.Errorf("%+v", a)
+	}
+}
+
+// TestTinyPValue: two perfectly separated groups of 1000 give H* = 1499.25 on 1 df, whose
+// chi-square tail is below the smallest normal double. The value is then null and the log10
+// is given. Reference: for 1 df, Q = erfc(sqrt(H/2)) (common practice), and the log10 of
+// erfc(z) for large z is log10(exp(-z^2)/(z sqrt(pi)) (1 - 1/(2z^2) + 3/(4z^4))), the
+// asymptotic series of erfc (Abramowitz & Stegun 1964, 7.1.23).
+func TestTinyPValue(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("g,y\n")
+	for i := 0; i < 1000; i++ {
+		fmt.Fprintf(&b, "A,%d\nB,%d\n", i, 10000+i)
+	}
+	res := runAll(t, setup(t, "", b.String()))
+	a := res.Analyses[0]
+	if a.PValue.Value != nil {
+		t.Fatalf("p value %v, want null", *a.PValue.Value)
+	}
+	h := a.KruskalWallis.H
+	// H for two separated groups of n: 12/(N(N+1)) Σ n (R̄_i - (N+1)/2)^2 with R̄ = (n+1)/2, n + (n+1)/2.
+	if want := 3.0 * 2000 * 2000 / 4 / 2001; math.Abs(h-want) > 1e-9*want {
+		t.Errorf("H = %v, want %v", h, want)
+	}
+	z := math.Sqrt(h / 2)
+	want := (-z*z - math.Log(z*math.Sqrt(math.Pi)) + math.Log1p(-1/(2*z*z)+3/(4*z*z*z*z))) / math.Ln10
+	if math.Abs(a.PValue.Log10-want) > 1e-6 {
+		t.Errorf("log10 p = %v, want %v", a.PValue.Log10, want)
+	}
+	if !a.Decision.Reject {
+		t.Error("not rejected")
+	}
+}
+
+// TestInvariance: the results do not depend on the order of rows, and a strictly increasing
+// transform of the outcome leaves H, p and the ranks unchanged.
+func TestInvariance(t *testing.T) {
+	rows := []string{"A,3.1", "B,2.5", "A,4.0", "C,7.7", "B,2.5", "C,6.0", "A,1.2", "B,9.9", "C,6.0", "A,3.1"}
+	rev := make([]string, len(rows))
+	exp := make([]string, len(rows))
+	for i, r := range rows {
+		rev[len(rows)-1-i] = r
+		var g string
+		var y float64
+		fmt.Sscanf(strings.Replace(r, ",", " ", 1), "%s %g", &g, &y)
+		exp[i] = fmt.Sprintf("%s,%.17g", g, math.Exp(y)*10)
+	}
+	base := runAll(t, setup(t, "", "g,y\n"+strings.Join(rows, "\n")+"\n"))
+	other := runAll(t, setup(t, "", "g,y\n"+strings.Join(rev, "\n")+"\n"))
+	base.Data, other.Data = results.Data{}, results.Data{}
+	if !reflect.DeepEqual(base, other) {
+		t.Errorf("row order changed the results")
+	}
+	mono := runAll(t, setup(t, "", "g,y\n"+strings.Join(exp, "\n")+"\n"))
+	b, m := base.Analyses[0], mono.Analyses[0]
+	if *b.KruskalWallis != *m.KruskalWallis || *b.PValue.Value != *m.PValue.Value {
+		t.Errorf("transform changed H or p: %+v %+v", b.KruskalWallis, m.KruskalWallis)
+	}
+	for i := range b.Groups {
+		if b.Groups[i].RankSum != m.Groups[i].RankSum {
+			t.Errorf("rank sums differ")
+		}
+	}
+}
+
+// TestAgainstStats: the runner reports what package stats computes, and H agrees with
+// scipy 1.10.1 stats.kruskal on the same invented data (value frozen here from
+// /usr/bin/python3 -c "from scipy import stats; print(stats.kruskal([3.1,4.0,1.2,3.1],[2.5,2.5,9.9],[7.7,6.0,6.0]))").
+func TestAgainstStats(t *testing.T) {
+	res := runAll(t, setup(t, "", "g,y\nA,3.1\nB,2.5\nA,4.0\nC,7.7\nB,2.5\nC,6.0\nA,1.2\nB,9.9\nC,6.0\nA,3.1\n"))
+	a := res.Analyses[0]
+	r, err := stats.Rank([]int32{0, 1, 0, 2, 1, 2, 0, 1, 2, 0}, []float64{3.1, 2.5, 4.0, 7.7, 2.5, 6.0, 1.2, 9.9, 6.0, 3.1}, 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	kw, _ := stats.KruskalWallisTest(r)
+	if a.KruskalWallis.H != kw.H || *a.PValue.Value != kw.P {
+		t.Errorf("runner %v %v, stats %v %v", a.KruskalWallis.H, *a.PValue.Value, kw.H, kw.P)
+	}
+	const scipyH, scipyP = 3.166666666666667, 0.20528965757990922
+	if math.Abs(kw.H-scipyH) > 1e-12*scipyH || math.Abs(kw.P-scipyP) > 1e-10*scipyP {
+		t.Errorf("H %v p %v; scipy %v %v", kw.H, kw.P, scipyH, scipyP)
+	}
+}
+
+func TestWriteRun(t *testing.T) {
+	res := runAll(t, setup(t, "", "g,y\nA,1\nB,2\nA,3\n"))
+	dir := filepath.Join(t.TempDir(), "out")
+	if err := WriteRun(dir, res); err != nil {
+		t.Fatal(err)
+	}
+	first, err := os.ReadFile(filepath.Join(dir, "results.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	err = WriteRun(dir, res)
+	if !errors.Is(err, ErrOutExists) {
+		t.Errorf("second write: %v", err)
+	}
+	again, _ := os.ReadFile(filepath.Join(dir, "results.json"))
+	if !bytes.Equal(first, again) {
+		t.Error("results.json changed")
+	}
+	if err := writeFileAtomic(filepath.Join(dir, "results.json"), []byte("x")); err == nil {
+		t.Error("writeFileAtomic replaced an existing file")
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 1 {
+		t.Errorf("leftover files: %v", entries)
+	}
+	// Determinism: a second run of the same plan gives the same bytes.
+	b2, err := EncodeResults(res)
+	if err != nil || !bytes.Equal(first, b2) {
+		t.Errorf("encoding differs: %v", err)
+	}
+}
+
+func TestDraft(t *testing.T) {
+	dir := t.TempDir()
+	data := filepath.Join(dir, "sub", "d.csv")
+	os.MkdirAll(filepath.Dir(data), 0o755)
+	os.WriteFile(data, []byte("arm;score\nx;1,5\ny;2,25\nx;3\n"), 0o644)
+	seed := uint64(9)
+	text, err := Draft(DraftOptions{DataPath: data, PlanPath: filepath.Join(dir, "plan.yaml"), Group: "arm", Outcome: "score",
+		Delimiter: "auto", Decimal: "auto", Alpha: 0.05, Seed: &seed, PValue: spec.Asymptotic, PostHoc: spec.NoPostHoc, Adjust: spec.NoAdjustment})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{`file: "sub/d.csv"`, `delimiter: ";"`, `decimal: ","`, "seed: 9", `"x" (2 rows), "y" (1 rows)`} {
+		if !bytes.Contains(text, []byte(want)) {
+			t.Errorf("draft lacks %q:\n%s", want, text)
+		}
+	}
+	_, err = Draft(DraftOptions{DataPath: data, Group: "arm", Outcome: "score", Delimiter: "auto", Decimal: "auto",
+		Alpha: 0.05, PValue: spec.Exact, PostHoc: spec.NoPostHoc, Adjust: spec.NoAdjustment})
+	if err == nil || !strings.Contains(err.Error(), "not implemented yet") {
+		t.Errorf("draft with an unimplemented method: %v", err)
+	}
+}
