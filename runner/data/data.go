@@ -1,0 +1,493 @@
+package data
+
+import (
+	"bufio"
+	"bytes"
+	"crypto/sha256"
+	"errors"
+	"fmt"
+	"hash"
+	"io"
+	"math"
+	"os"
+	"slices"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+	"unsafe"
+)
+
+// Options says how to read a data file and which columns to take from it. There are
+// no defaults: every field that has a list of legal values must hold one of them.
+type Options struct {
+	// Name is the file name shown in messages, as the user wrote it
+	// (e.g. "examples/x/data.csv"). LoadFile uses the path when Name is "".
+	Name string
+	// Delimiter separates fields: ',', ';' or '\t'.
+	Delimiter byte
+	// Decimal is the decimal separator of numeric cells: '.' or ','. With ',' the
+	// delimiter must not be ','.
+	Decimal byte
+	// GroupColumn is the header name of the column holding the group labels.
+	GroupColumn string
+	// OutcomeColumns are the header names of one or more distinct numeric columns,
+	// none of them GroupColumn.
+	OutcomeColumns []string
+	// MissingTokens are the cell texts that mean "missing", matched exactly against the
+	// cell text with leading and trailing ASCII spaces removed, e.g. "" and "NA". A
+	// token that itself starts or ends with a space could never match and is an error.
+	MissingTokens []string
+	// FailOnMissing makes a missing cell in a required column an error. When false, a
+	// missing group cell is kept as group -1 and a missing outcome cell as NaN, for the
+	// caller to exclude and count.
+	FailOnMissing bool
+}
+
+// Table is the loaded data, column-wise: row i is Group[i], Outcome[c][i], Line[i].
+type Table struct {
+	// Rows is the number of data rows (the header and blank lines are not counted).
+	Rows int
+	// SHA256 is the SHA-256 digest of the file's raw bytes, BOM included.
+	SHA256 [32]byte
+	// Size is the file's length in bytes.
+	Size int64
+	// Groups are the distinct group labels in order of first appearance, exactly as
+	// written in the file (not trimmed).
+	Groups []string
+	// Group holds, per row, the index of the row's label in Groups, or -1 if the group
+	// cell is missing.
+	Group []int32
+	// Outcome holds, per outcome column in the order of Options.OutcomeColumns, the
+	// value of each row; NaN means the cell was missing.
+	Outcome [][]float64
+	// Line holds, per row, the line on which the row's record starts.
+	Line []int32
+	// HighPrecisionCells counts the numeric cells with more than 15 significant digits
+	// (leading zeros not significant, trailing zeros significant). Distinct decimals
+	// with that many digits may convert to the same float64 and then count as ties.
+	HighPrecisionCells int
+}
+
+// bufSize is the size of the read buffer. Lines longer than this are still read,
+// through a second buffer.
+const bufSize = 64 << 10
+
+// Load reads one CSV data file in long format from r: a header record, then one record
+// per observation. It reads r exactly once, to its end, hashing the bytes as they pass:
+//
+//	SHA256 = SHA-256(every byte of r)       (NIST FIPS 180-4, 2015)
+//	Size   = number of bytes of r
+//
+// Records follow RFC 4180 (Shafranovich 2005): quoted fields, "" for a quote inside a
+// quoted field, quoted fields spanning lines, LF or CRLF line ends, and an optional
+// UTF-8 byte order mark before the header. A line end inside a quoted field is read as
+// LF whether the file has LF or CRLF, as encoding/csv does. The header is the first
+// record that is not a blank line, and every later record must have as many fields.
+// Blank lines are skipped but counted in line numbers.
+//
+// A numeric cell, after removing leading and trailing ASCII spaces, must be in plain
+// decimal notation, with sep the Decimal byte:
+//
+//	number   = [sign] mantissa [("e" / "E") [sign] digits]
+//	mantissa = digits [sep digits] / sep digits
+//	sign     = "+" / "-"
+//
+// so "inf", "nan", hex floats, digit or thousands separators, "1." and, when Decimal
+// is ',', the '.' are all rejected. It is converted to the nearest float64 (IEEE 754
+// round to nearest even, by strconv.ParseFloat). A value beyond the float64 range, or
+// a non-zero value so small that it would become zero, is an error; "-0" is read as
+// negative zero. Missing cells follow Options.MissingTokens and Options.FailOnMissing.
+// Group labels must be valid UTF-8.
+//
+// Every data error is an *Error; a failing read of r is returned wrapped. Load
+// allocates nothing per row: group labels are allocated once each, and the columns
+// grow by append, or are sized once from the first rows when the input's length is
+// known (r has a Len method, or LoadFile's regular file).
+func Load(r io.Reader, opt Options) (*Table, error) {
+	size := int64(-1)
+	if lr, ok := r.(interface{ Len() int }); ok { // bytes.Reader, strings.Reader, bytes.Buffer
+		size = int64(lr.Len())
+	}
+	return load(r, opt, size)
+}
+
+// load is Load with the expected number of bytes of r, or -1 if unknown. The size is
+// only used to size the table's slices once the first rows show the bytes per row.
+func load(r io.Reader, opt Options, size int64) (*Table, error) {
+	if err := opt.check(); err != nil {
+		return nil, err
+	}
+	hr := &hashReader{r: r, h: sha256.New()}
+	br := bufio.NewReaderSize(hr, bufSize)
+	if err := skipBOM(br, opt.Name); err != nil {
+		return nil, err
+	}
+	l := &loader{opt: opt, p: newRecordReader(br, opt.Name, opt.Delimiter), ids: map[string]int32{},
+		hr: hr, br: br, expect: size}
+	t, err := l.run()
+	if err != nil {
+		return nil, err
+	}
+	t.Size = hr.n
+	hr.h.Sum(t.SHA256[:0])
+	return t, nil
+}
+
+// LoadFile opens the file at path and loads it with [Load]. Options.Name defaults to
+// path.
+func LoadFile(path string, opt Options) (*Table, error) {
+	if opt.Name == "" {
+		opt.Name = path
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("open data file: %w", err)
+	}
+	defer f.Close()
+	size := int64(-1)
+	if fi, err := f.Stat(); err == nil && fi.Mode().IsRegular() {
+		size = fi.Size()
+	}
+	return load(f, opt, size)
+}
+
+// Header reads only the header record from r (the first record that is not a blank
+// line, after an optional UTF-8 byte order mark) and returns its cells. Only
+// Options.Name and Options.Delimiter are used. It stops after the header, having read
+// ahead by at most one buffer of bytes, and hashes nothing.
+func Header(r io.Reader, opt Options) ([]string, error) {
+	if err := checkDelimiter(opt.Delimiter); err != nil {
+		return nil, err
+	}
+	br := bufio.NewReader(r)
+	if err := skipBOM(br, opt.Name); err != nil {
+		return nil, err
+	}
+	p := newRecordReader(br, opt.Name, opt.Delimiter)
+	ok, err := p.next()
+	if err != nil {
+		return nil, err
+	}
+	if !ok {
+		return nil, &Error{File: opt.Name, Msg: "empty file"}
+	}
+	h := make([]string, p.nfields())
+	for i := range h {
+		h[i] = string(p.field(i))
+	}
+	return h, nil
+}
+
+// hashReader passes reads through, hashing and counting the bytes.
+type hashReader struct {
+	r io.Reader
+	h hash.Hash
+	n int64
+}
+
+func (h *hashReader) Read(b []byte) (int, error) {
+	n, err := h.r.Read(b)
+	h.h.Write(b[:n]) // hash.Hash.Write never returns an error
+	h.n += int64(n)
+	return n, err
+}
+
+// bom is the UTF-8 encoding of U+FEFF.
+var bom = []byte{0xEF, 0xBB, 0xBF}
+
+// skipBOM discards a UTF-8 byte order mark at the start of br.
+func skipBOM(br *bufio.Reader, name string) error {
+	b, err := br.Peek(len(bom))
+	if err != nil && err != io.EOF {
+		if name == "" {
+			name = "input"
+		}
+		return fmt.Errorf("read %s: %w", name, err)
+	}
+	if bytes.Equal(b, bom) {
+		_, _ = br.Discard(len(bom)) // cannot fail: the bytes are buffered
+	}
+	return nil
+}
+
+func checkDelimiter(d byte) error {
+	switch d {
+	case ',', ';', '\t':
+		return nil
+	}
+	return fmt.Errorf("data options: delimiter %q is not one of ',', ';' or '\\t'", rune(d))
+}
+
+// check validates the options.
+func (o *Options) check() error {
+	if err := checkDelimiter(o.Delimiter); err != nil {
+		return err
+	}
+	switch o.Decimal {
+	case '.':
+	case ',':
+		if o.Delimiter == ',' {
+			return errors.New("data options: decimal separator ',' needs a delimiter other than ','")
+		}
+	default:
+		return fmt.Errorf("data options: decimal separator %q is not '.' or ','", rune(o.Decimal))
+	}
+	if o.GroupColumn == "" {
+		return errors.New("data options: no group column")
+	}
+	if len(o.OutcomeColumns) == 0 {
+		return errors.New("data options: no outcome column")
+	}
+	for i, c := range o.OutcomeColumns {
+		if c == "" {
+			return fmt.Errorf("data options: outcome column %d has an empty name", i+1)
+		}
+		if c == o.GroupColumn {
+			return fmt.Errorf("data options: column %q is both the group column and an outcome column", c)
+		}
+		for _, d := range o.OutcomeColumns[:i] {
+			if d == c {
+				return fmt.Errorf("data options: outcome column %q is listed twice", c)
+			}
+		}
+	}
+	for _, m := range o.MissingTokens {
+		if m != strings.Trim(m, " ") {
+			return fmt.Errorf("data options: missing-value token %q starts or ends with a space, so no trimmed cell can match it", m)
+		}
+	}
+	return nil
+}
+
+// loader holds the state of one Load.
+type loader struct {
+	opt Options
+	p   *recordReader
+	t   Table
+
+	names   []string // the header cells
+	groupAt int      // field index of the group column
+	outAt   []int    // field index of each outcome column
+
+	ids       map[string]int32 // group label to index in t.Groups
+	lastLabel string           // the label of the previous row, a cheap first check
+	lastID    int32            // and its index, or -1 if there is none yet
+
+	scratch []byte // a numeric cell rewritten with '.' as the decimal separator
+
+	hr     *hashReader   // the bytes read so far, for sizing
+	br     *bufio.Reader // the bytes read but not yet parsed
+	expect int64         // expected bytes of the whole input, or -1
+}
+
+// sizeAfterRows is the number of rows after which the loader estimates the number of
+// rows of the whole file and sizes its slices once.
+const sizeAfterRows = 1024
+
+// presize grows the table's slices to the number of rows expected from the bytes per
+// row so far, plus 5%, so that a large file's columns are not copied at each doubling.
+// It never expects more rows than the file could hold (each record takes at least one
+// byte per field) or than a Line can number.
+func (l *loader) presize() {
+	used := l.hr.n - int64(l.br.Buffered())
+	if l.expect <= 0 || used <= 0 {
+		return
+	}
+	est := float64(l.t.Rows) * float64(l.expect) / float64(used) * 1.05
+	est = min(est, float64(l.expect)/float64(len(l.names))+1, math.MaxInt32)
+	more := int(est) - l.t.Rows
+	if more <= 0 {
+		return
+	}
+	l.t.Group = slices.Grow(l.t.Group, more)
+	l.t.Line = slices.Grow(l.t.Line, more)
+	for c := range l.t.Outcome {
+		l.t.Outcome[c] = slices.Grow(l.t.Outcome[c], more)
+	}
+}
+
+func (l *loader) run() (*Table, error) {
+	p := l.p
+	ok, err := p.next()
+	if err != nil {
+		return nil, err
+	}
+	if !ok {
+		return nil, &Error{File: l.opt.Name, Msg: "empty file"}
+	}
+	if err := l.header(); err != nil {
+		return nil, err
+	}
+	l.lastID = -1
+	l.t.Outcome = make([][]float64, len(l.outAt))
+	for {
+		ok, err := p.next()
+		if err != nil {
+			var e *Error
+			if errors.As(err, &e) && p.errField >= 0 && p.errField < len(l.names) {
+				e.Field = l.names[p.errField]
+			}
+			return nil, err
+		}
+		if !ok {
+			break
+		}
+		if err := l.row(); err != nil {
+			return nil, err
+		}
+	}
+	if l.t.Rows == 0 {
+		return nil, &Error{File: l.opt.Name, Msg: "no data rows"}
+	}
+	return &l.t, nil
+}
+
+// header takes the current record as the header and finds the required columns.
+func (l *loader) header() error {
+	p := l.p
+	l.names = make([]string, p.nfields())
+	for i := range l.names {
+		l.names[i] = string(p.field(i))
+	}
+	find := func(name string) (int, error) {
+		at := -1
+		for i, h := range l.names {
+			if h != name {
+				continue
+			}
+			if at >= 0 {
+				return 0, &Error{File: l.opt.Name, Line: p.start,
+					Msg: fmt.Sprintf("column %q appears more than once in the header (columns %d and %d)", name, at+1, i+1)}
+			}
+			at = i
+		}
+		if at < 0 {
+			return 0, &Error{File: l.opt.Name, Line: p.start,
+				Msg: fmt.Sprintf("no column %q in the header (columns: %s)", name, strings.Join(l.names, ", "))}
+		}
+		return at, nil
+	}
+	var err error
+	if l.groupAt, err = find(l.opt.GroupColumn); err != nil {
+		return err
+	}
+	l.outAt = make([]int, len(l.opt.OutcomeColumns))
+	for c, name := range l.opt.OutcomeColumns {
+		if l.outAt[c], err = find(name); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// row appends the current record to the table.
+func (l *loader) row() error {
+	p := l.p
+	if p.nfields() != len(l.names) {
+		return &Error{File: l.opt.Name, Line: p.start,
+			Msg: fmt.Sprintf("record has %d fields, header has %d", p.nfields(), len(l.names))}
+	}
+	if p.start > math.MaxInt32 {
+		return &Error{File: l.opt.Name, Line: p.start, Msg: "more lines than this loader can number (2147483647)"}
+	}
+	g, err := l.group(l.groupAt)
+	if err != nil {
+		return err
+	}
+	for c, at := range l.outAt {
+		v, err := l.value(at)
+		if err != nil {
+			return err
+		}
+		l.t.Outcome[c] = append(l.t.Outcome[c], v)
+	}
+	l.t.Group = append(l.t.Group, g)
+	l.t.Line = append(l.t.Line, int32(p.start))
+	l.t.Rows++
+	if l.t.Rows == sizeAfterRows {
+		l.presize()
+	}
+	return nil
+}
+
+// cellError returns an *Error about field i of the current record.
+func (l *loader) cellError(i int, msg string, cause error) error {
+	at := l.p.pos[i]
+	return &Error{File: l.opt.Name, Line: at.line, Column: at.col, Field: l.names[i], Msg: msg, Err: cause}
+}
+
+// missing reports whether the trimmed cell text b is a missing-value token.
+func (l *loader) missing(b []byte) bool {
+	for _, m := range l.opt.MissingTokens {
+		if string(b) == m {
+			return true
+		}
+	}
+	return false
+}
+
+// group returns the group index of field i of the current record, adding a new label
+// to the table's Groups.
+func (l *loader) group(i int) (int32, error) {
+	b := l.p.field(i)
+	if l.lastID >= 0 && string(b) == l.lastLabel {
+		return l.lastID, nil
+	}
+	if t := trimSpaces(b); l.missing(t) {
+		if l.opt.FailOnMissing {
+			return 0, l.cellError(i, "missing value "+quoteCell(t), nil)
+		}
+		return -1, nil
+	}
+	id, ok := l.ids[string(b)]
+	if !ok {
+		if !utf8.Valid(b) {
+			return 0, l.cellError(i, "group label "+quoteCell(b)+" is not valid UTF-8", nil)
+		}
+		if len(l.t.Groups) == math.MaxInt32 {
+			return 0, l.cellError(i, "too many distinct group labels", nil)
+		}
+		s := string(b)
+		id = int32(len(l.t.Groups))
+		l.t.Groups = append(l.t.Groups, s)
+		l.ids[s] = id
+	}
+	l.lastLabel, l.lastID = l.t.Groups[id], id
+	return id, nil
+}
+
+// value returns the number in field i of the current record, or NaN if it is missing.
+func (l *loader) value(i int) (float64, error) {
+	b := l.p.field(i)
+	t := trimSpaces(b)
+	if l.missing(t) {
+		if l.opt.FailOnMissing {
+			return 0, l.cellError(i, "missing value "+quoteCell(t), nil)
+		}
+		return math.NaN(), nil
+	}
+	sig, ok := scanDecimal(t, l.opt.Decimal)
+	if !ok {
+		return 0, l.cellError(i, "cannot read "+quoteCell(b)+" as a number", strconv.ErrSyntax)
+	}
+	if sig > maxExactDigits {
+		l.t.HighPrecisionCells++
+	}
+	if l.opt.Decimal != '.' {
+		l.scratch = append(l.scratch[:0], t...)
+		if j := bytes.IndexByte(l.scratch, l.opt.Decimal); j >= 0 {
+			l.scratch[j] = '.'
+		}
+		t = l.scratch
+	}
+	// The view is only read by ParseFloat, which copies the text into any error it
+	// returns, so no string is allocated on the way.
+	v, err := strconv.ParseFloat(unsafe.String(unsafe.SliceData(t), len(t)), 64)
+	switch {
+	case errors.Is(err, strconv.ErrRange) || (err == nil && v == 0 && sig > 0):
+		return 0, l.cellError(i, "value "+quoteCell(b)+" is out of range", strconv.ErrRange)
+	case err != nil:
+		return 0, l.cellError(i, "cannot read "+quoteCell(b)+" as a number", err)
+	}
+	return v, nil
+}
