@@ -72,21 +72,32 @@ func TestAllocsDoNotGrowWithRows(t *testing.T) {
 	}
 }
 
-// BenchmarkLoad measures Load on invented files of 10^6 and 10^7 rows, four groups.
+// BenchmarkLoad measures Load on invented files of 10^6 and 10^7 rows, four groups,
+// from a reader of known length (columns sized once) and of unknown length (columns
+// grown by append).
 func BenchmarkLoad(b *testing.B) {
 	for _, n := range []int{1_000_000, 10_000_000} {
-		b.Run(strconv.Itoa(n), func(b *testing.B) {
-			in := genCSV(n)
-			b.SetBytes(int64(len(in)))
-			b.ReportAllocs()
-			b.ResetTimer()
-			for b.Loop() {
-				tab, err := Load(bytes.NewReader(in), benchOptions())
-				if err != nil || tab.Rows != n {
-					b.Fatal(err)
-				}
+		in := genCSV(n)
+		for _, sized := range []bool{true, false} {
+			name := strconv.Itoa(n) + "/known-size"
+			if !sized {
+				name = strconv.Itoa(n) + "/unknown-size"
 			}
-		})
+			b.Run(name, func(b *testing.B) {
+				b.SetBytes(int64(len(in)))
+				b.ReportAllocs()
+				for b.Loop() {
+					var r io.Reader = bytes.NewReader(in)
+					if !sized {
+						r = noLen{r}
+					}
+					tab, err := Load(r, benchOptions())
+					if err != nil || tab.Rows != n {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
 	}
 }
 
