@@ -21,27 +21,36 @@ const maxExactDigits = 15
 //	digits   = 1*DIGIT
 //
 // so "1.", hex floats, digit separators, "inf" and "nan" are rejected. sig is the
-// number of mantissa digits from the first non-zero digit on (leading zeros are not
-// significant; trailing zeros are counted, as in the usual reading of significant
-// figures), and is 0 when every mantissa digit is zero.
+// number of mantissa digits from the first to the last non-zero digit: the digits that
+// carry the value. Leading and trailing zeros are left out ("1.50" and "1.5" are the same
+// value, 2 digits), since only digits that carry the value can make two distinct decimals
+// meet in one float64. sig is 0 when every mantissa digit is zero.
 func scanDecimal(b []byte, sep byte) (sig int, ok bool) {
 	i, n := 0, len(b)
+	// count runs from the first non-zero digit; sig is its value at the last non-zero one.
+	count := 0
 	if i < n && (b[i] == '+' || b[i] == '-') {
 		i++
 	}
 	intDigits, fracDigits := 0, 0
 	for ; i < n && isDigit(b[i]); i++ {
 		intDigits++
-		if sig > 0 || b[i] != '0' {
-			sig++
+		if count > 0 || b[i] != '0' {
+			count++
+		}
+		if b[i] != '0' {
+			sig = count
 		}
 	}
 	if i < n && b[i] == sep {
 		i++
 		for ; i < n && isDigit(b[i]); i++ {
 			fracDigits++
-			if sig > 0 || b[i] != '0' {
-				sig++
+			if count > 0 || b[i] != '0' {
+				count++
+			}
+			if b[i] != '0' {
+				sig = count
 			}
 		}
 		if fracDigits == 0 {

@@ -15,10 +15,10 @@ var numberSyntax = map[byte]*regexp.Regexp{
 	',': regexp.MustCompile(`^([+-]?)([0-9]+(?:,[0-9]+)?|,[0-9]+)([eE][+-]?[0-9]+)?$`),
 }
 
-// regexpSignificant counts significant digits of a cell the regexp accepted: the
-// mantissa without its separator and leading zeros.
+// regexpSignificant counts the digits that carry the value of a cell the regexp
+// accepted: the mantissa without its separator and leading and trailing zeros.
 func regexpSignificant(mantissa string) int {
-	digits := strings.TrimLeft(strings.NewReplacer(".", "", ",", "").Replace(mantissa), "0")
+	digits := strings.Trim(strings.NewReplacer(".", "", ",", "").Replace(mantissa), "0")
 	return len(digits)
 }
 

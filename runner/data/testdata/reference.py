@@ -43,10 +43,11 @@ def grammar(sep):
 
 
 def significant(text, sep):
-    """Mantissa digits from the first non-zero one on (trailing zeros count)."""
+    """Mantissa digits from the first to the last non-zero one (the digits that carry the value)."""
     d = decimal.Decimal(text.replace(sep, "."))
-    digits = d.as_tuple().digits
-    return 0 if all(x == 0 for x in digits) else len(digits)
+    if d == 0:
+        return 0
+    return len(d.normalize().as_tuple().digits)
 
 
 def run(case):
