@@ -91,10 +91,9 @@ func Prepare(p *spec.Plan) (*Prepared, error) {
 	if errs := checkColumns(p, path, header); len(errs) > 0 {
 		return nil, inputErr(errs.Err())
 	}
-	if _, err := src.Seek(0, io.SeekStart); err != nil {
-		return nil, fmt.Errorf("read data file: %w", err)
-	}
-	t, err := data.Load(src, opt)
+	src.Close()
+	// LoadFile sizes its columns from the file's length: one allocation per column.
+	t, err := data.LoadFile(path, opt)
 	if err != nil {
 		return nil, inputErr(err)
 	}
