@@ -57,23 +57,11 @@ func schemaAt(tree any, absolute string) (map[string]any, string) {
 		return nil, ""
 	}
 	keyword := tokens[len(tokens)-1]
-	v := tree
-	for _, t := range tokens[:len(tokens)-1] {
-		t = strings.ReplaceAll(strings.ReplaceAll(t, "~1", "/"), "~0", "~")
-		switch c := v.(type) {
-		case map[string]any:
-			v = c[t]
-		case []any:
-			i, err := strconv.Atoi(t)
-			if err != nil || i < 0 || i >= len(c) {
-				return nil, keyword
-			}
-			v = c[i]
-		default:
-			return nil, keyword
-		}
+	path := make([]string, len(tokens)-1)
+	for i, t := range tokens[:len(tokens)-1] {
+		path[i] = strings.ReplaceAll(strings.ReplaceAll(t, "~1", "/"), "~0", "~")
 	}
-	m, _ := v.(map[string]any)
+	m, _ := walk(tree, path).(map[string]any)
 	return m, keyword
 }
 

@@ -275,7 +275,12 @@ func (d *document) lookup(pointer string) ([]string, any) {
 			tokens = append(tokens, t)
 		}
 	}
-	v := d.value
+	return tokens, walk(d.value, tokens)
+}
+
+// walk follows unescaped key tokens through a JSON-compatible value; nil when a token
+// does not lead anywhere.
+func walk(v any, tokens []string) any {
 	for _, t := range tokens {
 		switch c := v.(type) {
 		case map[string]any:
@@ -283,12 +288,12 @@ func (d *document) lookup(pointer string) ([]string, any) {
 		case []any:
 			i, err := strconv.Atoi(t)
 			if err != nil || i < 0 || i >= len(c) {
-				return tokens, nil
+				return nil
 			}
 			v = c[i]
 		default:
-			return tokens, nil
+			return nil
 		}
 	}
-	return tokens, v
+	return v
 }
