@@ -48,33 +48,13 @@ func KruskalWallisTest(r *Ranking) (KruskalWallis, error) {
 	if len(r.Blocks) < 2 {
 		return KruskalWallis{}, fmt.Errorf("kruskal-wallis: %w", ErrAllTied)
 	}
-	fN := float64(r.N)
-	np1 := int64(r.N) + 1
-
-	sum := 0.0
-	mean := make([]float64, r.K)
-	for i, n := range r.Counts {
-		dev := float64(r.RankSum2[i] - int64(n)*np1)
-		sum += float64(dev*dev) / float64(4*int64(n))
-		mean[i] = float64(r.RankSum2[i]) / float64(2*int64(n))
-	}
-	h := float64(12*sum) / float64(fN*float64(fN+1))
-
-	den := float64(fN*fN) - 1
-	ties := 0.0
-	for _, b := range r.Blocks {
-		if b.Size > 1 {
-			ft := float64(b.Size)
-			ties += float64(float64(ft/fN) * float64((float64(ft*ft)-1)/den))
-		}
-	}
-	c := 1 - ties
+	h, hStar, c := tieCorrectedH(r.N, r.Counts, r.RankSum2, r.Blocks)
 	if !(c > 0) {
 		return KruskalWallis{}, fmt.Errorf("kruskal-wallis: %w", ErrAllTied)
 	}
-	hStar := h / c
-	if maxH := float64(r.N - 1); hStar > maxH {
-		hStar = maxH
+	mean := make([]float64, r.K)
+	for i, n := range r.Counts {
+		mean[i] = float64(r.RankSum2[i]) / float64(2*int64(n))
 	}
 
 	df := r.K - 1
@@ -131,4 +111,35 @@ func checkRanking(r *Ranking) error {
 			rankTotal, want)
 	}
 	return nil
+}
+
+// tieCorrectedH is the arithmetic of [KruskalWallisTest], shared with the bootstrap: H,
+// H* = H / C (capped at N - 1) and C, from the group sizes, the doubled rank sums and the
+// tie blocks. c <= 0 means all observations are tied; h and hStar are then 0.
+func tieCorrectedH(n int, counts []int, rankSum2 []int64, blocks []Block) (h, hStar, c float64) {
+	fN := float64(n)
+	np1 := int64(n) + 1
+	sum := 0.0
+	for i, ni := range counts {
+		dev := float64(rankSum2[i] - int64(ni)*np1)
+		sum += float64(dev*dev) / float64(4*int64(ni))
+	}
+	h = float64(12*sum) / float64(fN*float64(fN+1))
+	den := float64(fN*fN) - 1
+	ties := 0.0
+	for _, b := range blocks {
+		if b.Size > 1 {
+			ft := float64(b.Size)
+			ties += float64(float64(ft/fN) * float64((float64(ft*ft)-1)/den))
+		}
+	}
+	c = 1 - ties
+	if !(c > 0) {
+		return 0, 0, c
+	}
+	hStar = h / c
+	if maxH := float64(n - 1); hStar > maxH {
+		hStar = maxH
+	}
+	return h, hStar, c
 }
