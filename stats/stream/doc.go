@@ -32,7 +32,7 @@
 //
 // [Stream.Below] returns an integer uniform on [0, n), n >= 1, by Lemire's
 // multiply-and-reject method (Lemire 2019, "Fast Random Integer Generation in an
-// Interval", ACM Trans. Model. Comput. Simul. 29(1):3, Algorithm 5), with all
+// Interval", ACM Trans. Model. Comput. Simul. 29(1):3), with all
 // arithmetic on unsigned 64-bit integers:
 //
 //	x  = next raw value
@@ -51,8 +51,7 @@
 // # 4. Shuffles
 //
 // [ShuffleInt32] and [Shuffle] permute a slice a of length n in place by Fisher-Yates
-// in Durstenfeld's form (Durstenfeld 1964, "Algorithm 235: Random permutation",
-// Commun. ACM 7(7):420):
+// in Durstenfeld's form (Durstenfeld 1964, Commun. ACM 7:420):
 //
 //	for i = n−1 down to 1:
 //	    j = Below(i + 1)

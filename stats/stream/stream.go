@@ -83,7 +83,7 @@ func (s *Stream) Uint64() uint64 {
 }
 
 // Below returns an integer uniform on [0, n) by Lemire's method (Lemire 2019, "Fast
-// Random Integer Generation in an Interval", ACM TOMACS 29(1):3, Algorithm 5), in
+// Random Integer Generation in an Interval", ACM TOMACS 29(1):3), in
 // uint64 arithmetic:
 //
 //	x = Uint64();  hi·2^64 + lo = x·n          (128-bit product)
@@ -114,7 +114,7 @@ func (s *Stream) Below(n uint64) uint64 {
 }
 
 // ShuffleInt32 permutes a in place by Fisher-Yates (Durstenfeld 1964, Commun. ACM
-// 7(7):420):
+// 7:420):
 //
 //	for i = len(a)−1 down to 1:  j = s.Below(i+1);  swap a[i], a[j]
 //

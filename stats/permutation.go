@@ -1,0 +1,450 @@
+package stats
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"math/bits"
+	"runtime"
+	"slices"
+	"sync"
+	"sync/atomic"
+
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"rankplan/stats/stream"
+)
+
+// PermutationBlockSize is the number of resamples drawn from one stream block of the
+// Monte Carlo permutation test. It is part of the reproducibility contract: changing it
+// changes every recorded Exceed count.
+const PermutationBlockSize = 4096
+
+// PermutationPurpose labels the stream of the Monte Carlo permutation test (see package
+// stream).
+const PermutationPurpose = "kw-permutation"
+
+// PermutationScheme names, for the record, how [KruskalWallisPermutation] draws.
+const PermutationScheme = stream.Label + " " + PermutationPurpose +
+	", blocks of 4096 resamples, Fisher-Yates over the group labels (Durstenfeld 1964), Lemire bounded integers"
+
+// Comparison rules reported in [Permutation].Comparison.
+const (
+	// ComparisonExact: T*·L >= T_obs·L compared as 128-bit unsigned integers.
+	ComparisonExact = "exact-integer"
+	// ComparisonFloat: T* >= T_obs·(1 − 1e-12) in float64, group terms summed in group order.
+	ComparisonFloat = "float64, relative tolerance 1e-12"
+)
+
+// permutationRelTol is the relative tolerance of [ComparisonFloat].
+const permutationRelTol = 1e-12
+
+// permutationLevel is the confidence level of the Clopper-Pearson interval.
+const permutationLevel = 0.99
+
+// Permutation is a Monte Carlo permutation p-value of the Kruskal-Wallis test with its
+// Monte Carlo error; see [KruskalWallisPermutation].
+type Permutation struct {
+	Resamples int64   // m, the number of random relabelings
+	Exceed    int64   // b = #{resamples with T* >= T_obs}
+	P         float64 // (b + 1) / (m + 1)
+	SE        float64 // sqrt(p̂ (1 − p̂) / m), p̂ = b / m
+	// CILow and CIHigh are the 99% Clopper-Pearson interval for the permutation
+	// p-value that b estimates (b is binomial with m trials). They come from gonum's
+	// Beta quantile, whose relative error grows with m: below max(1e-12, 3e-16·m)
+	// against scipy 1.10.1 stats.beta.ppf (about 1e-11 at m = 10^6, 2e-7 at m = 10^9
+	// with b = 5; gonum's incomplete beta loses accuracy for large parameters).
+	// They describe the Monte Carlo error, so that is far below what matters.
+	CILow, CIHigh float64
+	Comparison    string // ComparisonExact or ComparisonFloat: how T* >= T_obs was decided
+}
+
+// PermutationOptions configure [KruskalWallisPermutation].
+type PermutationOptions struct {
+	Seed       uint64 // the run seed
+	AnalysisID string // the analysis's identifier; different analyses draw different streams
+	Resamples  int64  // m >= 1
+	Workers    int    // goroutines; 0 or less: runtime.GOMAXPROCS(0). The result does not depend on it.
+}
+
+// KruskalWallisPermutation estimates the permutation p-value of the Kruskal-Wallis test
+// by Monte Carlo: the share of random relabelings of the observations whose statistic
+// is at least the observed one. group, values and k are the data as given to [Rank],
+// and r is their Ranking.
+//
+// Statistic. With d_j the doubled midrank of observation j (see [Block]) and
+// S_i = Σ_{j in group i} d_j, the test uses
+//
+//	T = Σ_i S_i² / n_i
+//
+// which, given the tie pattern, is an increasing function of H and of H*
+// (H = 3/(N(N+1)) · T − 3(N+1); METHODS.md §1.3), so T* >= T_obs exactly when
+// H* >= H_obs. T is compared exactly when possible: with L = lcm(n_1, ..., n_k),
+//
+//	T·L = Σ_i S_i² · (L / n_i)
+//
+// is an integer, and by Cauchy-Schwarz T·L <= L · Σ_j d_j², so when that bound is
+// below 2^128 (checked once) every T·L is computed and compared in 128-bit unsigned
+// arithmetic ([ComparisonExact]). Otherwise T is computed in float64, terms summed in
+// group order, and a resample counts when T* >= T_obs·(1 − 1e-12) ([ComparisonFloat];
+// a relative tolerance keeps ties that rounding would split: common practice).
+//
+// Resampling. Resamples are cut into blocks of [PermutationBlockSize]: block
+// j = 0, 1, ... covers resamples j·4096 ... min((j+1)·4096, m) − 1. Block j copies the
+// original label array group (in row order), takes the stream
+// stream.New(stream.Key("kw-permutation", Seed, AnalysisID, j)), and for each of its
+// resamples shuffles the label array a in place by Fisher-Yates ([stream.ShuffleInt32]:
+// i = N−1 down to 1, swap a[i] with a[Below(i+1)]), continuing from the previous
+// resample's order, then computes T* with row i's doubled rank counted in group a[i].
+// Blocks run on Workers goroutines and their integer counts are added, so the result
+// is bit-identical for any number of workers.
+//
+// Estimate and error (METHODS.md §1.6):
+//
+//	P      = (b + 1) / (m + 1)                    (Phipson & Smyth 2010, SAGMB 9(1): art. 39)
+//	SE     = sqrt(p̂ (1 − p̂) / m),  p̂ = b / m
+//	CILow  = Beta⁻¹(0.005; b, m − b + 1)    (0 when b = 0)
+//	CIHigh = Beta⁻¹(0.995; b + 1, m − b)    (1 when b = m)
+//
+// (Clopper & Pearson 1934, Biometrika 26:404-413, citation recalled from memory;
+// quantiles from gonum's distuv.Beta).
+//
+// It returns [ErrAllTied] (wrapped) when every observation is tied, an error when m < 1,
+// when N >= 2^31, when r is not the Ranking of (group, values, k), and ctx's error if ctx
+// is cancelled (checked before every resample). It does not modify group, values or r.
+// Memory is O(N) per worker plus O(N) shared, allocated once; a resample allocates
+// nothing and costs O(N + k).
+func KruskalWallisPermutation(ctx context.Context, group []int32, values []float64, k int, r *Ranking, opt PermutationOptions) (Permutation, error) {
+	if opt.Resamples < 1 {
+		return Permutation{}, fmt.Errorf("kw permutation: need at least 1 resample, got %d", opt.Resamples)
+	}
+	ps, err := newPermSetup(group, values, k, r)
+	if err != nil {
+		return Permutation{}, fmt.Errorf("kw permutation: %w", err)
+	}
+	b, err := ps.run(ctx, opt)
+	if err != nil {
+		return Permutation{}, fmt.Errorf("kw permutation: %w", err)
+	}
+	out, err := permutationSummary(b, opt.Resamples)
+	if err != nil {
+		return Permutation{}, fmt.Errorf("kw permutation: %w", err)
+	}
+	out.Comparison = ps.comparison()
+	return out, nil
+}
+
+// permutationSummary turns b exceedances in m resamples into the estimate, its
+// standard error and its 99% Clopper-Pearson interval (see [KruskalWallisPermutation]).
+func permutationSummary(b, m int64) (Permutation, error) {
+	if m < 1 || b < 0 || b > m {
+		return Permutation{}, fmt.Errorf("summary: need 0 <= b <= m, m >= 1, got b = %d, m = %d", b, m)
+	}
+	fb, fm := float64(b), float64(m)
+	ph := fb / fm
+	out := Permutation{
+		Resamples: m,
+		Exceed:    b,
+		P:         (fb + 1) / (fm + 1),
+		SE:        math.Sqrt(float64(ph*(1-ph)) / fm),
+		CILow:     0,
+		CIHigh:    1,
+	}
+	alpha := 1 - permutationLevel
+	if b > 0 {
+		out.CILow = distuv.Beta{Alpha: fb, Beta: fm - fb + 1}.Quantile(alpha / 2)
+	}
+	if b < m {
+		out.CIHigh = distuv.Beta{Alpha: fb + 1, Beta: fm - fb}.Quantile(1 - alpha/2)
+	}
+	return out, nil
+}
+
+// permU128 is an unsigned 128-bit integer (hi·2^64 + lo).
+type permU128 struct{ hi, lo uint64 }
+
+func (a permU128) less(b permU128) bool { return a.hi < b.hi || (a.hi == b.hi && a.lo < b.lo) }
+
+// add returns a + b and whether it overflowed.
+func (a permU128) add(b permU128) (permU128, bool) {
+	lo, c := bits.Add64(a.lo, b.lo, 0)
+	hi, c := bits.Add64(a.hi, b.hi, c)
+	return permU128{hi, lo}, c != 0
+}
+
+// mul64 returns a·w and whether it overflowed.
+func (a permU128) mul64(w uint64) (permU128, bool) {
+	h1, lo := bits.Mul64(a.lo, w)
+	h2, l2 := bits.Mul64(a.hi, w)
+	hi, c := bits.Add64(l2, h1, 0)
+	return permU128{hi, lo}, h2 != 0 || c != 0
+}
+
+// permSetup is what every worker shares: the doubled rank of each row, the original
+// labels and the comparison rule with the observed statistic.
+type permSetup struct {
+	k      int
+	labels []int32  // the caller's group slice; read only
+	rank2  []uint32 // doubled midrank of each row (< 2^32 since N < 2^31)
+	exact  bool
+	weight []uint64  // L / n_i (exact rule)
+	sizeF  []float64 // n_i as float64 (float rule)
+	obsQ   permU128  // T_obs · L (exact rule)
+	thresh float64   // T_obs · (1 − 1e-12) (float rule)
+}
+
+func (ps *permSetup) comparison() string {
+	if ps.exact {
+		return ComparisonExact
+	}
+	return ComparisonFloat
+}
+
+// newPermSetup checks that r is the Ranking of (group, values, k), finds each row's
+// doubled midrank and decides the comparison rule.
+func newPermSetup(group []int32, values []float64, k int, r *Ranking) (*permSetup, error) {
+	return newPermSetupRule(group, values, k, r, true)
+}
+
+// newPermSetupRule is newPermSetup; allowExact = false forces the float rule (for tests).
+func newPermSetupRule(group []int32, values []float64, k int, r *Ranking, allowExact bool) (*permSetup, error) {
+	if err := checkRanking(r); err != nil {
+		return nil, err
+	}
+	n := len(values)
+	switch {
+	case len(group) != n:
+		return nil, fmt.Errorf("%d group labels for %d values", len(group), n)
+	case r.N != n || r.K != k:
+		return nil, fmt.Errorf("the ranking has N = %d, K = %d; the data N = %d, k = %d", r.N, r.K, n, k)
+	case int64(n) >= 1<<31:
+		return nil, fmt.Errorf("%d observations; at most 2^31 - 1 are supported", n)
+	}
+	if len(r.Blocks) < 2 {
+		return nil, ErrAllTied
+	}
+	rank2, err := permRowRanks(group, values, r)
+	if err != nil {
+		return nil, err
+	}
+	ps := &permSetup{k: k, labels: group, rank2: rank2}
+
+	// Exact rule if L · Σ d² < 2^128, where L = lcm(n_i) must fit in 64 bits.
+	ps.exact = allowExact
+	lcm := uint64(1)
+	for _, c := range r.Counts {
+		if !ps.exact {
+			break
+		}
+		g := permGCD(lcm, uint64(c))
+		hi, lo := bits.Mul64(lcm/g, uint64(c))
+		if hi != 0 {
+			ps.exact = false
+			break
+		}
+		lcm = lo
+	}
+	if ps.exact {
+		var sumSq permU128
+		for _, b := range r.Blocks {
+			d := uint64(b.Rank2)
+			hi, lo := bits.Mul64(uint64(b.Size), d*d) // d < 2^32, so d² fits
+			var of bool
+			if sumSq, of = sumSq.add(permU128{hi, lo}); of {
+				ps.exact = false
+				break
+			}
+		}
+		if _, of := sumSq.mul64(lcm); of {
+			ps.exact = false
+		}
+	}
+	sums := make([]uint64, k)
+	for j, g := range group {
+		sums[g] += uint64(rank2[j])
+	}
+	if ps.exact {
+		ps.weight = make([]uint64, k)
+		for i, c := range r.Counts {
+			ps.weight[i] = lcm / uint64(c)
+		}
+		ps.obsQ = ps.exactQ(sums)
+	} else {
+		ps.sizeF = make([]float64, k)
+		for i, c := range r.Counts {
+			ps.sizeF[i] = float64(c)
+		}
+		ps.thresh = float64(ps.floatT(sums) * (1 - permutationRelTol))
+	}
+	return ps, nil
+}
+
+func permGCD(a, b uint64) uint64 {
+	for b != 0 {
+		a, b = b, a%b
+	}
+	return a
+}
+
+// exactQ is T·L = Σ_i S_i² · (L/n_i); newPermSetup has checked that it cannot overflow.
+func (ps *permSetup) exactQ(sums []uint64) permU128 {
+	var q permU128
+	for i, s := range sums {
+		hi, lo := bits.Mul64(s, s)
+		t, _ := permU128{hi, lo}.mul64(ps.weight[i])
+		q, _ = q.add(t)
+	}
+	return q
+}
+
+// floatT is T = Σ_i S_i² / n_i in float64, summed in group order; the explicit
+// conversions keep the compiler from fusing operations differently across platforms.
+func (ps *permSetup) floatT(sums []uint64) float64 {
+	t := 0.0
+	for i, s := range sums {
+		f := float64(s)
+		t += float64(f*f) / ps.sizeF[i]
+	}
+	return t
+}
+
+// exceeds reports whether the statistic of sums is at least the observed one.
+func (ps *permSetup) exceeds(sums []uint64) bool {
+	if ps.exact {
+		return !ps.exactQ(sums).less(ps.obsQ)
+	}
+	return ps.floatT(sums) >= ps.thresh
+}
+
+// permRowRanks returns the doubled midrank of each row: one k-way merge of r.Sorted
+// assigns a doubled rank to every sorted position, then each row's value is found in
+// its group by binary search. It fails when a row's group or value does not match r.
+func permRowRanks(group []int32, values []float64, r *Ranking) ([]uint32, error) {
+	n, k := r.N, r.K
+	off := make([]int, k+1)
+	for i, c := range r.Counts {
+		if len(r.Sorted) != k || len(r.Sorted[i]) != c {
+			return nil, errors.New("the ranking's sorted groups do not match its group sizes")
+		}
+		off[i+1] = off[i] + c
+	}
+	atSorted := make([]uint32, n)
+	scratch := make([]int, 4*k)
+	mg := merger{sorted: r.Sorted, pos: scratch[:k], heap: scratch[k : 2*k], runs: scratch[2*k : 3*k], runLen: scratch[3*k:]}
+	var below int64
+	j := 0
+	for mg.init(); mg.size > 0; j++ {
+		t := mg.next()
+		d := 2*below + int64(t) + 1
+		if j >= len(r.Blocks) || r.Blocks[j] != (Block{Rank2: d, Size: t}) {
+			return nil, errors.New("the ranking's tie blocks do not match its sorted values")
+		}
+		for i, g := range mg.runs[:mg.nruns] {
+			end := off[g] + mg.pos[g]
+			for p := end - mg.runLen[i]; p < end; p++ {
+				atSorted[p] = uint32(d)
+			}
+		}
+		below += int64(t)
+	}
+	if j != len(r.Blocks) {
+		return nil, errors.New("the ranking's tie blocks do not match its sorted values")
+	}
+
+	rank2 := make([]uint32, n)
+	sums := make([]int64, k)
+	for row, g := range group {
+		if g < 0 || int(g) >= k {
+			return nil, fmt.Errorf("observation %d: group index %d is outside [0, %d)", row, g, k)
+		}
+		p, found := slices.BinarySearch(r.Sorted[g], values[row])
+		if !found {
+			return nil, fmt.Errorf("observation %d: value %v is not in the ranking of group %d", row, values[row], g)
+		}
+		rank2[row] = atSorted[off[g]+p]
+		sums[g] += int64(rank2[row])
+	}
+	if !slices.Equal(sums, r.RankSum2) {
+		return nil, errors.New("the ranking's rank sums do not match the data")
+	}
+	return rank2, nil
+}
+
+// run draws the resamples of opt on the workers and returns the number of exceedances.
+func (ps *permSetup) run(ctx context.Context, opt PermutationOptions) (int64, error) {
+	m := opt.Resamples
+	blocks := (m-1)/PermutationBlockSize + 1
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	workers = int(min(int64(workers), blocks))
+
+	var next atomic.Int64
+	counts := make([]int64, workers)
+	errs := make([]error, workers)
+	var wg sync.WaitGroup
+	for w := range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			a := make([]int32, len(ps.labels))
+			sums := make([]uint64, ps.k)
+			for {
+				j := next.Add(1) - 1
+				if j >= blocks {
+					return
+				}
+				start := j * PermutationBlockSize
+				end := min(start+PermutationBlockSize, m)
+				c, err := ps.block(ctx, opt, uint64(j), end-start, a, sums)
+				if err != nil {
+					errs[w] = err
+					next.Store(blocks) // stop the other workers at their next block
+					return
+				}
+				counts[w] += c
+			}
+		}()
+	}
+	wg.Wait()
+	if err := errors.Join(errs...); err != nil {
+		return 0, err
+	}
+	var b int64
+	for _, c := range counts {
+		b += c
+	}
+	return b, nil
+}
+
+// block draws the count resamples of block j into the scratch buffers a (len N) and
+// sums (len k) and returns how many exceed the observed statistic.
+func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64, count int64, a []int32, sums []uint64) (int64, error) {
+	copy(a, ps.labels)
+	s := stream.New(stream.Key(PermutationPurpose, opt.Seed, opt.AnalysisID, j))
+	done := ctx.Done()
+	d := ps.rank2
+	var exceed int64
+	for range count {
+		select {
+		case <-done:
+			return 0, ctx.Err()
+		default:
+		}
+		// Fisher-Yates exactly as stream.ShuffleInt32, adding each position's rank to
+		// its group as soon as the position's label is final.
+		clear(sums)
+		for i := len(a) - 1; i > 0; i-- {
+			x := s.Below(uint64(i) + 1)
+			a[i], a[x] = a[x], a[i]
+			sums[a[i]] += uint64(d[i])
+		}
+		sums[a[0]] += uint64(d[0])
+		if ps.exceeds(sums) {
+			exceed++
+		}
+	}
+	return exceed, nil
+}
