@@ -1,0 +1,184 @@
+package stats
+
+import (
+	"cmp"
+	"fmt"
+	"runtime"
+	"slices"
+	"sync"
+
+	"rankplan/stats/stream"
+)
+
+// EpsilonSquared is the rank epsilon-squared of the Kruskal-Wallis test,
+//
+//	E²_R = H (N + 1) / (N² − 1) = H / (N − 1)
+//
+// with H the tie-corrected statistic (Tomczak & Tomczak 2014, Trends in Sport Sciences
+// 1(21):19-25, as summarised in the project's METHODS.md §2). With the tie-corrected H it
+// equals the share of the rank sum of squares that lies between groups, so it lies in
+// [0, 1]. n must be at least 2.
+func EpsilonSquared(h float64, n int) (float64, error) {
+	if n < 2 || !(h >= 0) {
+		return 0, fmt.Errorf("epsilon-squared: need N >= 2 and H >= 0, got N = %d, H = %v", n, h)
+	}
+	return h / float64(n-1), nil
+}
+
+// EtaSquaredH is eta-squared based on H,
+//
+//	η²_H = (H − k + 1) / (N − k)
+//
+// (attributed to Cohen 2008 by Tomczak & Tomczak 2014; METHODS.md §2). It is negative
+// whenever H < k − 1, and is reported as it is, not floored at 0. It is undefined when
+// N = k (every group holds one observation): that gives an error.
+func EtaSquaredH(h float64, n, k int) (float64, error) {
+	if k < 2 || n <= k || !(h >= 0) {
+		return 0, fmt.Errorf("eta-squared (H): need N > k >= 2 and H >= 0, got N = %d, k = %d, H = %v", n, k, h)
+	}
+	return (h - float64(k) + 1) / float64(n-k), nil
+}
+
+// BootstrapBlockSize is the number of bootstrap resamples drawn from one stream block.
+// It is part of the reproducibility contract: changing it changes every interval.
+const BootstrapBlockSize = 256
+
+// BootstrapPurpose labels the stream of the effect-size bootstrap (see package stream).
+const BootstrapPurpose = "kw-effect-bootstrap"
+
+// BootstrapOptions configure [KruskalWallisBootstrap].
+type BootstrapOptions struct {
+	Seed       uint64
+	AnalysisID string
+	Resamples  int64   // at least 1
+	Level      float64 // confidence level, in (0, 1)
+	Workers    int     // 0 or less: runtime.GOMAXPROCS(0); the result does not depend on it
+}
+
+// Bootstrap is a percentile bootstrap interval of the tie-corrected H, from which the
+// intervals of [EpsilonSquared] and [EtaSquaredH] follow (both are increasing affine
+// functions of H, so their interval ends are those functions of the H interval ends).
+type Bootstrap struct {
+	Level      float64
+	Resamples  int64
+	HLow       float64 // type 7 quantile of the bootstrap H* at (1 − Level)/2
+	HHigh      float64 // type 7 quantile at (1 + Level)/2
+	Degenerate int64   // resamples in which every value was tied; their H* counts as 0
+}
+
+// KruskalWallisBootstrap draws a percentile bootstrap of H* by resampling within groups:
+// resample b draws, for each group i in order, n_i values with replacement from group i's
+// sorted values (r.Sorted[i]), ranks the pooled resample and computes H* as
+// [KruskalWallisTest] does. A resample whose values are all tied has no H; it counts as
+// H* = 0 (the groups are then identical) and is counted in Degenerate.
+//
+// The draws follow the stream rules of package stream: resamples are cut into blocks of
+// [BootstrapBlockSize]; block j draws from stream.New(stream.Key(BootstrapPurpose, Seed,
+// AnalysisID, j)), one stream.Below(n_i) per drawn value, groups in order, resamples in
+// order. Blocks run on Workers goroutines; each resample's H* is stored at its index, so
+// the result is identical for any number of workers. The interval is the type 7 quantile
+// pair (Hyndman & Fan 1996) of the sorted H* values at (1 ∓ Level)/2 (percentile method;
+// Efron & Tibshirani 1993, An Introduction to the Bootstrap, ch. 13, recalled from memory).
+func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error) {
+	if err := checkRanking(r); err != nil {
+		return Bootstrap{}, fmt.Errorf("bootstrap: %w", err)
+	}
+	if opt.Resamples < 1 {
+		return Bootstrap{}, fmt.Errorf("bootstrap: need at least 1 resample, got %d", opt.Resamples)
+	}
+	if !(opt.Level > 0 && opt.Level < 1) {
+		return Bootstrap{}, fmt.Errorf("bootstrap: level must lie in (0, 1), got %v", opt.Level)
+	}
+	m := opt.Resamples
+	hs := make([]float64, m)
+	degenerate := make([]bool, m)
+	blocks := (m + BootstrapBlockSize - 1) / BootstrapBlockSize
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	workers = int(min(int64(workers), blocks))
+
+	next := make(chan int64)
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			w := newBootWorker(r)
+			for j := range next {
+				s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
+				for b := j * BootstrapBlockSize; b < min((j+1)*BootstrapBlockSize, m); b++ {
+					hs[b], degenerate[b] = w.resample(s)
+				}
+			}
+		}()
+	}
+	for j := int64(0); j < blocks; j++ {
+		next <- j
+	}
+	close(next)
+	wg.Wait()
+
+	out := Bootstrap{Level: opt.Level, Resamples: m}
+	for _, d := range degenerate {
+		if d {
+			out.Degenerate++
+		}
+	}
+	slices.Sort(hs)
+	out.HLow = type7(hs, float64(1-opt.Level)/2)
+	out.HHigh = type7(hs, float64(1+opt.Level)/2)
+	return out, nil
+}
+
+// bootWorker holds one goroutine's scratch buffers, so that a resample allocates nothing.
+type bootWorker struct {
+	r        *Ranking
+	pairs    []bootPair
+	rankSum2 []int64
+	blocks   []Block
+}
+
+type bootPair struct {
+	v float64
+	g int32
+}
+
+func newBootWorker(r *Ranking) *bootWorker {
+	return &bootWorker{r: r, pairs: make([]bootPair, r.N), rankSum2: make([]int64, r.K), blocks: make([]Block, 0, r.N)}
+}
+
+func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool) {
+	r := w.r
+	p := w.pairs[:0]
+	for i, vals := range r.Sorted {
+		n := uint64(len(vals))
+		for range vals {
+			p = append(p, bootPair{vals[s.Below(n)], int32(i)})
+		}
+	}
+	slices.SortFunc(p, func(a, b bootPair) int { return cmp.Compare(a.v, b.v) })
+	clear(w.rankSum2)
+	w.blocks = w.blocks[:0]
+	var below int64
+	for i := 0; i < len(p); {
+		j := i + 1
+		for j < len(p) && p[j].v == p[i].v {
+			j++
+		}
+		t := int64(j - i)
+		d := 2*below + t + 1
+		for _, q := range p[i:j] {
+			w.rankSum2[q.g] += d
+		}
+		w.blocks = append(w.blocks, Block{Rank2: d, Size: int(t)})
+		below += t
+		i = j
+	}
+	_, hStar, c := tieCorrectedH(r.N, r.Counts, w.rankSum2, w.blocks)
+	if !(c > 0) {
+		return 0, true
+	}
+	return hStar, false
+}

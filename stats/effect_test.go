@@ -1,0 +1,154 @@
+package stats
+
+import (
+	"encoding/json"
+	"math"
+	"os"
+	"testing"
+)
+
+// PlantGrowth (Dobson 1983): H* = 7.988229, epsilon-squared 0.275456 and eta-squared(H)
+// 0.221786, all from METHODS.md §1.1 and §2, verified there with scipy 1.10.1.
+func TestEffectSizesPlantGrowth(t *testing.T) {
+	const h = 7.988228749443715 // scipy 1.10.1 stats.kruskal, testdata/reference/kruskal_scipy.json
+	eps, err := EpsilonSquared(h, 30)
+	if err != nil || math.Abs(eps-0.275456) > 5e-7 {
+		t.Errorf("epsilon-squared %v %v, want 0.275456", eps, err)
+	}
+	eta, err := EtaSquaredH(h, 30, 3)
+	if err != nil || math.Abs(eta-0.221786) > 5e-7 {
+		t.Errorf("eta-squared(H) %v %v, want 0.221786", eta, err)
+	}
+}
+
+func TestEffectSizesEdges(t *testing.T) {
+	// Negative eta-squared is reported as it is: (0.771429 - 2)/11 (METHODS.md §2).
+	if eta, _ := EtaSquaredH(0.771429, 14, 3); math.Abs(eta-(0.771429-2)/11) > 1e-15 || eta >= 0 {
+		t.Errorf("eta %v", eta)
+	}
+	for _, tc := range []struct {
+		h    float64
+		n, k int
+	}{{1, 3, 3}, {1, 2, 3}, {math.NaN(), 10, 3}, {-1, 10, 3}, {1, 10, 1}} {
+		if _, err := EtaSquaredH(tc.h, tc.n, tc.k); err == nil {
+			t.Errorf("EtaSquaredH(%v, %d, %d): no error", tc.h, tc.n, tc.k)
+		}
+	}
+	if _, err := EpsilonSquared(1, 1); err == nil {
+		t.Error("EpsilonSquared with N = 1: no error")
+	}
+	if e, _ := EpsilonSquared(3, 4); e != 1 {
+		t.Errorf("perfect separation gives %v, want 1", e)
+	}
+}
+
+func bootRanking(t *testing.T, groups [][]float64) *Ranking {
+	t.Helper()
+	var g []int32
+	var v []float64
+	for i, xs := range groups {
+		for _, x := range xs {
+			g = append(g, int32(i))
+			v = append(v, x)
+		}
+	}
+	r, err := Rank(g, v, len(groups))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return r
+}
+
+// TestBootstrapReference replays the bootstrap against an independent implementation:
+// stats/testdata/bootstrap/kw_bootstrap_ref.py (its own stream code, scipy 1.10.1
+// stats.kruskal for H*, numpy 1.24.2 percentile for the interval ends).
+func TestBootstrapReference(t *testing.T) {
+	b, err := os.ReadFile("testdata/bootstrap/kw_bootstrap_ref.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref struct {
+		Designs []struct {
+			Name       string
+			Seed       uint64
+			AnalysisID string `json:"analysis_id"`
+			Resamples  int64
+			Level      float64
+			Groups     [][]float64
+			HLow       float64 `json:"h_low"`
+			HHigh      float64 `json:"h_high"`
+			Degenerate int64
+		}
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	if len(ref.Designs) < 3 {
+		t.Fatalf("only %d designs", len(ref.Designs))
+	}
+	for _, d := range ref.Designs {
+		r := bootRanking(t, d.Groups)
+		for _, workers := range []int{1, 2, 3, 8} {
+			got, err := KruskalWallisBootstrap(r, BootstrapOptions{Seed: d.Seed, AnalysisID: d.AnalysisID,
+				Resamples: d.Resamples, Level: d.Level, Workers: workers})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !closeRel(got.HLow, d.HLow, 1e-12) || !closeRel(got.HHigh, d.HHigh, 1e-12) || got.Degenerate != d.Degenerate {
+				t.Errorf("%s workers=%d: [%v, %v] degenerate %d; reference [%v, %v] %d",
+					d.Name, workers, got.HLow, got.HHigh, got.Degenerate, d.HLow, d.HHigh, d.Degenerate)
+			}
+		}
+	}
+}
+
+func closeRel(a, b, rel float64) bool {
+	return a == b || math.Abs(a-b) <= rel*math.Max(math.Abs(a), math.Abs(b))
+}
+
+func TestBootstrapStreams(t *testing.T) {
+	r := bootRanking(t, [][]float64{{1.5, 2.25, 3, 8}, {4, 5.5, 6, 7, 9}, {0.5, 10, 11}})
+	opt := BootstrapOptions{Seed: 1, AnalysisID: "a", Resamples: 1000, Level: 0.95}
+	base, err := KruskalWallisBootstrap(r, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt.Seed = 2
+	other, _ := KruskalWallisBootstrap(r, opt)
+	opt.Seed, opt.AnalysisID = 1, "b"
+	otherID, _ := KruskalWallisBootstrap(r, opt)
+	if base == other || base == otherID {
+		t.Errorf("seed or analysis id did not change the stream: %+v %+v %+v", base, other, otherID)
+	}
+	if !(base.HLow <= base.HHigh) || base.HLow < 0 || base.HHigh > float64(r.N-1) {
+		t.Errorf("interval %+v", base)
+	}
+	for _, bad := range []BootstrapOptions{{Resamples: 0, Level: 0.95}, {Resamples: 10, Level: 1}, {Resamples: 10, Level: math.NaN()}} {
+		if _, err := KruskalWallisBootstrap(r, bad); err == nil {
+			t.Errorf("%+v: no error", bad)
+		}
+	}
+}
+
+func BenchmarkKruskalWallisBootstrap(b *testing.B) {
+	groups := make([][]float64, 4)
+	for i := range groups {
+		for j := 0; j < 250; j++ {
+			groups[i] = append(groups[i], float64((j*7919+i*31)%500)/10)
+		}
+	}
+	var g []int32
+	var v []float64
+	for i, xs := range groups {
+		for _, x := range xs {
+			g, v = append(g, int32(i)), append(v, x)
+		}
+	}
+	r, _ := Rank(g, v, 4)
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := KruskalWallisBootstrap(r, BootstrapOptions{Seed: 1, AnalysisID: "x", Resamples: 2000, Level: 0.95}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
