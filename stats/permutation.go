@@ -11,8 +11,6 @@ import (
 	"sync"
 	"sync/atomic"
 
-	"gonum.org/v1/gonum/stat/distuv"
-
 	"rankplan/stats/stream"
 )
 
@@ -51,11 +49,10 @@ type Permutation struct {
 	P         float64 // (b + 1) / (m + 1)
 	SE        float64 // sqrt(p̂ (1 − p̂) / m), p̂ = b / m
 	// CILow and CIHigh are the 99% Clopper-Pearson interval for the permutation
-	// p-value that b estimates (b is binomial with m trials). They come from gonum's
-	// Beta quantile, whose relative error grows with m: below max(1e-12, 3e-16·m)
-	// against scipy 1.10.1 stats.beta.ppf (about 1e-11 at m = 10^6, 2e-7 at m = 10^9
-	// with b = 5; gonum's incomplete beta loses accuracy for large parameters).
-	// They describe the Monte Carlo error, so that is far below what matters.
+	// p-value that b estimates (b is binomial with m trials), from [BetaQuantile], whose
+	// results are the same bits on every architecture. Its relative error against scipy
+	// 1.10.1 stats.beta.ppf is below max(1e-12, 1e-17·m) (TestBetaQuantile). They
+	// describe the Monte Carlo error, so that is far below what matters.
 	CILow, CIHigh float64
 	Comparison    string // ComparisonExact or ComparisonFloat: how T* >= T_obs was decided
 }
@@ -108,7 +105,7 @@ type PermutationOptions struct {
 //	CIHigh = Beta⁻¹(0.995; b + 1, m − b)    (1 when b = m)
 //
 // (Clopper & Pearson 1934, Biometrika 26:404-413, citation recalled from memory;
-// quantiles from gonum's distuv.Beta).
+// quantiles from [BetaQuantile]).
 //
 // It returns [ErrAllTied] (wrapped) when every observation is tied, an error when m < 1,
 // when N >= 2^31, when r is not the Ranking of (group, values, k), and ctx's error if ctx
@@ -152,11 +149,16 @@ func permutationSummary(b, m int64) (Permutation, error) {
 		CIHigh:    1,
 	}
 	alpha := 1 - permutationLevel
+	var err error
 	if b > 0 {
-		out.CILow = distuv.Beta{Alpha: fb, Beta: fm - fb + 1}.Quantile(alpha / 2)
+		if out.CILow, err = BetaQuantile(alpha/2, fb, fm-fb+1); err != nil {
+			return Permutation{}, fmt.Errorf("permutation: interval: %w", err)
+		}
 	}
 	if b < m {
-		out.CIHigh = distuv.Beta{Alpha: fb + 1, Beta: fm - fb}.Quantile(1 - alpha/2)
+		if out.CIHigh, err = BetaQuantile(1-alpha/2, fb+1, fm-fb); err != nil {
+			return Permutation{}, fmt.Errorf("permutation: interval: %w", err)
+		}
 	}
 	return out, nil
 }

@@ -1,0 +1,191 @@
+package stats
+
+import (
+	"fmt"
+	"math"
+)
+
+// BetaQuantile returns x with I_x(a, b) = q, the quantile of the Beta(a, b) distribution,
+// for a, b > 0 and q in [0, 1]. Clopper-Pearson intervals use it.
+//
+// It exists, rather than gonum's distuv.Beta.Quantile, so that its result is the same
+// bits on every architecture: every product that feeds a sum is written with an explicit
+// float64 conversion, which the Go specification defines as a rounding point, so no fused
+// multiply-add can change it (gonum's code, compiled with fusion on arm64 and on amd64 with
+// GOAMD64=v3, gave intervals differing in the 14th digit; bench/arch-determinism.sh).
+// The functions of package math it calls (Log, Log1p, Exp, Lgamma) are the remaining
+// dependence on the platform.
+//
+// Method: bisection on [0, 1] for the root of I_x(a, b) − q, until the bracket cannot be
+// halved in float64, so the result is the float64 nearest the root of the computed
+// I_x(a, b) (up to its monotonicity). I_x(a, b) is [RegIncBeta].
+func BetaQuantile(q, a, b float64) (float64, error) {
+	if !(a > 0 && b > 0) || math.IsInf(a, 0) || math.IsInf(b, 0) {
+		return 0, fmt.Errorf("beta quantile: shape parameters must be positive and finite, got %v, %v", a, b)
+	}
+	if !(q >= 0 && q <= 1) {
+		return 0, fmt.Errorf("beta quantile: probability must lie in [0, 1], got %v", q)
+	}
+	if q == 0 {
+		return 0, nil
+	}
+	if q == 1 {
+		return 1, nil
+	}
+	lo, hi := 0.0, 1.0
+	for range 2200 {
+		mid := lo + float64(hi-lo)/2
+		if mid == lo || mid == hi {
+			break
+		}
+		if RegIncBeta(mid, a, b) < q {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	// The bracket is one ulp wide: take the end whose I_x is nearer q.
+	if math.Abs(RegIncBeta(lo, a, b)-q) < math.Abs(RegIncBeta(hi, a, b)-q) {
+		return lo, nil
+	}
+	return hi, nil
+}
+
+// RegIncBeta is the regularized incomplete beta function
+//
+//	I_x(a, b) = (1/B(a, b)) ∫_0^x t^(a−1) (1 − t)^(b−1) dt
+//
+// for a, b > 0 and 0 <= x <= 1, from its continued fraction (DLMF 8.17.22), evaluated by
+// the modified Lentz method, on the side x < (a + 1)/(a + b + 2) where it converges fast,
+// and by I_x(a, b) = 1 − I_{1−x}(b, a) on the other (Numerical Recipes, Press et al. 2007,
+// §6.4, recalled from memory). The prefactor x^a (1 − x)^b / B(a, b) is computed in log
+// space with Stirling's series for large a and b, written relative to x0 = a/(a + b) so
+// that no large logarithms cancel (the approach of Didonato & Morris 1992, ACM TOMS 18:360,
+// recalled from memory).
+func RegIncBeta(x, a, b float64) float64 {
+	switch {
+	case x <= 0:
+		return 0
+	case x >= 1:
+		return 1
+	}
+	return regIncBeta(x, 1-x, a, b)
+}
+
+// regIncBeta is I_x(a, b) with y = 1 − x passed along, so that the side that was given
+// exactly keeps its digits when the other is formed by the subtraction: logarithms and
+// differences are taken from whichever of x and y is below 1/2. The continued fraction is
+// used where it converges fast, x <= (a+1)/(a+b+2), and the reflection I_x(a, b) =
+// 1 − I_y(b, a) elsewhere.
+//
+// Accuracy (TestBetaQuantile, against scipy 1.10.1 on the Clopper-Pearson grid): relative
+// error below max(1e-12, 1e-17·max(a, b)); about 1e-15 while both are below 10^5. For the upper
+// quantiles of Beta(a, b) with small a and very large b the reflected fraction has an
+// argument near 1, its denominators partly cancel, and the error grows to about 1e-17·b
+// (7.4e-11 at b = 10^7, 4.8e-9 at b = 10^9); our own finding.
+func regIncBeta(x, y, a, b float64) float64 {
+	if x > float64(a+1)/float64(a+b+2) {
+		return 1 - regIncBeta(y, x, b, a)
+	}
+	return math.Exp(logBetaPrefactor(x, y, a, b)) * betaCF(x, y, a, b) / a
+}
+
+// betaCF evaluates the continued fraction of I_x(a, b) (DLMF 8.17.22) by modified Lentz;
+// y = 1 − x. Its first denominator 1 − (a+b)x/(a+1) cancels near the switch point
+// x = (a+1)/(a+b+2), so for x >= 1/2 it is formed from y as ((1 − b) + (a+b)y)/(a+1).
+func betaCF(x, y, a, b float64) float64 {
+	const tiny = 1e-300
+	qab, qap, qam := a+b, a+1, a-1
+	c := 1.0
+	d := 1 - float64(qab*x)/qap
+	if x >= 0.5 {
+		d = float64(float64(1-b)+float64(qab*y)) / qap
+	}
+	if math.Abs(d) < tiny {
+		d = tiny
+	}
+	d = 1 / d
+	h := d
+	for m := 1; m <= 1_000_000; m++ {
+		fm := float64(m)
+		m2 := 2 * fm
+		aa := float64(fm*float64(b-fm)) * x / float64(float64(qam+m2)*float64(a+m2))
+		d = 1 + float64(aa*d)
+		if math.Abs(d) < tiny {
+			d = tiny
+		}
+		c = 1 + aa/c
+		if math.Abs(c) < tiny {
+			c = tiny
+		}
+		d = 1 / d
+		h = float64(h * float64(d*c))
+		aa = -float64(float64(a+fm)*float64(qab+fm)) * x / float64(float64(a+m2)*float64(qap+m2))
+		d = 1 + float64(aa*d)
+		if math.Abs(d) < tiny {
+			d = tiny
+		}
+		c = 1 + aa/c
+		if math.Abs(c) < tiny {
+			c = tiny
+		}
+		d = 1 / d
+		del := float64(d * c)
+		h = float64(h * del)
+		if math.Abs(del-1) <= 1e-16 {
+			break
+		}
+	}
+	return h
+}
+
+// stirlingTail is δ(z) = ln Γ(z) − [(z − 1/2) ln z − z + ln(2π)/2], the remainder of
+// Stirling's series; for z >= 10 its first four terms (error below 1e-12).
+func stirlingTail(z float64) float64 {
+	if z < 10 {
+		lg, _ := math.Lgamma(z)
+		return lg - (float64(float64(z-0.5)*math.Log(z)) - z + 0.5*math.Log(2*math.Pi))
+	}
+	z2 := float64(z * z)
+	return (1.0/12 - (1.0/360-(1.0/1260-1.0/float64(1680*z2))/z2)/z2) / z
+}
+
+// logBetaPrefactor is ln[x^a y^b / B(a, b)] with y = 1 − x (see regIncBeta).
+func logBetaPrefactor(x, y, a, b float64) float64 {
+	lnx, lny := math.Log(x), math.Log(y)
+	if x >= 0.5 {
+		lnx = math.Log1p(-y)
+	} else {
+		lny = math.Log1p(-x)
+	}
+	if a >= 10 && b >= 10 {
+		// Stirling's series for the three ln Γ gives, with s = a + b, x0 = a/s, y0 = b/s,
+		//	x^a (1−x)^b / B(a,b) = (x/x0)^a ((1−x)/y0)^b sqrt(ab/(2π s)) e^(δ(s) − δ(a) − δ(b)).
+		s := a + b
+		x0, y0 := a/s, b/s
+		diff := x - x0 // = y0 − y; taken from the side given exactly
+		if x >= 0.5 {
+			diff = y0 - y
+		}
+		u := float64(a*math.Log1p(diff/x0)) + float64(b*math.Log1p(-diff/y0))
+		return u + 0.5*math.Log(float64(a*b)/float64(2*math.Pi*s)) + stirlingTail(s) - stirlingTail(a) - stirlingTail(b)
+	}
+	return float64(a*lnx) + float64(b*lny) - logBeta(a, b)
+}
+
+// logBeta is ln B(a, b) = ln Γ(a) + ln Γ(b) − ln Γ(a + b) for the case where one of a, b
+// is below 10; the large one's ratio ln Γ(big) − ln Γ(small + big) is taken from
+// Stirling's series so that two large logarithms do not cancel.
+func logBeta(a, b float64) float64 {
+	small, big := min(a, b), max(a, b)
+	lgs, _ := math.Lgamma(small)
+	if big < 10 {
+		lgb, _ := math.Lgamma(big)
+		lgab, _ := math.Lgamma(a + b)
+		return lgs + lgb - lgab
+	}
+	// ln Γ(big) − ln Γ(small+big) = −small·ln big − (small + big − 1/2)·log1p(small/big) + small + δ(big) − δ(small+big)
+	ratio := -float64(small*math.Log(big)) - float64(float64(small+big-0.5)*math.Log1p(small/big)) + small +
+		stirlingTail(big) - stirlingTail(small+big)
+	return lgs + ratio
+}
