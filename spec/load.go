@@ -153,9 +153,6 @@ func (p *Plan) check() ErrorList {
 				add(at+".pvalue.resamples", "applies only to the methods permutation and auto, not %q", m)
 			}
 		}
-		if m := a.PValue.Method; m != Asymptotic {
-			add(at+".pvalue.method", "%q is %s; use \"asymptotic\"", m, notImplemented)
-		}
 		ph := a.PostHoc
 		if ph.Method == NoPostHoc {
 			if ph.Adjust != NoAdjustment {

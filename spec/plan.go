@@ -126,13 +126,26 @@ type Groups struct {
 
 // Analysis is one analysis of one outcome.
 type Analysis struct {
-	ID      string      `json:"id"`
-	Title   string      `json:"title,omitempty"`
-	Test    Test        `json:"test"`
-	Outcome string      `json:"outcome"` // default: the plan's data.outcome
-	PValue  PValue      `json:"pvalue"`
-	PostHoc PostHocPlan `json:"posthoc"`
+	ID         string      `json:"id"`
+	Title      string      `json:"title,omitempty"`
+	Test       Test        `json:"test"`
+	Outcome    string      `json:"outcome"` // default: the plan's data.outcome
+	PValue     PValue      `json:"pvalue"`
+	EffectSize EffectSize  `json:"effect_size"`
+	PostHoc    PostHocPlan `json:"posthoc"`
 }
+
+// EffectSize is how an analysis reports its omnibus effect sizes.
+type EffectSize struct {
+	Level     float64 `json:"level"`     // confidence level of the intervals; default 0.95
+	Resamples *int64  `json:"resamples"` // bootstrap resamples; 0: no intervals; default 2000
+}
+
+// Default effect-size settings (part of plan format 1).
+const (
+	DefaultEffectLevel     = 0.95
+	DefaultEffectResamples = 2000
+)
 
 // PValue is how an analysis computes its omnibus p-value.
 type PValue struct {
@@ -196,6 +209,13 @@ func (p *Plan) applyDefaults() {
 		a := &p.Analyses[i]
 		if a.Outcome == "" {
 			a.Outcome = p.Data.Outcome
+		}
+		if a.EffectSize.Level == 0 {
+			a.EffectSize.Level = DefaultEffectLevel
+		}
+		if a.EffectSize.Resamples == nil {
+			n := int64(DefaultEffectResamples)
+			a.EffectSize.Resamples = &n
 		}
 		if a.PostHoc.Method == "" {
 			a.PostHoc.Method = NoPostHoc

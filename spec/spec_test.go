@@ -52,7 +52,8 @@ func TestParseGood(t *testing.T) {
 		t.Errorf("data defaults: %+v", p.Data)
 	}
 	a := p.Analyses[0]
-	if a.Outcome != "y" || a.PostHoc.Method != NoPostHoc || a.PostHoc.Adjust != NoAdjustment {
+	if a.Outcome != "y" || a.PostHoc.Method != NoPostHoc || a.PostHoc.Adjust != NoAdjustment ||
+		a.EffectSize.Level != 0.95 || *a.EffectSize.Resamples != 2000 {
 		t.Errorf("analysis defaults: %+v", a)
 	}
 	if p.Seed != 42 || p.Alpha != 0.05 {
@@ -136,8 +137,11 @@ func TestParseErrors(t *testing.T) {
 		{"resamples needed", edit(t, "method: asymptotic", "method: permutation"),
 			[]string{
 				`plan.yaml:13:5: analyses[0].pvalue: method "permutation" needs resamples, the number of Monte Carlo resamples (e.g. 100000)`,
-				`plan.yaml:14:15: analyses[0].pvalue.method: "permutation" is not implemented yet in this version of rankplan; use "asymptotic"`,
 			}},
+		{"resamples not used", edit(t, "method: asymptotic", "method: exact\nresamples: 1000"),
+			[]string{`plan.yaml:15:18: analyses[0].pvalue.resamples: applies only to the methods permutation and auto, not "exact"`}},
+		{"effect level", goodPlan + "    effect_size: {level: 95}\n",
+			[]string{"plan.yaml:15:26: analyses[0].effect_size.level: expected a value > 0 and < 1; found 95"}},
 		{"not implemented test", edit(t, "test: kruskal-wallis", "test: median"),
 			[]string{`plan.yaml:12:11: analyses[0].test: "median" is not implemented yet in this version of rankplan; use "kruskal-wallis"`}},
 		{"adjust without posthoc", goodPlan + "    posthoc: {adjust: holm}\n",
