@@ -2,6 +2,7 @@ package runner
 
 import (
 	"bufio"
+	"context"
 	"fmt"
 	"math/rand/v2"
 	"os"
@@ -48,7 +49,7 @@ func BenchmarkRunPlan(b *testing.B) {
 				if err != nil {
 					b.Fatal(err)
 				}
-				if _, err := Execute(prep); err != nil {
+				if _, err := Execute(context.Background(), prep, Options{}); err != nil {
 					b.Fatal(err)
 				}
 			}

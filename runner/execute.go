@@ -1,12 +1,17 @@
 package runner
 
 import (
+	"context"
 	"errors"
 	"fmt"
+	"math"
+	"strconv"
+	"strings"
 
 	"rankplan/runner/results"
 	"rankplan/spec"
 	"rankplan/stats"
+	"rankplan/stats/stream"
 )
 
 // smallestNormal is the smallest positive normal float64. A p-value below it is reported
@@ -18,11 +23,22 @@ var Conventions = results.Conventions{
 	Ranks:     "midranks for ties; values are compared as IEEE 754 doubles (-0 ties with 0)",
 	Quantiles: "Hyndman & Fan (1996) type 7: linear interpolation between order statistics at h = (n - 1)p",
 	Decision:  "reject the null hypothesis when p <= alpha",
+	RandomStream: "ChaCha8Rand (C2SP chacha8rand) per block; block key = SHA-256(" + stream.Label +
+		" || 0x00 || purpose || 0x00 || seed as 8 bytes big-endian || analysis id length as 4 bytes big-endian || analysis id || block index as 8 bytes big-endian); " +
+		"bounded integers by Lemire's method, shuffles by Fisher-Yates, resampling by uniform indices (specified step by step in rankplan's stats/stream package documentation)",
+}
+
+// Options are the settings of a run that do not change its results.
+type Options struct {
+	// Workers is the number of goroutines for resampling; 0 or less means one per core.
+	// Results are identical for every value.
+	Workers int
 }
 
 // Execute runs every analysis of a prepared plan and assembles the results. It reads no
-// files and depends on nothing but its input, so the same input gives the same results.
-func Execute(prep *Prepared) (*results.Results, error) {
+// files and depends on nothing but its input, so the same input gives the same results,
+// whatever opt holds.
+func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results, error) {
 	p := prep.Plan
 	res := &results.Results{
 		Format:      results.Format,
@@ -32,8 +48,12 @@ func Execute(prep *Prepared) (*results.Results, error) {
 		Analyses:    make([]results.Analysis, 0, len(prep.Analyses)),
 	}
 	for i := range prep.Analyses {
-		a, err := analyse(p, &prep.Analyses[i])
+		a, err := analyse(ctx, p, i, &prep.Analyses[i], opt)
 		if err != nil {
+			var ie *InputError
+			if errors.As(err, &ie) {
+				return nil, err
+			}
 			return nil, fmt.Errorf("analysis %q: %w", prep.Analyses[i].Analysis.ID, err)
 		}
 		res.Analyses = append(res.Analyses, a)
@@ -41,7 +61,7 @@ func Execute(prep *Prepared) (*results.Results, error) {
 	return res, nil
 }
 
-func analyse(p *spec.Plan, in *Input) (results.Analysis, error) {
+func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Options) (results.Analysis, error) {
 	a := in.Analysis
 	out := results.Analysis{
 		ID:       a.ID,
@@ -91,12 +111,139 @@ func analyse(p *spec.Plan, in *Input) (results.Analysis, error) {
 		H: kw.H, HUncorrected: kw.HUncorrected, TieCorrection: kw.TieCorrection, DF: kw.DF,
 		TieBlocks: blocks, TiedValues: tied,
 	}
-	pv := &results.PValue{Method: string(spec.Asymptotic), Log10: kw.Log10P}
-	if kw.P >= smallestNormal {
-		v := kw.P
-		pv.Value = &v
+	out.AsymptoticP = tail(kw.P, kw.Log10P)
+	pv, err := pValue(ctx, p, index, in, r, kw, opt)
+	if err != nil {
+		return out, err
 	}
 	out.PValue = pv
-	out.Decision = &results.Decision{Alpha: p.Alpha, Reject: kw.P <= p.Alpha}
+	reject := pv.Log10 <= math.Log10(p.Alpha)
+	if pv.Value != nil {
+		reject = *pv.Value <= p.Alpha
+	}
+	out.Decision = &results.Decision{Alpha: p.Alpha, Reject: reject}
+	es, err := effectSizes(p, in, r, kw, opt)
+	if err != nil {
+		return out, err
+	}
+	out.EffectSizes = es
 	return out, nil
+}
+
+// tail writes a p-value and its log10; the value is left out (null) below the smallest
+// normal double, where only the log10 keeps its digits.
+func tail(p, log10p float64) *results.Tail {
+	t := &results.Tail{Log10: log10p}
+	if p >= smallestNormal {
+		v := p
+		t.Value = &v
+	}
+	return t
+}
+
+// pValue computes the p-value of the plan's method. This switch is the one place where a
+// p-value method named in a plan meets its function in package stats.
+func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ranking, kw stats.KruskalWallis, opt Options) (*results.PValue, error) {
+	a := in.Analysis
+	pv := &results.PValue{Requested: string(a.PValue.Method)}
+	budget := stats.DefaultExactBudget
+	exact := func() error {
+		ex, err := stats.KruskalWallisExact(r, budget)
+		if err != nil {
+			return err
+		}
+		t := tail(ex.P, math.Log10(ex.P))
+		pv.Method, pv.Value, pv.Log10 = string(spec.Exact), t.Value, t.Log10
+		pv.Exact = &results.ExactWork{PeakStates: ex.States, Work: ex.Work, BudgetStates: budget.MaxStates, BudgetWork: budget.MaxWork}
+		return nil
+	}
+	switch a.PValue.Method {
+	case spec.Asymptotic:
+		pv.Method, pv.Reason = string(spec.Asymptotic), "the plan asks for the asymptotic chi-square reference distribution"
+		pv.Value, pv.Log10 = tail(kw.P, kw.Log10P).Value, kw.Log10P
+		return pv, nil
+	case spec.Exact:
+		if err := exact(); err != nil {
+			if errors.Is(err, stats.ErrExactBudget) {
+				return nil, &InputError{Err: spec.ErrorList{p.Errorf(fmt.Sprintf("analyses.%d.pvalue.method", index),
+					"the exact p-value of this design does not fit the work budget (%v); use method auto or permutation", err)}}
+			}
+			return nil, err
+		}
+		pv.Reason = "the plan asks for the exact permutation distribution given the ties"
+		return pv, nil
+	case spec.Auto:
+		err := exact()
+		if err == nil {
+			pv.Reason = fmt.Sprintf("auto: the exact distribution fits the work budget (peak %d of %d states, %d of %d units of work)",
+				pv.Exact.PeakStates, budget.MaxStates, pv.Exact.Work, budget.MaxWork)
+			return pv, nil
+		}
+		if !errors.Is(err, stats.ErrExactBudget) {
+			return nil, err
+		}
+		pv.Reason = fmt.Sprintf("auto: Monte Carlo with the plan's %d resamples, since the exact distribution does not fit the work budget (%s)",
+			a.PValue.Resamples, strings.TrimPrefix(err.Error(), stats.ErrExactBudget.Error()+": "))
+	case spec.Permutation:
+		pv.Reason = "the plan asks for a Monte Carlo permutation p-value"
+	default:
+		return nil, fmt.Errorf("p-value method %q has no implementation", a.PValue.Method)
+	}
+	mc, err := stats.KruskalWallisPermutation(ctx, in.Group, in.Values, len(in.Groups), r, stats.PermutationOptions{
+		Seed: uint64(p.Seed), AnalysisID: a.ID, Resamples: a.PValue.Resamples, Workers: opt.Workers,
+	})
+	if err != nil {
+		return nil, err
+	}
+	pv.Method = string(spec.Permutation)
+	pv.Value, pv.Log10 = tail(mc.P, math.Log10(mc.P)).Value, math.Log10(mc.P)
+	pv.MonteCarlo = &results.MonteCarlo{
+		Resamples:   strconv.FormatInt(mc.Resamples, 10),
+		Exceedances: strconv.FormatInt(mc.Exceed, 10),
+		Estimator:   "(b + 1) / (m + 1), b exceedances in m resamples (Phipson & Smyth 2010)",
+		SE:          mc.SE,
+		CI:          results.Interval{Level: 0.99, Low: mc.CILow, High: mc.CIHigh},
+		Comparison:  mc.Comparison,
+		Stream:      fmt.Sprintf("purpose %q, blocks of %d resamples", stats.PermutationPurpose, stats.PermutationBlockSize),
+	}
+	return pv, nil
+}
+
+// effectSizes computes epsilon-squared and eta-squared based on H, with their percentile
+// bootstrap intervals when the plan asks for resamples.
+func effectSizes(p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWallis, opt Options) (*results.EffectSizes, error) {
+	eps, err := stats.EpsilonSquared(kw.H, kw.N)
+	if err != nil {
+		return nil, err
+	}
+	es := &results.EffectSizes{EpsilonSquared: eps}
+	if eta, err := stats.EtaSquaredH(kw.H, kw.N, kw.K); err == nil {
+		es.EtaSquaredH = &eta
+	}
+	m := *in.Analysis.EffectSize.Resamples
+	if m == 0 {
+		return es, nil
+	}
+	bs, err := stats.KruskalWallisBootstrap(r, stats.BootstrapOptions{
+		Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: m,
+		Level: in.Analysis.EffectSize.Level, Workers: opt.Workers,
+	})
+	if err != nil {
+		return nil, err
+	}
+	lo, _ := stats.EpsilonSquared(bs.HLow, kw.N)
+	hi, _ := stats.EpsilonSquared(bs.HHigh, kw.N)
+	es.Bootstrap = &results.Bootstrap{
+		Method:         "percentile bootstrap of H, resampling within groups",
+		Resamples:      strconv.FormatInt(bs.Resamples, 10),
+		Degenerate:     strconv.FormatInt(bs.Degenerate, 10),
+		Stream:         fmt.Sprintf("purpose %q, blocks of %d resamples", stats.BootstrapPurpose, stats.BootstrapBlockSize),
+		EpsilonSquared: results.Interval{Level: bs.Level, Low: lo, High: hi},
+	}
+	if es.EtaSquaredH != nil {
+		lo, _ := stats.EtaSquaredH(bs.HLow, kw.N, kw.K)
+		hi, _ := stats.EtaSquaredH(bs.HHigh, kw.N, kw.K)
+		es.Bootstrap.EtaSquaredH = &results.Interval{Level: bs.Level, Low: lo, High: hi}
+	}
+	return es, nil
 }

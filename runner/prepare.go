@@ -330,6 +330,9 @@ func (prep *Prepared) Preview() *results.Preview {
 			ID: in.Analysis.ID, Test: string(in.Analysis.Test), PValue: string(in.Analysis.PValue.Method),
 			Outcome: in.Analysis.Outcome, N: len(in.Values), Excluded: in.Excluded,
 		}
+		if n := in.Analysis.PValue.Resamples; n > 0 {
+			pa.Resamples = strconv.FormatInt(n, 10)
+		}
 		for j, g := range in.Groups {
 			pa.Groups = append(pa.Groups, results.GroupCount{Name: g, N: in.Counts[j]})
 		}

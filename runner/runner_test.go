@@ -2,6 +2,7 @@ package runner
 
 import (
 	"bytes"
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -57,7 +58,7 @@ func runAll(t *testing.T, p *spec.Plan) *results.Results {
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := Execute(prep)
+	res, err := Execute(context.Background(), prep, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -275,8 +276,142 @@ func TestDraft(t *testing.T) {
 		}
 	}
 	_, err = Draft(DraftOptions{DataPath: data, Group: "arm", Outcome: "score", Delimiter: "auto", Decimal: "auto",
-		Alpha: 0.05, PValue: spec.Exact, PostHoc: spec.NoPostHoc, Adjust: spec.NoAdjustment})
+		Alpha: 0.05, PValue: spec.Exact, PostHoc: spec.Dunn, Adjust: spec.NoAdjustment})
 	if err == nil || !strings.Contains(err.Error(), "not implemented yet") {
 		t.Errorf("draft with an unimplemented method: %v", err)
+	}
+}
+
+// methodPlan is a plan with one analysis of the given p-value block and effect-size block.
+func methodPlan(t *testing.T, pvalue, effect, csv string) *spec.Plan {
+	t.Helper()
+	dir := t.TempDir()
+	os.WriteFile(filepath.Join(dir, "data.csv"), []byte(csv), 0o644)
+	src := planHead + "alpha: 0.05\nseed: 11\nanalyses:\n  - id: a\n    test: kruskal-wallis\n    pvalue: " + pvalue + "\n"
+	if effect != "" {
+		src += "    effect_size: " + effect + "\n"
+	}
+	path := filepath.Join(dir, "plan.yaml")
+	os.WriteFile(path, []byte(src), 0o644)
+	p, err := spec.Load(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+// tiedToy is the constructed tied example of METHODS.md §1.5: exact p = 47/1925.
+const tiedToy = "g,y\nA,1\nA,2\nA,2\nA,3\nB,2\nB,3\nB,3\nB,4\nC,3\nC,4\nC,5\nC,5\n"
+
+func TestPValueMethods(t *testing.T) {
+	exact := runAll(t, methodPlan(t, "{method: exact}", "{resamples: 0}", tiedToy)).Analyses[0]
+	if exact.PValue.Method != "exact" || math.Abs(*exact.PValue.Value-47.0/1925) > 1e-13 || exact.PValue.Exact == nil ||
+		exact.EffectSizes.Bootstrap != nil {
+		t.Errorf("exact: %+v", exact.PValue)
+	}
+	auto := runAll(t, methodPlan(t, "{method: auto, resamples: 1000}", "{resamples: 0}", tiedToy)).Analyses[0]
+	if auto.PValue.Method != "exact" || auto.PValue.Requested != "auto" || *auto.PValue.Value != *exact.PValue.Value ||
+		!strings.Contains(auto.PValue.Reason, "fits the work budget") {
+		t.Errorf("auto: %+v", auto.PValue)
+	}
+	mc := runAll(t, methodPlan(t, "{method: permutation, resamples: 20000}", "{resamples: 0}", tiedToy)).Analyses[0]
+	m := mc.PValue.MonteCarlo
+	if mc.PValue.Method != "permutation" || m == nil || m.Resamples != "20000" || !(m.CI.Low <= 47.0/1925 && 47.0/1925 <= m.CI.High) {
+		t.Errorf("permutation: %+v %+v", mc.PValue, m)
+	}
+	for _, a := range []results.Analysis{exact, auto, mc} {
+		// chi-square p of H* = 6.630556 on 2 df, 0.036324 (METHODS.md §1.5, verified there with scipy 1.10.1)
+		if math.Abs(*a.AsymptoticP.Value-0.036324) > 5e-7 {
+			t.Errorf("asymptotic p beside %s: %v", a.PValue.Method, *a.AsymptoticP.Value)
+		}
+	}
+}
+
+// TestAutoFallsBack: a design too large for the exact budget (four groups of 40, no ties)
+// makes auto use Monte Carlo and say why; the plan method exact is refused with a
+// positioned error instead.
+func TestAutoFallsBack(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("g,y\n")
+	for i := 0; i < 160; i++ {
+		fmt.Fprintf(&b, "G%d,%d\n", i%4, (i*7919)%1000)
+	}
+	auto := runAll(t, methodPlan(t, "{method: auto, resamples: 500}", "{resamples: 0}", b.String())).Analyses[0]
+	if auto.PValue.Method != "permutation" || !strings.Contains(auto.PValue.Reason, "does not fit the work budget") {
+		t.Errorf("auto: %+v", auto.PValue)
+	}
+	prep, err := Prepare(methodPlan(t, "{method: exact}", "{resamples: 0}", b.String()))
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, err = Execute(context.Background(), prep, Options{})
+	var ie *InputError
+	if !errors.As(err, &ie) || !strings.Contains(err.Error(), "analyses[0].pvalue.method: the exact p-value of this design does not fit the work budget") {
+		t.Errorf("exact over budget: %v", err)
+	}
+}
+
+// TestWorkersDoNotChangeResults: the same plan gives the same results.json bytes for any
+// number of workers (Monte Carlo and bootstrap both resample).
+func TestWorkersDoNotChangeResults(t *testing.T) {
+	p := methodPlan(t, "{method: permutation, resamples: 9000}", "{resamples: 700}", tiedToy)
+	prep, err := Prepare(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var first []byte
+	for _, w := range []int{1, 2, 3, 8} {
+		res, err := Execute(context.Background(), prep, Options{Workers: w})
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, err := EncodeResults(res)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if first == nil {
+			first = b
+		} else if !bytes.Equal(first, b) {
+			t.Errorf("workers = %d changed results.json", w)
+		}
+	}
+}
+
+// TestMethodInvariance: H and every p-value are unchanged under a strictly increasing
+// transform of the outcome and under renaming the groups (same seed, same analysis id,
+// same group order); exact and asymptotic p also under reordering rows.
+func TestMethodInvariance(t *testing.T) {
+	transformed := "g,y\nA,10\nA,100\nA,100\nA,1000\nB,100\nB,1000\nB,1000\nB,10000\nC,1000\nC,10000\nC,100000\nC,100000\n"
+	renamed := strings.NewReplacer("A,", "a1,", "B,", "b2,", "C,", "c3,").Replace(tiedToy)
+	lines := strings.Split(strings.TrimSpace(tiedToy), "\n")
+	reordered := lines[0] + "\n"
+	for i := len(lines) - 1; i >= 1; i-- {
+		reordered += lines[i] + "\n"
+	}
+	for _, pv := range []string{"{method: exact}", "{method: permutation, resamples: 5000}"} {
+		base := runAll(t, methodPlan(t, pv, "{resamples: 300}", tiedToy)).Analyses[0]
+		for name, csv := range map[string]string{"transformed": transformed, "renamed": renamed, "reordered": reordered} {
+			got := runAll(t, methodPlan(t, pv, "{resamples: 300}", csv)).Analyses[0]
+			if *got.KruskalWallis != *base.KruskalWallis || *got.AsymptoticP.Value != *base.AsymptoticP.Value {
+				t.Errorf("%s %s: H or asymptotic p changed", pv, name)
+			}
+			if !reflect.DeepEqual(got.EffectSizes, base.EffectSizes) {
+				// The bootstrap draws from each group's sorted values, so it does not depend
+				// on row order, and its H* values do not change under increasing transforms
+				// or renaming.
+				t.Errorf("%s %s: effect sizes changed: %+v vs %+v", pv, name, got.EffectSizes.Bootstrap, base.EffectSizes.Bootstrap)
+			}
+			if name == "reordered" && strings.Contains(pv, "permutation") {
+				// Row order changes which labels the stream shuffles, so the Monte Carlo
+				// estimate may move, within its Monte Carlo error.
+				if d := math.Abs(*got.PValue.Value - *base.PValue.Value); d > 4*got.PValue.MonteCarlo.SE+4*base.PValue.MonteCarlo.SE {
+					t.Errorf("reordered permutation p moved by %v", d)
+				}
+				continue
+			}
+			if *got.PValue.Value != *base.PValue.Value {
+				t.Errorf("%s %s: p %v, base %v", pv, name, *got.PValue.Value, *base.PValue.Value)
+			}
+		}
 	}
 }

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"fmt"
 	"slices"
 	"strings"
 
@@ -9,6 +10,10 @@ import (
 	"rankplan/runner"
 	"rankplan/spec"
 )
+
+// defaultResamples is the Monte Carlo resample count init writes when none is given: the
+// Monte Carlo standard error is then at most 0.0016, and about 0.0007 at p = 0.05.
+const defaultResamples = 100000
 
 var (
 	pvalueNames  = []string{"asymptotic", "exact", "permutation", "auto"}
@@ -59,6 +64,9 @@ the clock, fixes every random stream.`,
 			if o.Resamples < 0 {
 				return usageErrorf("init: --resamples %d: expected a positive count", o.Resamples)
 			}
+			if o.Resamples == 0 && (o.PValue == spec.Permutation || o.PValue == spec.Auto) {
+				o.Resamples = defaultResamples
+			}
 			if c.Flags().Changed("seed") {
 				o.Seed = &seed
 			}
@@ -85,8 +93,8 @@ the clock, fixes every random stream.`,
 	f.StringVar(&o.Outcome, "outcome", "", "the column that holds the numeric outcome")
 	f.Float64Var(&o.Alpha, "alpha", 0.05, "the significance level")
 	f.Uint64Var(&seed, "seed", 0, "the seed of every random stream (default: a fresh random seed)")
-	f.StringVar((*string)(&o.PValue), "pvalue", string(spec.Asymptotic), "p-value method: "+strings.Join(pvalueNames, "|"))
-	f.Int64Var(&o.Resamples, "resamples", 0, "Monte Carlo resamples, for --pvalue permutation or auto")
+	f.StringVar((*string)(&o.PValue), "pvalue", string(spec.Auto), "p-value method: "+strings.Join(pvalueNames, "|"))
+	f.Int64Var(&o.Resamples, "resamples", 0, fmt.Sprintf("Monte Carlo resamples, for --pvalue permutation or auto (default %d)", defaultResamples))
 	f.StringVar((*string)(&o.PostHoc), "posthoc", string(spec.NoPostHoc), "post-hoc procedure: "+strings.Join(posthocNames, "|"))
 	f.StringVar((*string)(&o.Adjust), "adjust", string(spec.NoAdjustment), "multiplicity adjustment: "+strings.Join(adjustNames, "|"))
 	f.StringVar(&o.Control, "control", "", "compare every group with this control group only")

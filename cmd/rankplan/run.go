@@ -12,7 +12,8 @@ import (
 )
 
 type runOptions struct {
-	out string
+	out     string
+	workers int
 }
 
 func newRunCmd() *cobra.Command {
@@ -22,11 +23,17 @@ func newRunCmd() *cobra.Command {
 		Short: "Run a plan and write its results to a new folder",
 		Long: `run validates PLAN, runs every analysis on the plan's data and writes the results to
 DIR/results.json (described by 'rankplan schema results'). DIR must not exist: rankplan
-never overwrites earlier results. A short summary goes to standard output.`,
+never overwrites earlier results. A short summary goes to standard output.
+
+Monte Carlo and bootstrap resamples run on --workers goroutines; the results are the same
+bytes for any number of workers, on any machine.`,
 		Args: exactArgs(1, "one plan file"),
 		RunE: func(c *cobra.Command, args []string) error {
 			if o.out == "" {
 				return usageErrorf("run: --out DIR is required (a folder that does not exist yet)")
+			}
+			if o.workers < 0 {
+				return usageErrorf("run: --workers %d: expected 0 (one per core) or more", o.workers)
 			}
 			if err := runner.CheckNewFile(o.out); err != nil {
 				return err
@@ -39,7 +46,7 @@ never overwrites earlier results. A short summary goes to standard output.`,
 			if err != nil {
 				return err
 			}
-			res, err := runner.Execute(prep)
+			res, err := runner.Execute(c.Context(), prep, runner.Options{Workers: o.workers})
 			if err != nil {
 				return fmt.Errorf("run %s: %w", args[0], err)
 			}
@@ -54,5 +61,6 @@ never overwrites earlier results. A short summary goes to standard output.`,
 		},
 	}
 	c.Flags().StringVar(&o.out, "out", "", "the folder to create for the results (must not exist)")
+	c.Flags().IntVar(&o.workers, "workers", 0, "goroutines for resampling (0: one per core); results are identical for any value")
 	return c
 }

@@ -17,11 +17,11 @@ const Caution = "Statistical output supports, and does not replace, qualified ju
 
 // FormatP writes a p-value for people: four significant digits, and for a p-value
 // below the smallest normal double the bound implied by its log10.
-func FormatP(p *results.PValue) string {
-	if p.Value == nil {
-		return "< 1e" + strconv.Itoa(int(math.Floor(p.Log10))+1) + " (log10 p = " + strconv.FormatFloat(p.Log10, 'f', 4, 64) + ")"
+func FormatP(value *float64, log10 float64) string {
+	if value == nil {
+		return "< 1e" + strconv.Itoa(int(math.Floor(log10))+1) + " (log10 p = " + strconv.FormatFloat(log10, 'f', 4, 64) + ")"
 	}
-	return Num(*p.Value)
+	return Num(*value)
 }
 
 // Num writes a number with up to four significant digits after the point, as people read
@@ -77,8 +77,32 @@ func Summary(w io.Writer, res *results.Results, dataPath string) error {
 			continue
 		}
 		kw := a.KruskalWallis
-		ew.printf("  H = %s (tie-corrected; C = %s), df = %d, p = %s (%s)\n",
-			Num(kw.H), Num(kw.TieCorrection), kw.DF, FormatP(a.PValue), methodName(a.PValue.Method))
+		ew.printf("  H = %s (tie-corrected; C = %s), df = %d\n", Num(kw.H), Num(kw.TieCorrection), kw.DF)
+		pv := a.PValue
+		ew.printf("  p = %s (%s; %s)\n", FormatP(pv.Value, pv.Log10), methodName(pv.Method), pv.Reason)
+		if mc := pv.MonteCarlo; mc != nil {
+			ew.printf("      %s of %s resamples reached H; Monte Carlo SE %s, %s%% interval [%s, %s]\n",
+				mc.Exceedances, mc.Resamples, Num(mc.SE), Num(100*mc.CI.Level), Num(mc.CI.Low), Num(mc.CI.High))
+		}
+		if pv.Method != "asymptotic" {
+			ew.printf("      asymptotic chi-square p = %s\n", FormatP(a.AsymptoticP.Value, a.AsymptoticP.Log10))
+		}
+		if es := a.EffectSizes; es != nil {
+			line := "  effect size: epsilon-squared = " + Num(es.EpsilonSquared)
+			if b := es.Bootstrap; b != nil {
+				line += fmt.Sprintf(" [%s, %s]", Num(b.EpsilonSquared.Low), Num(b.EpsilonSquared.High))
+			}
+			if es.EtaSquaredH != nil {
+				line += ", eta-squared(H) = " + Num(*es.EtaSquaredH)
+				if b := es.Bootstrap; b != nil && b.EtaSquaredH != nil {
+					line += fmt.Sprintf(" [%s, %s]", Num(b.EtaSquaredH.Low), Num(b.EtaSquaredH.High))
+				}
+			}
+			if b := es.Bootstrap; b != nil {
+				line += fmt.Sprintf(" (%s%% percentile bootstrap, %s resamples)", Num(100*b.EpsilonSquared.Level), b.Resamples)
+			}
+			ew.printf("%s\n", line)
+		}
 		verdict := "do not reject the null hypothesis of identical distributions (p > alpha)"
 		if a.Decision.Reject {
 			verdict = "reject the null hypothesis of identical distributions (p <= alpha)"
@@ -97,8 +121,13 @@ func testName(t string) string {
 }
 
 func methodName(m string) string {
-	if m == "asymptotic" {
+	switch m {
+	case "asymptotic":
 		return "asymptotic chi-square"
+	case "exact":
+		return "exact, given the ties"
+	case "permutation":
+		return "Monte Carlo permutation"
 	}
 	return m
 }
@@ -129,7 +158,11 @@ func Preview(w io.Writer, pv *results.Preview, planPath, dataPath string) error 
 		ew.printf("note: %d cell(s) have more than 15 significant digits; values are compared as doubles, so such cells may tie\n", pv.Data.HighPrecisionCells)
 	}
 	for _, a := range pv.Analyses {
-		ew.printf("\nanalysis %s: %s of %q, p-value %s, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, a.PValue, len(a.Groups), a.N)
+		method := a.PValue
+		if a.Resamples != "" {
+			method += " (" + a.Resamples + " Monte Carlo resamples)"
+		}
+		ew.printf("\nanalysis %s: %s of %q, p-value %s, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, method, len(a.Groups), a.N)
 		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
 		fmt.Fprintf(tw, "  group\tn\t\n")
 		for _, g := range a.Groups {

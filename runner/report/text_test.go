@@ -10,15 +10,16 @@ import (
 func TestFormatP(t *testing.T) {
 	v := 0.00435881
 	for _, tc := range []struct {
-		p    results.PValue
-		want string
+		value *float64
+		log10 float64
+		want  string
 	}{
-		{results.PValue{Value: &v, Log10: -2.36}, "0.00435881"},
-		{results.PValue{Value: nil, Log10: -1762.8086}, "< 1e-1762 (log10 p = -1762.8086)"},
-		{results.PValue{Value: nil, Log10: -308.2}, "< 1e-308 (log10 p = -308.2000)"},
+		{&v, -2.36, "0.00435881"},
+		{nil, -1762.8086, "< 1e-1762 (log10 p = -1762.8086)"},
+		{nil, -308.2, "< 1e-308 (log10 p = -308.2000)"},
 	} {
-		if got := FormatP(&tc.p); got != tc.want {
-			t.Errorf("FormatP(%v) = %q, want %q", tc.p.Log10, got, tc.want)
+		if got := FormatP(tc.value, tc.log10); got != tc.want {
+			t.Errorf("FormatP(%v) = %q, want %q", tc.log10, got, tc.want)
 		}
 	}
 }

@@ -37,9 +37,10 @@ type Data struct {
 
 // Conventions states the definitions behind the numbers, so that a reader can recompute them.
 type Conventions struct {
-	Ranks     string `json:"ranks"`
-	Quantiles string `json:"quantiles"`
-	Decision  string `json:"decision"`
+	Ranks        string `json:"ranks"`
+	Quantiles    string `json:"quantiles"`
+	Decision     string `json:"decision"`
+	RandomStream string `json:"random_stream"`
 }
 
 // Analysis is the result of one planned analysis.
@@ -55,8 +56,12 @@ type Analysis struct {
 	Status        string         `json:"status"`
 	Reason        string         `json:"reason,omitempty"`
 	KruskalWallis *KruskalWallis `json:"kruskal_wallis,omitempty"`
-	PValue        *PValue        `json:"p_value,omitempty"`
-	Decision      *Decision      `json:"decision,omitempty"`
+	// PValue is the p-value of the plan's method, on which the decision rests.
+	PValue *PValue `json:"p_value,omitempty"`
+	// AsymptoticP is the chi-square p-value, always reported beside the chosen one.
+	AsymptoticP *Tail        `json:"asymptotic_p_value,omitempty"`
+	Decision    *Decision    `json:"decision,omitempty"`
+	EffectSizes *EffectSizes `json:"effect_sizes,omitempty"`
 }
 
 // Group describes one analysed group.
@@ -96,12 +101,68 @@ type KruskalWallis struct {
 	TiedValues    int     `json:"tied_values"` // observations sharing their value with another
 }
 
-// PValue is a p-value with the method that produced it. Value is null when the p-value is
-// below the smallest positive double; Log10 is always given.
+// PValue is a p-value with the method that produced it and why that method was used.
+// Value is null when the p-value is below the smallest positive normal double; Log10 is
+// always given.
 type PValue struct {
-	Method string   `json:"method"`
-	Value  *float64 `json:"value"`
-	Log10  float64  `json:"log10"`
+	Requested  string      `json:"requested"` // the plan's method: asymptotic, exact, permutation or auto
+	Method     string      `json:"method"`    // the method used: asymptotic, exact or permutation
+	Reason     string      `json:"reason"`
+	Value      *float64    `json:"value"`
+	Log10      float64     `json:"log10"`
+	Exact      *ExactWork  `json:"exact,omitempty"`
+	MonteCarlo *MonteCarlo `json:"monte_carlo,omitempty"`
+}
+
+// Tail is a p-value alone: Value null when below the smallest positive normal double.
+type Tail struct {
+	Value *float64 `json:"value"`
+	Log10 float64  `json:"log10"`
+}
+
+// ExactWork records the work of the exact distribution, against its budget.
+type ExactWork struct {
+	PeakStates   int64 `json:"peak_states"`
+	Work         int64 `json:"work"`
+	BudgetStates int64 `json:"budget_states"`
+	BudgetWork   int64 `json:"budget_work"`
+}
+
+// MonteCarlo records a Monte Carlo permutation p-value. Counts are decimal strings, so
+// that they stay exact above 2^53.
+type MonteCarlo struct {
+	Resamples   string   `json:"resamples"`
+	Exceedances string   `json:"exceedances"` // resamples whose statistic reached the observed one
+	Estimator   string   `json:"estimator"`
+	SE          float64  `json:"se"`
+	CI          Interval `json:"ci"` // Clopper-Pearson interval of the permutation p
+	Comparison  string   `json:"comparison"`
+	Stream      string   `json:"stream"` // the stream purpose label and block size
+}
+
+// Interval is a two-sided interval at a level.
+type Interval struct {
+	Level float64 `json:"level"`
+	Low   float64 `json:"low"`
+	High  float64 `json:"high"`
+}
+
+// EffectSizes are the omnibus effect sizes with their bootstrap intervals.
+type EffectSizes struct {
+	EpsilonSquared float64 `json:"epsilon_squared"`
+	// EtaSquaredH is null when N = k (every group holds one observation).
+	EtaSquaredH *float64   `json:"eta_squared_h"`
+	Bootstrap   *Bootstrap `json:"bootstrap,omitempty"`
+}
+
+// Bootstrap is the percentile bootstrap interval of the effect sizes.
+type Bootstrap struct {
+	Method         string    `json:"method"`
+	Resamples      string    `json:"resamples"`
+	Degenerate     string    `json:"degenerate"` // resamples with every value tied (H* taken as 0)
+	Stream         string    `json:"stream"`
+	EpsilonSquared Interval  `json:"epsilon_squared"`
+	EtaSquaredH    *Interval `json:"eta_squared_h"`
 }
 
 // Decision is the test's verdict at the plan's alpha.
@@ -120,13 +181,15 @@ type Preview struct {
 
 // PreviewAnalysis is one analysis as it would run.
 type PreviewAnalysis struct {
-	ID       string       `json:"id"`
-	Test     string       `json:"test"`
-	PValue   string       `json:"p_value_method"`
-	Outcome  string       `json:"outcome"`
-	N        int          `json:"n"`
-	Groups   []GroupCount `json:"groups"`
-	Excluded []Exclusion  `json:"excluded"`
+	ID     string `json:"id"`
+	Test   string `json:"test"`
+	PValue string `json:"p_value_method"`
+	// Resamples is the Monte Carlo resample count (decimal string), for permutation and auto.
+	Resamples string       `json:"resamples,omitempty"`
+	Outcome   string       `json:"outcome"`
+	N         int          `json:"n"`
+	Groups    []GroupCount `json:"groups"`
+	Excluded  []Exclusion  `json:"excluded"`
 }
 
 // GroupCount is a group and its number of observations.
