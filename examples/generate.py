@@ -41,5 +41,21 @@ def symptom_scores():
         for r in rows:
             f.write(";".join(r) + "\n")
 
+def pilot():
+    # A small pilot: tensile strength (kN) of bolts from three suppliers, 5, 4 and 5 bolts
+    # (one bolt of supplier B was damaged before testing). Read to 0.1 kN.
+    rng = random.Random(515)
+    centre = {"A": 41.0, "B": 43.5, "C": 44.0}
+    sizes = {"A": 5, "B": 4, "C": 5}
+    rows = []
+    for s, m in centre.items():
+        for i in range(sizes[s]):
+            rows.append((f"{s}{i + 1}", s, f"{rng.gauss(m, 1.6):.1f}"))
+    with open("pilot-bolts/bolts.csv", "w", newline="") as f:
+        f.write("bolt,supplier,strength_kN\n")
+        for r in rows:
+            f.write(",".join(r) + "\n")
+
 dissolution()
 symptom_scores()
+pilot()
