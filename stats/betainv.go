@@ -109,27 +109,12 @@ func betaCF(x, y, a, b float64) float64 {
 	for m := 1; m <= 1_000_000; m++ {
 		fm := float64(m)
 		m2 := 2 * fm
+		// The even and the odd step of the fraction.
 		aa := float64(fm*float64(b-fm)) * x / float64(float64(qam+m2)*float64(a+m2))
-		d = 1 + float64(aa*d)
-		if math.Abs(d) < tiny {
-			d = tiny
-		}
-		c = 1 + aa/c
-		if math.Abs(c) < tiny {
-			c = tiny
-		}
-		d = 1 / d
+		c, d = lentzStep(aa, c, d)
 		h = float64(h * float64(d*c))
 		aa = -float64(float64(a+fm)*float64(qab+fm)) * x / float64(float64(a+m2)*float64(qap+m2))
-		d = 1 + float64(aa*d)
-		if math.Abs(d) < tiny {
-			d = tiny
-		}
-		c = 1 + aa/c
-		if math.Abs(c) < tiny {
-			c = tiny
-		}
-		d = 1 / d
+		c, d = lentzStep(aa, c, d)
 		del := float64(d * c)
 		h = float64(h * del)
 		if math.Abs(del-1) <= 1e-16 {
@@ -137,6 +122,21 @@ func betaCF(x, y, a, b float64) float64 {
 		}
 	}
 	return h
+}
+
+// lentzStep advances the modified Lentz recurrences by one partial numerator aa (partial
+// denominators 1): d ← 1/(1 + aa·d), c ← 1 + aa/c, each kept away from 0.
+func lentzStep(aa, c, d float64) (float64, float64) {
+	const tiny = 1e-300
+	d = 1 + float64(aa*d)
+	if math.Abs(d) < tiny {
+		d = tiny
+	}
+	c = 1 + aa/c
+	if math.Abs(c) < tiny {
+		c = tiny
+	}
+	return c, 1 / d
 }
 
 // stirlingTail is δ(z) = ln Γ(z) − [(z − 1/2) ln z − z + ln(2π)/2], the remainder of

@@ -44,14 +44,7 @@ func TestEffectSizesEdges(t *testing.T) {
 
 func bootRanking(t *testing.T, groups [][]float64) *Ranking {
 	t.Helper()
-	var g []int32
-	var v []float64
-	for i, xs := range groups {
-		for _, x := range xs {
-			g = append(g, int32(i))
-			v = append(v, x)
-		}
-	}
+	g, v := flatten(groups)
 	r, err := Rank(g, v, len(groups))
 	if err != nil {
 		t.Fatal(err)
@@ -137,13 +130,7 @@ func BenchmarkKruskalWallisBootstrap(b *testing.B) {
 			groups[i] = append(groups[i], float64((j*7919+i*31)%500)/10)
 		}
 	}
-	var g []int32
-	var v []float64
-	for i, xs := range groups {
-		for _, x := range xs {
-			g, v = append(g, int32(i)), append(v, x)
-		}
-	}
+	g, v := flatten(groups)
 	r, _ := Rank(g, v, 4)
 	b.ReportAllocs()
 	for b.Loop() {
