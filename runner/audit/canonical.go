@@ -1,0 +1,84 @@
+package audit
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+
+	"github.com/gowebpki/jcs"
+)
+
+// RecordSchema is the schema URI every audit record carries.
+const RecordSchema = "https://rankplan.invalid/schema/audit-record-v1.json"
+
+// GenesisPrev is the prev digest of the first record of a log.
+const GenesisPrev = "sha256:0000000000000000000000000000000000000000000000000000000000000000"
+
+// digestPrefix starts every digest this package writes.
+const digestPrefix = "sha256:"
+
+// Canonical returns the RFC 8785 (JCS) bytes of v.
+//
+//	Canonical(v) = JCS(json.Marshal(v) with HTML escaping off)
+//
+// JCS (RFC 8785 §3.2) removes whitespace, sorts object members by the UTF-16
+// code units of their names, writes numbers as ECMAScript's Number-to-String
+// does (−0 as 0) and escapes strings minimally. Integers above 2^53 lose
+// precision (they become IEEE-754 doubles), so callers write 64-bit values as
+// strings. NaN, ±Inf, invalid UTF-8 surrogates and duplicate member names
+// (in a json.RawMessage) are errors.
+func Canonical(v any) ([]byte, error) {
+	var buf bytes.Buffer
+	enc := json.NewEncoder(&buf)
+	enc.SetEscapeHTML(false)
+	if err := enc.Encode(v); err != nil {
+		return nil, fmt.Errorf("canonical json: %w", err)
+	}
+	out, err := jcs.Transform(bytes.TrimRight(buf.Bytes(), "\n"))
+	if err != nil {
+		return nil, fmt.Errorf("canonical json: %w", err)
+	}
+	return out, nil
+}
+
+// Digest returns the content digest of b.
+//
+//	Digest(b) = "sha256:" + lowercase hex(SHA-256(b))    (FIPS 180-4)
+func Digest(b []byte) string {
+	sum := sha256.Sum256(b)
+	return digestPrefix + hex.EncodeToString(sum[:])
+}
+
+// DigestFile streams the file at path through SHA-256 and returns its
+// digest (as Digest writes it) and its size in bytes.
+func DigestFile(path string) (digest string, size int64, err error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", 0, fmt.Errorf("digest file: %w", err)
+	}
+	defer f.Close()
+	h := sha256.New()
+	size, err = io.Copy(h, f)
+	if err != nil {
+		return "", 0, fmt.Errorf("digest file %s: %w", path, err)
+	}
+	return digestPrefix + hex.EncodeToString(h.Sum(nil)), size, nil
+}
+
+// isDigest reports whether s is "sha256:" followed by 64 lowercase hex digits.
+func isDigest(s string) bool {
+	if len(s) != len(digestPrefix)+64 || s[:len(digestPrefix)] != digestPrefix {
+		return false
+	}
+	for i := len(digestPrefix); i < len(s); i++ {
+		c := s[i]
+		if !(c >= '0' && c <= '9' || c >= 'a' && c <= 'f') {
+			return false
+		}
+	}
+	return true
+}

@@ -1,0 +1,185 @@
+package audit
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"os"
+	"sync"
+	"time"
+)
+
+// timeLayout is RFC 3339 in UTC with nine fixed fractional digits.
+const timeLayout = "2006-01-02T15:04:05.000000000Z"
+
+// Record is one line of the audit log.
+type Record struct {
+	Schema string          `json:"schema"` // RecordSchema
+	Seq    int64           `json:"seq"`    // 1, 2, ... without gaps
+	Prev   string          `json:"prev"`   // Digest(canonical bytes of the previous record); GenesisPrev for seq 1
+	Time   string          `json:"time"`   // FormatTime of the tool's clock
+	Event  string          `json:"event"`  // e.g. run.started, plan.bound, data.bound, run.finished, run.failed
+	Actor  Actor           `json:"actor"`
+	Data   json.RawMessage `json:"data"` // the event's content (a JSON object)
+}
+
+// FormatTime formats t in UTC as RFC 3339 with exactly nine fractional
+// digits, so that for years 0000–9999 every result has the same width and
+// string order equals time order (RFC 3339 §5.1):
+//
+//	YYYY-MM-DDThh:mm:ss.nnnnnnnnnZ
+//
+// time.RFC3339Nano drops trailing zeros and does not sort (golang/go#19635).
+func FormatTime(t time.Time) string {
+	return t.UTC().Format(timeLayout)
+}
+
+// parseTime accepts exactly the form FormatTime writes.
+func parseTime(s string) (time.Time, bool) {
+	t, err := time.Parse(timeLayout, s)
+	if err != nil || FormatTime(t) != s {
+		return time.Time{}, false
+	}
+	return t, true
+}
+
+// Log is an append-only audit log file. Each record is written as its
+// canonical (JCS) bytes plus "\n", followed by f.Sync(), before Append
+// returns; the file is opened O_WRONLY|O_CREATE|O_EXCL|O_APPEND, so an
+// existing file is never reused or truncated (21 CFR Part 11 §11.10(e):
+// changes never obscure earlier records). A Log is safe for concurrent use.
+type Log struct {
+	mu     sync.Mutex
+	f      *os.File
+	path   string
+	actor  Actor
+	now    func() time.Time
+	seq    int64
+	head   string
+	broken error // set when a write or sync failed; later appends refuse
+}
+
+// Create creates a new log at path (never an existing file). Every record
+// carries actor and a time from now (time.Now when nil).
+func Create(path string, actor Actor, now func() time.Time) (*Log, error) {
+	if now == nil {
+		now = time.Now
+	}
+	f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL|os.O_APPEND, 0o644)
+	if err != nil {
+		return nil, fmt.Errorf("create audit log: %w", err)
+	}
+	return &Log{f: f, path: path, actor: actor, now: now}, nil
+}
+
+// Append writes the next record, with event and data (marshalled to a JSON
+// object), and syncs the file before it returns the record written.
+//
+//	seq = previous seq + 1,  prev = Head() (GenesisPrev for the first)
+func (l *Log) Append(event string, data any) (Record, error) {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	if l.f == nil {
+		return Record{}, errors.New("append audit record: log is closed")
+	}
+	if l.broken != nil {
+		return Record{}, fmt.Errorf("append audit record: earlier write failed: %w", l.broken)
+	}
+	if !validEvent(event) {
+		return Record{}, fmt.Errorf("append audit record: bad event name %q", event)
+	}
+	body, err := Canonical(data)
+	if err != nil {
+		return Record{}, fmt.Errorf("append audit record %s: data: %w", event, err)
+	}
+	if len(body) == 0 || body[0] != '{' {
+		return Record{}, fmt.Errorf("append audit record %s: data is not a JSON object", event)
+	}
+	prev := l.head
+	if l.seq == 0 {
+		prev = GenesisPrev
+	}
+	rec := Record{
+		Schema: RecordSchema,
+		Seq:    l.seq + 1,
+		Prev:   prev,
+		Time:   FormatTime(l.now()),
+		Event:  event,
+		Actor:  l.actor,
+		Data:   json.RawMessage(body),
+	}
+	line, err := Canonical(rec)
+	if err != nil {
+		return Record{}, fmt.Errorf("append audit record %s: %w", event, err)
+	}
+	head := Digest(line)
+	line = append(line, '\n')
+	if _, err := l.f.Write(line); err != nil {
+		l.broken = err
+		return Record{}, fmt.Errorf("append audit record %s to %s: %w", event, l.path, err)
+	}
+	if err := l.f.Sync(); err != nil {
+		l.broken = err
+		return Record{}, fmt.Errorf("sync audit log %s: %w", l.path, err)
+	}
+	l.seq = rec.Seq
+	l.head = head
+	return rec, nil
+}
+
+// Head returns the digest of the last record's canonical bytes ("" before
+// the first record).
+func (l *Log) Head() string {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.head
+}
+
+// Seq returns the seq of the last record written (0 before the first).
+func (l *Log) Seq() int64 {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.seq
+}
+
+// Close syncs and closes the file. Closing twice is an error.
+func (l *Log) Close() error {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	if l.f == nil {
+		return errors.New("close audit log: already closed")
+	}
+	f := l.f
+	l.f = nil
+	if err := f.Sync(); err != nil {
+		f.Close()
+		return fmt.Errorf("close audit log %s: %w", l.path, err)
+	}
+	if err := f.Close(); err != nil {
+		return fmt.Errorf("close audit log %s: %w", l.path, err)
+	}
+	return nil
+}
+
+// validEvent accepts dotted lowercase names such as "run.started":
+//
+//	event = word *("." word),  word = [a-z] *[a-z0-9_]
+func validEvent(s string) bool {
+	if s == "" || len(s) > 128 {
+		return false
+	}
+	start := true
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case c >= 'a' && c <= 'z':
+			start = false
+		case (c >= '0' && c <= '9' || c == '_') && !start:
+		case c == '.' && !start:
+			start = true
+		default:
+			return false
+		}
+	}
+	return !start
+}
