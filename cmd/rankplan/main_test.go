@@ -6,6 +6,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"strconv"
 	"testing"
 
@@ -29,6 +30,8 @@ func TestMain(m *testing.M) {
 //
 //	exits CODE PROG ARGS...   run PROG and require exit code CODE (stdout and stderr are kept for cmp)
 //	validate-results FILE     require FILE to match the results schema
+//	cmp-run FILE              compare the last stdout of `rankplan run` with FILE, the audit
+//	                          head (which holds the run's time) masked as sha256:<head>
 func TestScripts(t *testing.T) {
 	testscript.Run(t, testscript.Params{
 		Dir:                 "testdata/script",
@@ -56,6 +59,15 @@ func TestScripts(t *testing.T) {
 					ts.Fatalf("exit code %d, want %d", got, want)
 				}
 			},
+			"cmp-run": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) != 1 {
+					ts.Fatalf("usage: cmp-run FILE")
+				}
+				got, want := maskHead(ts.ReadFile("stdout")), ts.ReadFile(args[0])
+				if got != want {
+					ts.Fatalf("stdout and %s differ:\n--- stdout (head masked)\n%s\n--- %s\n%s", args[0], got, args[0], want)
+				}
+			},
 			"validate-results": func(ts *testscript.TestScript, neg bool, args []string) {
 				if len(args) != 1 {
 					ts.Fatalf("usage: validate-results FILE")
@@ -68,3 +80,8 @@ func TestScripts(t *testing.T) {
 		},
 	})
 }
+
+var headLine = regexp.MustCompile(`(?m)^(audit head: )sha256:[0-9a-f]{64}`)
+
+// maskHead replaces the audit head in run output, which depends on the time of the run.
+func maskHead(s string) string { return headLine.ReplaceAllString(s, "${1}sha256:<head>") }

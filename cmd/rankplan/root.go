@@ -22,14 +22,17 @@ const (
 	exitOK    = 0 // success
 	exitError = 1 // the run failed for a reason other than its input (e.g. the output could not be written)
 	exitInput = 2 // usage error, invalid plan or unusable data
-	// 3 to 9 are reserved for `rankplan verify`.
+	// 3 to 6 are verify's; see verify.go. 7 to 9 are reserved.
 )
 
 const exitCodesHelp = `Exit codes:
   0  success
   1  the command failed for a reason other than its input (e.g. writing the output)
   2  usage error, invalid plan or unusable data
-  3-9 reserved for verify`
+  3  verify: results or inputs differ
+  4  verify: integrity failure (tampering, broken chain, bad signature)
+  5  verify: the run is incomplete
+  6  verify --data: a conclusion at alpha changed`
 
 // usageError is a mistake in the command line: wrong flags or arguments.
 type usageError struct{ err error }
@@ -52,6 +55,10 @@ func Main(args []string, stdout, stderr io.Writer) int {
 	err := root.ExecuteContext(ctx)
 	if err == nil {
 		return exitOK
+	}
+	var ve *verifyExit
+	if errors.As(err, &ve) {
+		return ve.code // verify printed its own report
 	}
 	for _, line := range strings.Split(err.Error(), "\n") {
 		fmt.Fprintf(stderr, "rankplan: %s\n", line)
@@ -104,7 +111,7 @@ follows the lab's own procedures and software validation.
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return &usageError{fmt.Errorf("%s: %w", strings.TrimPrefix(c.CommandPath(), "rankplan "), err)}
 	})
-	root.AddCommand(newInitCmd(), newCheckCmd(), newRunCmd(), newSchemaCmd(), newVersionCmd())
+	root.AddCommand(newInitCmd(), newCheckCmd(), newRunCmd(), newVerifyCmd(), newLockCmd(), newKeygenCmd(), newSchemaCmd(), newVersionCmd())
 	root.CompletionOptions.HiddenDefaultCmd = true
 	return root
 }

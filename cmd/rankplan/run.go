@@ -8,59 +8,69 @@ import (
 
 	"rankplan/runner"
 	"rankplan/runner/report"
-	"rankplan/spec"
 )
 
-type runOptions struct {
-	out     string
-	workers int
-}
-
 func newRunCmd() *cobra.Command {
-	var o runOptions
+	var (
+		o        runner.RunOptions
+		dataSeen bool
+	)
 	c := &cobra.Command{
 		Use:   "run PLAN --out DIR",
-		Short: "Run a plan and write its results to a new folder",
-		Long: `run validates PLAN, runs every analysis on the plan's data and writes the results to
-DIR/results.json (described by 'rankplan schema results'). DIR must not exist: rankplan
-never overwrites earlier results. A short summary goes to standard output.
+		Short: "Run a plan and write its results and audit trail to a new folder",
+		Long: `run validates PLAN, runs every analysis on the plan's data and creates the run folder
+DIR with results.json (described by 'rankplan schema results'), a copy of the plan, the
+hash-chained audit log audit.jsonl and its head (audit.head, also printed: keep a copy
+elsewhere and check it with 'rankplan verify DIR --head HASH'). DIR must not exist:
+rankplan never overwrites earlier results. The folder appears only when the run has
+finished; a failed or killed run leaves DIR.incomplete-XXXX instead.
+
+With --lock, the plan must match the lock made by 'rankplan lock'; a plan that differs runs
+only with --deviation "reason" (repeat for several) and --data-seen=true|false, and every
+deviation is recorded. With --sign KEY the final audit head is signed (Ed25519).
 
 Monte Carlo and bootstrap resamples run on --workers goroutines; the results are the same
 bytes for any number of workers, on any machine.`,
 		Args: exactArgs(1, "one plan file"),
 		RunE: func(c *cobra.Command, args []string) error {
-			if o.out == "" {
+			if o.Out == "" {
 				return usageErrorf("run: --out DIR is required (a folder that does not exist yet)")
 			}
-			if o.workers < 0 {
-				return usageErrorf("run: --workers %d: expected 0 (one per core) or more", o.workers)
+			if o.Workers < 0 {
+				return usageErrorf("run: --workers %d: expected 0 (one per core) or more", o.Workers)
 			}
-			if err := runner.CheckNewFile(o.out); err != nil {
-				return err
+			if c.Flags().Changed("data-seen") {
+				o.DataSeen = &dataSeen
 			}
-			p, err := spec.Load(args[0])
+			o.Args = append([]string{"rankplan", "run"}, args...)
+			rec, err := runner.Run(c.Context(), args[0], o)
 			if err != nil {
 				return err
 			}
-			prep, err := runner.Prepare(p)
-			if err != nil {
+			w := c.OutOrStdout()
+			if err := report.Summary(w, rec.Results, rec.Prepared.DataPath); err != nil {
 				return err
 			}
-			res, err := runner.Execute(c.Context(), prep, runner.Options{Workers: o.workers})
-			if err != nil {
-				return fmt.Errorf("run %s: %w", args[0], err)
+			for _, d := range rec.Deviations {
+				fmt.Fprintf(w, "deviation from the locked plan (data seen: %v): %s; changed: %v\n", d.DataSeen, d.Reason, d.Changed)
 			}
-			if err := runner.WriteRun(o.out, res); err != nil {
-				return fmt.Errorf("write results: %w", err)
+			fmt.Fprintf(w, "results: %s\n", filepath.Join(o.Out, runner.ResultsFile))
+			if rec.Signature != nil {
+				fmt.Fprintf(w, "signed: %s by %q (%s)\n", filepath.Join(o.Out, runner.SignatureFile), rec.Signature.Signer, rec.Signature.Meaning)
 			}
-			if err := report.Summary(c.OutOrStdout(), res, prep.DataPath); err != nil {
-				return err
-			}
-			_, err = fmt.Fprintf(c.OutOrStdout(), "results: %s\n", filepath.Join(o.out, "results.json"))
+			_, err = fmt.Fprintf(w, "audit head: %s (record %d; keep a copy outside %s)\n", rec.Head, rec.Seq, o.Out)
 			return err
 		},
 	}
-	c.Flags().StringVar(&o.out, "out", "", "the folder to create for the results (must not exist)")
-	c.Flags().IntVar(&o.workers, "workers", 0, "goroutines for resampling (0: one per core); results are identical for any value")
+	f := c.Flags()
+	f.StringVar(&o.Out, "out", "", "the folder to create for the results (must not exist)")
+	f.IntVar(&o.Workers, "workers", 0, "goroutines for resampling (0: one per core); results are identical for any value")
+	f.StringVar(&o.Signer, "signer", "", "your name, recorded with every audit record")
+	f.StringVar(&o.Reason, "reason", "", "why this run is made, recorded in the audit log")
+	f.StringVar(&o.LockPath, "lock", "", "a plan lock (from 'rankplan lock') the plan must match")
+	f.StringArrayVar(&o.Deviations, "deviation", nil, "the reason for a difference from the locked plan (repeatable)")
+	f.BoolVar(&dataSeen, "data-seen", false, "with --deviation: whether the data had been seen when the plan was changed")
+	f.StringVar(&o.SignKey, "sign", "", "an Ed25519 private key (from 'rankplan keygen') to sign the audit head")
+	f.StringVar(&o.Meaning, "meaning", "authorship", "with --sign: the meaning of the signature (e.g. authorship, review, approval)")
 	return c
 }

@@ -1,0 +1,84 @@
+package main
+
+import (
+	"context"
+	"math/rand/v2"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+
+	"rankplan/runner"
+)
+
+// TestCrash kills `rankplan run` with SIGKILL at random moments, 24 times, and requires
+// that no kill leaves a run folder that verify accepts unless the run really finished:
+// either DIR is absent (only DIR.incomplete-XXXX remains, which verify reports as
+// incomplete or broken), or DIR verifies completely.
+func TestCrash(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds the binary")
+	}
+	work := t.TempDir()
+	bin := filepath.Join(work, "rankplan")
+	build := exec.Command("go", "build", "-o", bin, ".")
+	if out, err := build.CombinedOutput(); err != nil {
+		t.Fatalf("go build: %v\n%s", err, out)
+	}
+	// A plan with enough resampling that a run takes a noticeable time (invented data).
+	var data strings.Builder
+	data.WriteString("g,y\n")
+	for i := 0; i < 400; i++ {
+		data.WriteString([]string{"A", "B", "C", "D"}[i%4] + "," + strings.Repeat("1", 1+i%3) + "\n")
+	}
+	os.WriteFile(filepath.Join(work, "data.csv"), []byte(data.String()), 0o644)
+	plan := "rankplan: 1\nid: crash\ntitle: Crash test (invented data)\ndata: {file: data.csv, group: g, outcome: y}\n" +
+		"alpha: 0.05\nseed: 9\nanalyses:\n  - id: a\n    test: kruskal-wallis\n    pvalue: {method: permutation, resamples: 40000}\n    effect_size: {resamples: 400}\n"
+	planPath := filepath.Join(work, "plan.yaml")
+	os.WriteFile(planPath, []byte(plan), 0o644)
+
+	// Time one whole run, then kill the others at uniform random moments within that time.
+	start := time.Now()
+	if out, err := exec.Command(bin, "run", planPath, "--out", filepath.Join(work, "timed"), "--workers", "1").CombinedOutput(); err != nil {
+		t.Fatalf("timed run: %v\n%s", err, out)
+	}
+	whole := time.Since(start)
+	rng := rand.New(rand.NewPCG(7, 7))
+	finished, killed := 0, 0
+	for i := range 24 {
+		out := filepath.Join(work, "run"+string(rune('a'+i)))
+		cmd := exec.Command(bin, "run", planPath, "--out", out, "--workers", "1")
+		if err := cmd.Start(); err != nil {
+			t.Fatal(err)
+		}
+		time.Sleep(time.Duration(rng.Int64N(int64(whole))))
+		cmd.Process.Signal(syscall.SIGKILL)
+		err := cmd.Wait()
+		if _, statErr := os.Stat(out); statErr == nil {
+			finished++
+			rep, verr := runner.Verify(context.Background(), out, runner.VerifyOptions{})
+			if verr != nil || rep.Outcome != runner.Verified {
+				t.Errorf("kill %d: %s exists but does not verify: %v %+v", i, out, verr, rep)
+			}
+			continue
+		}
+		killed++
+		if err == nil {
+			t.Errorf("kill %d: the run exited 0 but left no %s", i, out)
+		}
+		tmps, _ := filepath.Glob(out + ".incomplete-*")
+		for _, tmp := range tmps {
+			rep, verr := runner.Verify(context.Background(), tmp, runner.VerifyOptions{})
+			if verr == nil && rep.Outcome == runner.Verified {
+				t.Errorf("kill %d: verify accepts the unfinished folder %s", i, tmp)
+			}
+		}
+	}
+	t.Logf("%d runs killed before finishing, %d finished", killed, finished)
+	if killed < 20 {
+		t.Errorf("only %d of 24 runs were killed before they finished (a whole run takes %v): the test checks too little", killed, whole)
+	}
+}

@@ -1,0 +1,89 @@
+package main
+
+import (
+	"encoding/json"
+
+	"github.com/spf13/cobra"
+
+	"rankplan/runner"
+)
+
+// Exit codes of verify (3 to 9 are reserved for it).
+const (
+	exitDiffer     = 3 // inputs changed, or the rerun gives other results
+	exitIntegrity  = 4 // tampering, broken chain, bad signature, missing files
+	exitIncomplete = 5 // the run never finished
+	exitConclusion = 6 // verify --data: a conclusion at alpha changed
+)
+
+// verifyExit is returned by the verify command to set a non-zero exit code after it
+// has printed its own report; Main prints nothing more for it.
+type verifyExit struct{ code int }
+
+func (e *verifyExit) Error() string { return "" }
+
+func newVerifyCmd() *cobra.Command {
+	var (
+		o       runner.VerifyOptions
+		jsonOut bool
+	)
+	c := &cobra.Command{
+		Use:   "verify DIR",
+		Short: "Check a run folder and prove that its results reproduce",
+		Long: `verify checks the run folder DIR: every audit record parses and is in canonical form,
+the hash chain is unbroken and gap-free, the run finished, the head matches DIR/audit.head
+(and --head HASH, a copy kept elsewhere: a chain alone cannot show records removed from
+its end), every output file matches its recorded SHA-256, the plan and data files still
+match theirs, the tool version is the same (or the difference is shown), the signature
+verifies against a pinned --pubkey; then it reruns the plan from the recorded inputs and
+seed and compares the results digest, naming the first field that differs.
+
+With --data FILE it reruns the plan on new data instead and says whether any conclusion at
+the plan's alpha changed (a drift check for CI).
+
+Each check is reported with its own verdict; a skipped check never counts as passed.
+
+Exit codes:
+  0  verified (skipped checks are listed)
+  2  unusable input (no such folder, bad flags)
+  3  results or inputs differ (changed data or plan, or the rerun disagrees)
+  4  integrity failure (tampering, broken chain, bad signature, missing files)
+  5  the run is incomplete (killed or failed)
+  6  with --data: a conclusion at alpha changed`,
+		Args: exactArgs(1, "one run folder"),
+		RunE: func(c *cobra.Command, args []string) error {
+			rep, err := runner.Verify(c.Context(), args[0], o)
+			if err != nil {
+				return err
+			}
+			if jsonOut {
+				enc := json.NewEncoder(c.OutOrStdout())
+				enc.SetIndent("", "  ")
+				enc.SetEscapeHTML(false)
+				if err := enc.Encode(rep); err != nil {
+					return err
+				}
+			} else if err := rep.WriteText(c.OutOrStdout()); err != nil {
+				return err
+			}
+			switch rep.Outcome {
+			case runner.ClassIntegrity:
+				return &verifyExit{exitIntegrity}
+			case runner.ClassIncomplete:
+				return &verifyExit{exitIncomplete}
+			case runner.ClassDiffer:
+				return &verifyExit{exitDiffer}
+			case runner.ClassConclusion:
+				return &verifyExit{exitConclusion}
+			}
+			return nil
+		},
+	}
+	f := c.Flags()
+	f.StringVar(&o.Head, "head", "", "the audit head kept elsewhere (sha256:...), to rule out truncation")
+	f.StringVar(&o.PubKey, "pubkey", "", "the pinned Ed25519 public key the signature must verify against")
+	f.StringVar(&o.Data, "data", "", "rerun on this data file and report changed conclusions (drift check)")
+	f.IntVar(&o.Workers, "workers", 0, "goroutines for resampling (0: one per core)")
+	f.BoolVar(&jsonOut, "json", false, "print the verdicts as JSON")
+	return c
+}

@@ -1,0 +1,99 @@
+package audit
+
+// Written by the lead, to the API of the task brief.
+
+import (
+	"bytes"
+	"encoding/json"
+	"slices"
+	"strconv"
+)
+
+// Diff lists the paths at which two JSON values differ, such as "alpha" or
+// "analyses[0].pvalue.method": changed values, and keys or items present on one side
+// only. The order is deterministic: document order with object keys sorted (as RFC 8785
+// sorts them, for the ASCII keys rankplan writes), list items by index. A path is listed
+// once, at the highest level where the two sides stop being comparable (a value that
+// changes type is one difference). Numbers are compared by their decimal text.
+func Diff(a, b json.RawMessage) ([]string, error) {
+	va, err := decodeNumbers(a)
+	if err != nil {
+		return nil, err
+	}
+	vb, err := decodeNumbers(b)
+	if err != nil {
+		return nil, err
+	}
+	var out []string
+	diffValue("", va, vb, &out)
+	return out, nil
+}
+
+func decodeNumbers(b []byte) (any, error) {
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.UseNumber()
+	var v any
+	if err := dec.Decode(&v); err != nil {
+		return nil, err
+	}
+	return v, nil
+}
+
+func join(path, key string) string {
+	if path == "" {
+		return key
+	}
+	return path + "." + key
+}
+
+func diffValue(path string, a, b any, out *[]string) {
+	here := path
+	if here == "" {
+		here = "(top level)"
+	}
+	switch x := a.(type) {
+	case map[string]any:
+		y, ok := b.(map[string]any)
+		if !ok {
+			*out = append(*out, here)
+			return
+		}
+		keys := make([]string, 0, len(x)+len(y))
+		for k := range x {
+			keys = append(keys, k)
+		}
+		for k := range y {
+			if _, dup := x[k]; !dup {
+				keys = append(keys, k)
+			}
+		}
+		slices.Sort(keys)
+		for _, k := range keys {
+			va, ina := x[k]
+			vb, inb := y[k]
+			if !ina || !inb {
+				*out = append(*out, join(path, k))
+				continue
+			}
+			diffValue(join(path, k), va, vb, out)
+		}
+	case []any:
+		y, ok := b.([]any)
+		if !ok {
+			*out = append(*out, here)
+			return
+		}
+		for i := 0; i < max(len(x), len(y)); i++ {
+			p := path + "[" + strconv.Itoa(i) + "]"
+			if i >= len(x) || i >= len(y) {
+				*out = append(*out, p)
+				continue
+			}
+			diffValue(p, x[i], y[i], out)
+		}
+	default:
+		if a != b {
+			*out = append(*out, here)
+		}
+	}
+}

@@ -1,0 +1,106 @@
+package audit
+
+// Written by the lead, to the API of the task brief: plan locks and JSON diffs.
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+)
+
+// LockFormat names the layout of lock files.
+const LockFormat = "rankplan-lock/1"
+
+// Lock fixes a plan before the data exist (preregistration): the canonical plan itself,
+// so that later deviations can be listed key by key, its digest, the digest of the plan
+// file's bytes, the time and who made it.
+type Lock struct {
+	Format     string          `json:"format"`      // LockFormat
+	PlanID     string          `json:"plan_id"`     // the plan's id
+	PlanSHA256 string          `json:"plan_sha256"` // Digest(Plan)
+	RawSHA256  string          `json:"raw_sha256"`  // Digest(raw plan file bytes)
+	Plan       json.RawMessage `json:"plan"`        // the canonical plan (RFC 8785)
+	LockedAt   string          `json:"locked_at"`   // FormatTime
+	Tool       string          `json:"tool"`        // "rankplan <version>"
+	Actor      Actor           `json:"actor"`
+}
+
+// WriteLock writes l to path as indented JSON, refusing an existing path: the file is
+// written to a temporary name in the same folder, synced and hard-linked into place (the
+// link fails if path exists).
+func WriteLock(path string, l Lock) error {
+	if err := l.check(); err != nil {
+		return err
+	}
+	var buf bytes.Buffer
+	enc := json.NewEncoder(&buf)
+	enc.SetEscapeHTML(false)
+	enc.SetIndent("", "  ")
+	if err := enc.Encode(l); err != nil {
+		return fmt.Errorf("write lock: %w", err)
+	}
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("write lock: %w", err)
+	}
+	tmp := f.Name()
+	defer os.Remove(tmp)
+	_, werr := f.Write(buf.Bytes())
+	serr := f.Sync()
+	cerr := f.Close()
+	if err := errors.Join(werr, serr, cerr); err != nil {
+		return fmt.Errorf("write lock: %w", err)
+	}
+	if err := os.Link(tmp, path); err != nil {
+		return fmt.Errorf("write lock: %w", err)
+	}
+	return nil
+}
+
+// ReadLock reads and checks a lock file: known format, no unknown fields, and a plan
+// whose canonical digest is the recorded one.
+func ReadLock(path string) (Lock, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return Lock{}, err
+	}
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.DisallowUnknownFields()
+	var l Lock
+	if err := dec.Decode(&l); err != nil {
+		return Lock{}, fmt.Errorf("%s: not a lock file: %w", path, err)
+	}
+	// The file holds the plan indented; its canonical form is what the digest covers.
+	c, err := Canonical(l.Plan)
+	if err != nil {
+		return Lock{}, fmt.Errorf("%s: the plan is not JSON: %w", path, err)
+	}
+	l.Plan = c
+	if err := l.check(); err != nil {
+		return Lock{}, fmt.Errorf("%s: %w", path, err)
+	}
+	return l, nil
+}
+
+func (l Lock) check() error {
+	if l.Format != LockFormat {
+		return fmt.Errorf("lock format %q, want %q", l.Format, LockFormat)
+	}
+	c, err := Canonical(l.Plan)
+	if err != nil {
+		return fmt.Errorf("lock: the plan is not JSON: %w", err)
+	}
+	if Digest(c) != l.PlanSHA256 {
+		return fmt.Errorf("lock: the plan hashes to %s, but the lock records %s: the lock was altered", Digest(c), l.PlanSHA256)
+	}
+	if !isDigest(l.RawSHA256) {
+		return errors.New("lock: raw_sha256 is not a digest")
+	}
+	if _, ok := parseTime(l.LockedAt); !ok {
+		return fmt.Errorf("lock: locked_at %q is not a fixed-width UTC time", l.LockedAt)
+	}
+	return nil
+}

@@ -1,0 +1,368 @@
+package runner
+
+import (
+	"context"
+	"crypto/rand"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strconv"
+	"time"
+
+	"rankplan/runner/audit"
+	"rankplan/runner/results"
+	"rankplan/spec"
+	"rankplan/stats"
+	"rankplan/stats/stream"
+)
+
+// The files of a run folder.
+const (
+	ResultsFile   = "results.json"
+	AuditFile     = "audit.jsonl"
+	HeadFile      = "audit.head"
+	PlanCopyFile  = "plan.yaml"
+	LockCopyFile  = "lock.json"
+	SignatureFile = "signature.json"
+)
+
+// RunOptions are the inputs of [Run] besides the plan.
+type RunOptions struct {
+	Out     string // the run folder to create; it must not exist
+	Workers int    // resampling goroutines; results do not depend on it
+	Signer  string // a declared name, recorded with every record
+	Reason  string // why the run is made, recorded
+	// LockPath names a plan lock (rankplan lock). A plan that differs from it runs only
+	// with at least one Deviation, and DataSeen must then say whether the data had been
+	// seen when the plan was changed.
+	LockPath   string
+	Deviations []string
+	DataSeen   *bool
+	// SignKey names an Ed25519 private key; the final audit head is signed with Meaning.
+	SignKey string
+	Meaning string
+	Args    []string            // the command line, recorded
+	Now     func() time.Time    // clock; nil means time.Now
+	Getenv  func(string) string // environment; nil means os.Getenv
+}
+
+// RunRecord is what a finished run reports back.
+type RunRecord struct {
+	Dir        string
+	Prepared   *Prepared
+	Results    *results.Results
+	Head       string
+	Seq        int64
+	Deviations []Deviation
+	Signature  *audit.Signature
+}
+
+// Deviation is one difference between the locked plan and the plan that ran.
+type Deviation struct {
+	Changed  []string `json:"changed"` // key paths that differ from the locked plan
+	Reason   string   `json:"reason"`
+	DataSeen bool     `json:"data_seen"`
+}
+
+// Run validates the plan and its data, runs every analysis and writes the run folder:
+// results.json, a copy of the plan, the hash-chained audit log, its head, and optionally a
+// lock copy and a signature. Everything is written into a fresh sibling folder named
+// DIR.incomplete-XXXX, each file synced, and that folder is renamed to DIR only after the
+// last record; the rename refuses an existing DIR. A run that fails or is killed leaves no
+// DIR, only the .incomplete folder, whose log `verify` reports as incomplete.
+func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, error) {
+	now := opt.Now
+	if now == nil {
+		now = time.Now
+	}
+	getenv := opt.Getenv
+	if getenv == nil {
+		getenv = os.Getenv
+	}
+	if err := CheckNewFile(opt.Out); err != nil {
+		return nil, err
+	}
+	raw, err := os.ReadFile(planPath)
+	if err != nil {
+		return nil, &InputError{Err: fmt.Errorf("read plan: %w", err)}
+	}
+	p, err := spec.Parse(planPath, raw)
+	if err != nil {
+		return nil, &InputError{Err: err}
+	}
+	p.Dir = filepath.Dir(planPath)
+	canon, err := PlanCanonical(p)
+	if err != nil {
+		return nil, err
+	}
+	lockInfo, devs, lockBytes, err := checkLock(p, canon, opt)
+	if err != nil {
+		return nil, err
+	}
+	prep, err := Prepare(p)
+	if err != nil {
+		return nil, err
+	}
+	var signKey []byte
+	if opt.SignKey != "" {
+		k, err := audit.LoadPrivateKey(opt.SignKey)
+		if err != nil {
+			return nil, &InputError{Err: fmt.Errorf("--sign: %w", err)}
+		}
+		signKey = k
+	}
+
+	tmp, err := makeTemp(opt.Out)
+	if err != nil {
+		return nil, err
+	}
+	actor := audit.CurrentActor(getenv, opt.Signer, opt.Reason)
+	log, err := audit.Create(filepath.Join(tmp, AuditFile), actor, now)
+	if err != nil {
+		return nil, fmt.Errorf("create audit log: %w", err)
+	}
+	defer log.Close()
+	fail := func(err error) (*RunRecord, error) {
+		log.Append("run.failed", map[string]any{"error": err.Error()})
+		return nil, err
+	}
+
+	tool := Tool()
+	exe, exeSize := "", int64(0)
+	if path, err := os.Executable(); err == nil {
+		exe, exeSize, _ = audit.DigestFile(path)
+	}
+	if _, err := log.Append("run.started", map[string]any{
+		"tool": map[string]any{
+			"name": "rankplan", "version": tool.Version, "revision": tool.Revision, "modified": tool.Modified,
+			"executable_sha256": exe, "executable_bytes": exeSize,
+			"go": tool.GoVersion, "goos": tool.GOOS, "goarch": tool.GOARCH, "goamd64": goamd64(),
+		},
+		"command": opt.Args,
+		"workers": opt.Workers, "cpus": runtime.NumCPU(),
+		"note": "the plan and its data were validated before this record was written",
+	}); err != nil {
+		return nil, fmt.Errorf("write audit log: %w", err)
+	}
+	absPlan, _ := filepath.Abs(planPath)
+	if _, err := log.Append("plan.bound", map[string]any{
+		"path": planPath, "absolute_path": absPlan, "bytes": len(raw),
+		"raw_sha256": audit.Digest(raw), "canonical_sha256": audit.Digest(canon),
+		"plan_id": p.ID, "plan_format": spec.FormatVersion, "schema": "https://rankplan.invalid/schema/plan-v1.json",
+		"lock": lockInfo, "deviations": devs,
+	}); err != nil {
+		return fail(err)
+	}
+	absData, _ := filepath.Abs(prep.DataPath)
+	if _, err := log.Append("data.bound", map[string]any{
+		"path": prep.DataPath, "absolute_path": absData, "bytes": prep.Data.Bytes,
+		"sha256": "sha256:" + prep.Data.SHA256, "rows": prep.Data.Rows,
+		"high_precision_cells": prep.Data.HighPrecisionCells,
+	}); err != nil {
+		return fail(err)
+	}
+	var excl []map[string]any
+	for _, in := range prep.Analyses {
+		counts := map[string]int{}
+		for j, g := range in.Groups {
+			counts[g] = in.Counts[j]
+		}
+		excl = append(excl, map[string]any{
+			"analysis": in.Analysis.ID, "outcome": in.Analysis.Outcome, "n": len(in.Values),
+			"rows_per_group": counts, "excluded": in.Excluded,
+			"rule": "missing policy " + string(p.Data.Missing.Policy) + "; each row counted once, first reason of: missing-group, group-not-included, missing-outcome",
+		})
+	}
+	if _, err := log.Append("exclusions.applied", map[string]any{"analyses": excl}); err != nil {
+		return fail(err)
+	}
+
+	res, err := Execute(ctx, prep, Options{Workers: opt.Workers})
+	if err != nil {
+		return fail(err)
+	}
+	for _, a := range res.Analyses {
+		d := map[string]any{"analysis": a.ID, "status": a.Status}
+		if a.PValue != nil {
+			d["p_value_requested"], d["p_value_method"], d["reason"] = a.PValue.Requested, a.PValue.Method, a.PValue.Reason
+		}
+		d["random_stream"] = map[string]any{
+			"generator": stream.Generator, "scheme": stream.Label, "key_layout": stream.KeyLayout,
+			"seed": p.Seed.String(),
+			"uses": []map[string]any{
+				{"purpose": stats.PermutationPurpose, "block_size": stats.PermutationBlockSize},
+				{"purpose": stats.BootstrapPurpose, "block_size": stats.BootstrapBlockSize},
+			},
+		}
+		if _, err := log.Append("analysis.finished", d); err != nil {
+			return fail(err)
+		}
+	}
+
+	resBytes, err := EncodeResults(res)
+	if err != nil {
+		return fail(err)
+	}
+	digest, err := ResultsDigest(res)
+	if err != nil {
+		return fail(err)
+	}
+	outputs := []struct {
+		name string
+		b    []byte
+	}{{ResultsFile, resBytes}, {PlanCopyFile, raw}}
+	if lockBytes != nil {
+		outputs = append(outputs, struct {
+			name string
+			b    []byte
+		}{LockCopyFile, lockBytes})
+	}
+	for _, o := range outputs {
+		if err := writeFileAtomic(filepath.Join(tmp, o.name), o.b); err != nil {
+			return fail(err)
+		}
+		d := map[string]any{"file": o.name, "bytes": len(o.b), "sha256": audit.Digest(o.b)}
+		if o.name == ResultsFile {
+			d["results_digest"] = digest
+			d["results_digest_rule"] = "SHA-256 of the RFC 8785 canonical form of results.json (which holds no times, hosts or paths)"
+		}
+		if _, err := log.Append("output.written", d); err != nil {
+			return fail(err)
+		}
+	}
+	if _, err := log.Append("run.finished", map[string]any{"status": "ok", "exit_code": 0, "analyses": len(res.Analyses)}); err != nil {
+		return fail(err)
+	}
+	head, seq := log.Head(), log.Seq()
+	if err := log.Close(); err != nil {
+		return nil, fmt.Errorf("close audit log: %w", err)
+	}
+	if err := writeFileAtomic(filepath.Join(tmp, HeadFile), []byte(head+"\n")); err != nil {
+		return nil, err
+	}
+	rec := &RunRecord{Dir: opt.Out, Prepared: prep, Results: res, Head: head, Seq: seq, Deviations: devs}
+	if signKey != nil {
+		meaning := opt.Meaning
+		if meaning == "" {
+			meaning = "authorship"
+		}
+		sig, err := audit.Sign(signKey, head, seq, opt.Signer, meaning, now())
+		if err != nil {
+			return nil, fmt.Errorf("sign: %w", err)
+		}
+		b, err := EncodeJSON(sig)
+		if err != nil {
+			return nil, err
+		}
+		if err := writeFileAtomic(filepath.Join(tmp, SignatureFile), b); err != nil {
+			return nil, err
+		}
+		rec.Signature = &sig
+	}
+	if err := renameNoReplace(tmp, opt.Out); err != nil {
+		return nil, fmt.Errorf("move the finished run into place (it stays in %s): %w", tmp, err)
+	}
+	syncDir(filepath.Dir(opt.Out))
+	return rec, nil
+}
+
+// makeTemp creates the run's working folder beside out.
+func makeTemp(out string) (string, error) {
+	var b [4]byte
+	rand.Read(b[:])
+	tmp := filepath.Clean(out) + ".incomplete-" + hex.EncodeToString(b[:])
+	if err := os.Mkdir(tmp, 0o755); err != nil {
+		return "", fmt.Errorf("create run folder: %w", err)
+	}
+	return tmp, nil
+}
+
+// ResultsDigest is the SHA-256 of the canonical (RFC 8785) form of the results: the
+// fingerprint `verify` compares after rerunning a plan.
+func ResultsDigest(res *results.Results) (string, error) {
+	b, err := EncodeResults(res)
+	if err != nil {
+		return "", err
+	}
+	c, err := audit.Canonical(jsonRaw(b))
+	if err != nil {
+		return "", err
+	}
+	return audit.Digest(c), nil
+}
+
+// PlanCanonical is the canonical (RFC 8785) form of the plan as it runs, defaults
+// applied: the plan hash a lock fixes.
+func PlanCanonical(p *spec.Plan) ([]byte, error) {
+	return audit.Canonical(p)
+}
+
+func goamd64() string {
+	if v := os.Getenv("GOAMD64"); v != "" {
+		return v
+	}
+	return buildSetting("GOAMD64")
+}
+
+// checkLock compares the plan with the lock named in opt, if any. It returns what the
+// audit log records about the lock, the deviations, and the lock file's bytes.
+func checkLock(p *spec.Plan, canon []byte, opt RunOptions) (map[string]any, []Deviation, []byte, error) {
+	if opt.LockPath == "" {
+		if len(opt.Deviations) > 0 {
+			return nil, nil, nil, &InputError{Err: errors.New("--deviation needs --lock: a deviation is a difference from a locked plan")}
+		}
+		return map[string]any{"status": "none"}, nil, nil, nil
+	}
+	lockBytes, err := os.ReadFile(opt.LockPath)
+	if err != nil {
+		return nil, nil, nil, &InputError{Err: fmt.Errorf("--lock: %w", err)}
+	}
+	l, err := audit.ReadLock(opt.LockPath)
+	if err != nil {
+		return nil, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: %w", opt.LockPath, err)}
+	}
+	info := map[string]any{"path": opt.LockPath, "lock_sha256": audit.Digest(lockBytes), "locked_at": l.LockedAt,
+		"locked_plan_sha256": l.PlanSHA256}
+	if l.PlanSHA256 == audit.Digest(canon) {
+		if len(opt.Deviations) > 0 {
+			return nil, nil, nil, &InputError{Err: errors.New("--deviation given, but the plan matches its lock")}
+		}
+		info["status"] = "matches"
+		return info, nil, lockBytes, nil
+	}
+	changed, err := audit.Diff(l.Plan, canon)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	if len(opt.Deviations) == 0 {
+		return nil, nil, nil, &InputError{Err: fmt.Errorf("the plan differs from its lock %s (locked %s) at: %s; "+
+			"to run it anyway, state each reason with --deviation \"...\" and say whether the data had been seen with --data-seen=true|false",
+			opt.LockPath, l.LockedAt, joinMax(changed, 10))}
+	}
+	if opt.DataSeen == nil {
+		return nil, nil, nil, &InputError{Err: errors.New("a deviation must say whether the data had been seen: add --data-seen=true or --data-seen=false")}
+	}
+	var devs []Deviation
+	for _, r := range opt.Deviations {
+		devs = append(devs, Deviation{Changed: changed, Reason: r, DataSeen: *opt.DataSeen})
+	}
+	info["status"] = "deviates"
+	return info, devs, lockBytes, nil
+}
+
+func joinMax(s []string, n int) string {
+	out := ""
+	for i, x := range s {
+		if i == n {
+			return out + ", … (" + strconv.Itoa(len(s)) + " in all)"
+		}
+		if i > 0 {
+			out += ", "
+		}
+		out += x
+	}
+	return out
+}
