@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"strconv"
+	"strings"
 	"time"
 
 	"rankplan/runner/audit"
@@ -21,12 +22,13 @@ import (
 
 // The files of a run folder.
 const (
-	ResultsFile   = "results.json"
-	AuditFile     = "audit.jsonl"
-	HeadFile      = "audit.head"
-	PlanCopyFile  = "plan.yaml"
-	LockCopyFile  = "lock.json"
-	SignatureFile = "signature.json"
+	ResultsFile    = "results.json"
+	AuditFile      = "audit.jsonl"
+	HeadFile       = "audit.head"
+	PlanCopyFile   = "plan.yaml"
+	LockCopyFile   = "lock.json"
+	SignatureFile  = "signature.json"
+	ProvenanceFile = "provenance.intoto.json"
 )
 
 // RunOptions are the inputs of [Run] besides the plan.
@@ -220,6 +222,14 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 			b    []byte
 		}{LockCopyFile, lockBytes})
 	}
+	prov, err := provenance(outputs[:2], absPlan, raw, absData, "sha256:"+prep.Data.SHA256, exe, tool)
+	if err != nil {
+		return fail(err)
+	}
+	outputs = append(outputs, struct {
+		name string
+		b    []byte
+	}{ProvenanceFile, prov})
 	for _, o := range outputs {
 		if err := writeFileAtomic(filepath.Join(tmp, o.name), o.b); err != nil {
 			return fail(err)
@@ -365,4 +375,42 @@ func joinMax(s []string, n int) string {
 		out += x
 	}
 	return out
+}
+
+// provenance writes an in-toto Statement v1 (https://in-toto.io/Statement/v1, an open
+// standard) for supply-chain tooling: the outputs are its subjects, and the plan, the data
+// and the executable are the resolved dependencies of a SLSA Provenance v1 predicate. It
+// holds no times, so that it is the same for the same inputs.
+func provenance(outputs []struct {
+	name string
+	b    []byte
+}, planPath string, plan []byte, dataPath, dataDigest, exeDigest string, tool ToolInfo) ([]byte, error) {
+	hexOf := func(d string) string { return strings.TrimPrefix(d, "sha256:") }
+	var subjects []map[string]any
+	for _, o := range outputs {
+		subjects = append(subjects, map[string]any{"name": o.name, "digest": map[string]string{"sha256": hexOf(audit.Digest(o.b))}})
+	}
+	deps := []map[string]any{
+		{"name": "plan", "uri": "file://" + filepath.ToSlash(planPath), "digest": map[string]string{"sha256": hexOf(audit.Digest(plan))}},
+		{"name": "data", "uri": "file://" + filepath.ToSlash(dataPath), "digest": map[string]string{"sha256": hexOf(dataDigest)}},
+	}
+	if exeDigest != "" {
+		deps = append(deps, map[string]any{"name": "rankplan " + tool.Version, "digest": map[string]string{"sha256": hexOf(exeDigest)}})
+	}
+	st := map[string]any{
+		"_type":         "https://in-toto.io/Statement/v1",
+		"subject":       subjects,
+		"predicateType": "https://slsa.dev/provenance/v1",
+		"predicate": map[string]any{
+			"buildDefinition": map[string]any{
+				"buildType":            "https://rankplan.invalid/run/v1",
+				"externalParameters":   map[string]any{"plan": filepath.Base(planPath)},
+				"resolvedDependencies": deps,
+			},
+			"runDetails": map[string]any{
+				"builder": map[string]any{"id": "https://rankplan.invalid/rankplan@" + tool.Version},
+			},
+		},
+	}
+	return EncodeJSON(st)
 }

@@ -136,7 +136,7 @@ func copyDir(t *testing.T, src string) string {
 func TestTamper(t *testing.T) {
 	_, rec := newRun(t, RunOptions{})
 	rng := rand.New(rand.NewPCG(4, 2))
-	files := []string{ResultsFile, AuditFile, HeadFile, PlanCopyFile}
+	files := []string{ResultsFile, AuditFile, HeadFile, PlanCopyFile, ProvenanceFile}
 	for _, f := range files {
 		orig, err := os.ReadFile(filepath.Join(rec.Dir, f))
 		if err != nil {
@@ -292,5 +292,43 @@ func TestSignature(t *testing.T) {
 	os.WriteFile(filepath.Join(cp, SignatureFile), bytes.Replace(sig, []byte("approval"), []byte("review"), 1), 0o644)
 	if r := verify(t, cp, VerifyOptions{PubKey: key + ".pub"}); r.Outcome != ClassIntegrity {
 		t.Errorf("edited meaning: %s", r.Outcome)
+	}
+}
+
+// TestProvenance: the in-toto statement names the outputs with their SHA-256 and the plan
+// and data as resolved dependencies (in-toto Statement v1, SLSA Provenance v1 field names).
+func TestProvenance(t *testing.T) {
+	_, rec := newRun(t, RunOptions{})
+	var st struct {
+		Type          string `json:"_type"`
+		PredicateType string `json:"predicateType"`
+		Subject       []struct {
+			Name   string
+			Digest map[string]string
+		}
+		Predicate struct {
+			BuildDefinition struct {
+				ResolvedDependencies []struct {
+					Name   string
+					Digest map[string]string
+				}
+			}
+		}
+	}
+	if err := json.Unmarshal(must(os.ReadFile(filepath.Join(rec.Dir, ProvenanceFile))), &st); err != nil {
+		t.Fatal(err)
+	}
+	if st.Type != "https://in-toto.io/Statement/v1" || st.PredicateType != "https://slsa.dev/provenance/v1" || len(st.Subject) != 2 {
+		t.Fatalf("%+v", st)
+	}
+	for _, s := range st.Subject {
+		d, _, _ := audit.DigestFile(filepath.Join(rec.Dir, s.Name))
+		if "sha256:"+s.Digest["sha256"] != d {
+			t.Errorf("subject %s digest %s, file %s", s.Name, s.Digest["sha256"], d)
+		}
+	}
+	deps := st.Predicate.BuildDefinition.ResolvedDependencies
+	if len(deps) < 2 || deps[1].Digest["sha256"] != rec.Prepared.Data.SHA256 {
+		t.Errorf("dependencies %+v", deps)
 	}
 }
