@@ -5,14 +5,19 @@ package audit
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"slices"
 	"strconv"
+	"unicode/utf16"
+
+	"github.com/gowebpki/jcs"
 )
 
 // Diff lists the paths at which two JSON values differ, such as "alpha" or
 // "analyses[0].pvalue.method": changed values, and keys or items present on one side
-// only. The order is deterministic: document order with object keys sorted (as RFC 8785
-// sorts them, for the ASCII keys rankplan writes), list items by index. A path is listed
+// only. The order is deterministic: document order with object keys sorted as RFC 8785
+// §3.2.3 sorts them (by UTF-16 code units), list items by index. Invalid JSON, duplicate
+// keys (which would hide one of the two values) and data after the value are errors. A path is listed
 // once, at the highest level where the two sides stop being comparable (a value that
 // changes type is one difference). Numbers are compared by their decimal text.
 func Diff(a, b json.RawMessage) ([]string, error) {
@@ -30,13 +35,23 @@ func Diff(a, b json.RawMessage) ([]string, error) {
 }
 
 func decodeNumbers(b []byte) (any, error) {
+	// jcs rejects duplicate keys and trailing data, which encoding/json accepts.
+	if _, err := jcs.Transform(b); err != nil {
+		return nil, fmt.Errorf("diff: %w", err)
+	}
 	dec := json.NewDecoder(bytes.NewReader(b))
 	dec.UseNumber()
 	var v any
 	if err := dec.Decode(&v); err != nil {
-		return nil, err
+		return nil, fmt.Errorf("diff: %w", err)
 	}
 	return v, nil
+}
+
+// lessUTF16 orders strings by their UTF-16 code units (RFC 8785 §3.2.3).
+func lessUTF16(a, b string) int {
+	ua, ub := utf16.Encode([]rune(a)), utf16.Encode([]rune(b))
+	return slices.Compare(ua, ub)
 }
 
 func join(path, key string) string {
@@ -67,7 +82,7 @@ func diffValue(path string, a, b any, out *[]string) {
 				keys = append(keys, k)
 			}
 		}
-		slices.Sort(keys)
+		slices.SortFunc(keys, lessUTF16)
 		for _, k := range keys {
 			va, ina := x[k]
 			vb, inb := y[k]
