@@ -332,3 +332,17 @@ func TestProvenance(t *testing.T) {
 		t.Errorf("dependencies %+v", deps)
 	}
 }
+
+// TestIncompleteName: a run folder still carrying the .incomplete-XXXX mark was stopped
+// before it was moved into place, even when its log is complete (a kill between the last
+// file and the rename), so verify reports it as incomplete.
+func TestIncompleteName(t *testing.T) {
+	_, rec := newRun(t, RunOptions{})
+	marked := filepath.Join(t.TempDir(), "run.incomplete-0a1b2c3d")
+	if err := os.CopyFS(marked, os.DirFS(rec.Dir)); err != nil {
+		t.Fatal(err)
+	}
+	if r := verify(t, marked, VerifyOptions{}); r.Outcome != ClassIncomplete {
+		t.Errorf("outcome %s", r.Outcome)
+	}
+}

@@ -10,6 +10,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"regexp"
 	"slices"
 	"strings"
 
@@ -35,6 +36,9 @@ const (
 	ClassConclusion = "conclusion-changed" // verify --data: a decision at alpha flipped
 	Verified        = "verified"
 )
+
+// incompleteName matches the working folder of a run that was never moved into place.
+var incompleteName = regexp.MustCompile(`\.incomplete-[0-9a-f]{8}$`)
 
 // Check is one verdict of [Verify].
 type Check struct {
@@ -118,6 +122,12 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		order = append(order, rec.Event)
 	}
 	last := chain.Records[len(chain.Records)-1]
+	if incompleteName.MatchString(filepath.Base(filepath.Clean(dir))) {
+		// Run writes here first and renames the folder only after its last record and file:
+		// a folder still carrying the mark was stopped before that, however full its log.
+		r.add("complete", Fail, ClassIncomplete, "", "the folder is still named %s: the run was stopped before it was moved into place",
+			filepath.Base(filepath.Clean(dir)))
+	}
 	switch last.Event {
 	case "run.finished":
 		r.add("complete", Pass, "", AuditFile, "the log ends with run.finished (record %d)", last.Seq)
