@@ -96,8 +96,10 @@ reproduce byte for byte.
 
 A typical session:
   rankplan init --data lines.csv --group line --outcome minutes -o plan.yaml
+  rankplan lock plan.yaml                      (before the data exist)
   rankplan check plan.yaml
-  rankplan run plan.yaml --out runs/2026-12-01
+  rankplan run plan.yaml --lock plan.yaml.lock.json --out runs/2026-12-01
+  rankplan verify runs/2026-12-01 --head sha256:...
 
 Statistical output supports, and does not replace, qualified judgement; regulated use
 follows the lab's own procedures and software validation.
