@@ -138,7 +138,7 @@ def check_test_vector():
     g = ChaCha8Rand(seed)
     data = b"".join(struct.pack("<Q", g.uint64()) for _ in range(2976 // 8))
     if hashlib.sha256(data).hexdigest() != "bfec3d418b829afe5df2d8887d1508348409c293b73758d7efd841dd995fe021":
-        sys.exit("ChaCha8Rand transcript hash mismatch")
+        sys.exit("ChaCha8Rand output hash mismatch (first 2976 bytes)")
 
 
 def main():
