@@ -122,6 +122,9 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 		reject = *pv.Value <= p.Alpha
 	}
 	out.Decision = &results.Decision{Alpha: p.Alpha, Reject: reject}
+	if out.PostHoc, err = postHoc(p, in, r, reject); err != nil {
+		return out, err
+	}
 	es, err := effectSizes(p, in, r, kw, opt)
 	if err != nil {
 		return out, err

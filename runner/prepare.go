@@ -114,6 +114,10 @@ func Prepare(p *spec.Plan) (*Prepared, error) {
 	}
 	for i := range p.Analyses {
 		a := &p.Analyses[i]
+		if c := a.PostHoc.Control; c != "" && !slices.Contains(groups, c) {
+			return nil, inputErr(spec.ErrorList{p.Errorf("analyses."+strconv.Itoa(i)+".posthoc.control",
+				"the control group %q is not among the analysed groups (%s)", c, strings.Join(quoteEach(groups), ", "))})
+		}
 		in, err := select_(p, i, t, groups, t.Outcome[outcomeCol[a.Outcome]])
 		if err != nil {
 			return nil, inputErr(err)

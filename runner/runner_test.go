@@ -276,7 +276,7 @@ func TestDraft(t *testing.T) {
 		}
 	}
 	_, err = Draft(DraftOptions{DataPath: data, Group: "arm", Outcome: "score", Delimiter: "auto", Decimal: "auto",
-		Alpha: 0.05, PValue: spec.Exact, PostHoc: spec.Dunn, Adjust: spec.NoAdjustment})
+		Alpha: 0.05, PValue: spec.Exact, PostHoc: spec.DSCF, Adjust: spec.NoAdjustment})
 	if err == nil || !strings.Contains(err.Error(), "not implemented yet") {
 		t.Errorf("draft with an unimplemented method: %v", err)
 	}
@@ -413,5 +413,66 @@ func TestMethodInvariance(t *testing.T) {
 				t.Errorf("%s %s: p %v, base %v", pv, name, *got.PValue.Value, *base.PValue.Value)
 			}
 		}
+	}
+}
+
+// TestPostHoc: Dunn with Holm on PlantGrowth gives the z and adjusted p of METHODS.md §3.1
+// [V] (z = 1.117725, −1.689290, −2.807015; Holm 0.263684, 0.182328, 0.015001), pairwise
+// effect sizes of METHODS.md §5, and letters consistent with the decisions; gating skips
+// the comparisons when the omnibus test does not reject.
+func TestPostHoc(t *testing.T) {
+	csv := "g,y\n"
+	for i, g := range [][]float64{
+		{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14},
+		{4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69},
+		{6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26}} {
+		for _, v := range g {
+			csv += fmt.Sprintf("%s,%v\n", []string{"ctrl", "trt1", "trt2"}[i], v)
+		}
+	}
+	dir := t.TempDir()
+	os.WriteFile(filepath.Join(dir, "data.csv"), []byte(csv), 0o644)
+	src := planHead + "alpha: 0.05\nseed: 1\nanalyses:\n  - id: a\n    test: kruskal-wallis\n    pvalue: {method: asymptotic}\n" +
+		"    effect_size: {resamples: 0}\n    posthoc: {method: dunn, adjust: holm}\n"
+	os.WriteFile(filepath.Join(dir, "plan.yaml"), []byte(src), 0o644)
+	p, err := spec.Load(filepath.Join(dir, "plan.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	ph := runAll(t, p).Analyses[0].PostHoc
+	if ph == nil || !ph.Ran || len(ph.Pairs) != 3 {
+		t.Fatalf("%+v", ph)
+	}
+	wantZ := []float64{1.117725, -1.689290, -2.807015}
+	wantHolm := []float64{0.263684, 0.182328, 0.015001}
+	for i, pr := range ph.Pairs {
+		if math.Abs(pr.Statistic-wantZ[i]) > 5e-7 || math.Abs(pr.PAdjusted-wantHolm[i]) > 5e-7 {
+			t.Errorf("pair %v: z %v holm %v", pr.Groups, pr.Statistic, pr.PAdjusted)
+		}
+	}
+	if ph.Pairs[2].Groups != [2]string{"trt1", "trt2"} || !ph.Pairs[2].Reject || ph.Pairs[0].Reject ||
+		math.Abs(ph.Pairs[2].CliffsDelta-(-0.68)) > 1e-12 || math.Abs(ph.Pairs[2].HodgesLehmann.Shift-(-0.945)) > 1e-12 {
+		t.Errorf("trt1 vs trt2: %+v", ph.Pairs[2])
+	}
+	letters := map[string]string{}
+	for _, l := range ph.Letters {
+		letters[l.Group] = l.Letters
+	}
+	if letters["trt1"] == letters["trt2"] || !strings.ContainsAny(letters["ctrl"], letters["trt1"]) || !strings.ContainsAny(letters["ctrl"], letters["trt2"]) {
+		t.Errorf("letters %v", letters)
+	}
+	// Gating: on the tied toy data at alpha 0.01 the omnibus test does not reject.
+	p2 := methodPlan(t, "{method: asymptotic}", "{resamples: 0}", tiedToy)
+	p2.Alpha = 0.01
+	p2.Analyses[0].PostHoc = spec.PostHocPlan{Method: spec.Conover, Adjust: spec.Holm, When: "significant"}
+	ph2 := runAll(t, p2).Analyses[0].PostHoc
+	if ph2 == nil || ph2.Ran || ph2.Pairs != nil || !strings.Contains(ph2.Why, "did not reject") {
+		t.Errorf("gated: %+v", ph2)
+	}
+	p2.Analyses[0].PostHoc.When = "always"
+	p2.Analyses[0].PostHoc.Method = spec.RankSum
+	ph3 := runAll(t, p2).Analyses[0].PostHoc
+	if !ph3.Ran || len(ph3.Pairs) != 3 || ph3.Pairs[0].PMethod != "exact" {
+		t.Errorf("always, rank-sum: %+v", ph3)
 	}
 }

@@ -164,8 +164,8 @@ func (p *Plan) check() ErrorList {
 			if ph.When != "" {
 				add(at+".posthoc.when", "applies only with a post-hoc method; set posthoc.method")
 			}
-		} else {
-			add(at+".posthoc.method", "%q is %s; use \"none\"", ph.Method, notImplemented)
+		} else if ph.Method == DSCF || ph.Method == Nemenyi {
+			add(at+".posthoc.method", "%q is %s; use \"dunn\", \"conover\" or \"rank-sum\"", ph.Method, notImplemented)
 		}
 	}
 	return errs

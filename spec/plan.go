@@ -223,6 +223,9 @@ func (p *Plan) applyDefaults() {
 		if a.PostHoc.Adjust == "" {
 			a.PostHoc.Adjust = NoAdjustment
 		}
+		if a.PostHoc.When == "" && a.PostHoc.Method != NoPostHoc {
+			a.PostHoc.When = "significant"
+		}
 	}
 }
 

@@ -68,7 +68,7 @@ func meanRank(r *Ranking, i int) float64 {
 // DunnTest compares groups pairwise on the joint ranks of the Kruskal-Wallis test (Dunn
 // 1964), with the tie-corrected variance [RankVariance]:
 //
-//	z_ij = (R̄_i − R̄_j) / sqrt(σ²_R (1/n_i + 1/n_j)),   p = 2 Φ(−|z|) = erfc(|z|/√2)
+//	z_ij = (R̄_i − R̄_j) / sqrt(σ²_R (1/n_i + 1/n_j)),   p = 2 Φ(−|z|) = erfc(|z|/√2)  ([NormalTwoSided])
 //
 // The p-values are unadjusted. It returns [ErrAllTied] when every value is tied.
 func DunnTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
@@ -85,7 +85,7 @@ func DunnTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 		d := meanRank(r, i) - meanRank(r, j)
 		se := math.Sqrt(float64(s2 * float64(1/float64(r.Counts[i])+1/float64(r.Counts[j]))))
 		z := d / se
-		out[k] = Comparison{I: i, J: j, MeanDiff: d, SE: se, Statistic: z, P: math.Erfc(math.Abs(z) / math.Sqrt2)}
+		out[k] = Comparison{I: i, J: j, MeanDiff: d, SE: se, Statistic: z, P: NormalTwoSided(z)}
 	}
 	return out, nil
 }

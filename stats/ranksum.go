@@ -58,7 +58,7 @@ func RankSumTest(x, y []float64, continuity bool, budget ExactBudget) (RankSum, 
 		d -= math.Copysign(math.Min(0.5, math.Abs(d)), d)
 	}
 	out.Z = d / math.Sqrt(s2)
-	out.PNorm = math.Erfc(math.Abs(out.Z) / math.Sqrt2)
+	out.PNorm = NormalTwoSided(out.Z)
 	ex, err := KruskalWallisExact(r, budget)
 	switch {
 	case err == nil:

@@ -108,6 +108,9 @@ func Summary(w io.Writer, res *results.Results, dataPath string) error {
 			verdict = "reject the null hypothesis of identical distributions (p <= alpha)"
 		}
 		ew.printf("  at alpha = %s: %s\n", Num(a.Decision.Alpha), verdict)
+		if ph := a.PostHoc; ph != nil {
+			writePostHoc(ew, ph)
+		}
 	}
 	ew.printf("\n%s\n", Caution)
 	return ew.err
@@ -173,4 +176,40 @@ func Preview(w io.Writer, pv *results.Preview, planPath, dataPath string) error 
 	}
 	ew.printf("\nnothing was computed; run it with: rankplan run %s --out DIR\n", planPath)
 	return ew.err
+}
+
+var postHocNames = map[string]string{
+	"dunn": "Dunn z-tests on the joint ranks", "conover": "Conover-Iman t-tests on the joint ranks",
+	"rank-sum": "pairwise Wilcoxon-Mann-Whitney rank-sum tests",
+}
+
+func writePostHoc(ew *errWriter, ph *results.PostHoc) {
+	family := "all pairs"
+	if ph.Family == "many-to-one" {
+		family = "each group against " + strconv.Quote(ph.Control)
+	}
+	ew.printf("  post-hoc: %s, %s, adjustment %s\n", postHocNames[ph.Method], family, ph.Adjust)
+	if !ph.Ran {
+		ew.printf("    %s\n", ph.Why)
+		return
+	}
+	tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintf(tw, "    pair\t%s\tp\tadjusted p\tdecision\tCliff's delta\tHL shift\tinterval\t\n", ph.Statistic)
+	for _, p := range ph.Pairs {
+		d := "no difference shown"
+		if p.Reject {
+			d = "differ"
+		}
+		iv := p.HodgesLehmann.Interval
+		fmt.Fprintf(tw, "    %s vs %s\t%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t\n", p.Groups[0], p.Groups[1], Num(p.Statistic), Num(p.P),
+			Num(p.PAdjusted), d, Num(p.CliffsDelta), Num(p.HodgesLehmann.Shift), Num(iv.Low), Num(iv.High))
+	}
+	tw.Flush()
+	if len(ph.Letters) > 0 {
+		parts := make([]string, len(ph.Letters))
+		for i, l := range ph.Letters {
+			parts[i] = l.Group + " " + l.Letters
+		}
+		ew.printf("    letters (groups sharing a letter do not differ at alpha): %s\n", strings.Join(parts, ", "))
+	}
 }

@@ -62,6 +62,55 @@ type Analysis struct {
 	AsymptoticP *Tail        `json:"asymptotic_p_value,omitempty"`
 	Decision    *Decision    `json:"decision,omitempty"`
 	EffectSizes *EffectSizes `json:"effect_sizes,omitempty"`
+	PostHoc     *PostHoc     `json:"posthoc,omitempty"`
+}
+
+// PostHoc is the pairwise follow-up of an analysis.
+type PostHoc struct {
+	Method  string `json:"method"` // dunn, conover or rank-sum
+	Adjust  string `json:"adjust"`
+	Family  string `json:"family"` // all-pairs or many-to-one
+	Control string `json:"control,omitempty"`
+	When    string `json:"when"` // significant or always
+	Ran     bool   `json:"ran"`
+	Why     string `json:"why"`
+	// Statistic names the pairs' statistic: z (Dunn), t (Conover-Iman) or U (rank-sum).
+	Statistic string `json:"statistic,omitempty"`
+	Pairs     []Pair `json:"pairs,omitempty"`
+	// Letters is the compact letter display (all-pairs families): groups sharing a letter
+	// do not differ at alpha after adjustment.
+	Letters []GroupLetters `json:"letters,omitempty"`
+}
+
+// Pair is one pairwise comparison, with its effect sizes.
+type Pair struct {
+	Group1, Group2 string    `json:"-"`
+	Groups         [2]string `json:"groups"`
+	MeanRankDiff   float64   `json:"mean_rank_diff"` // of the joint ranks (Dunn, Conover) or of the pair's own ranks (rank-sum)
+	Statistic      float64   `json:"statistic"`
+	PMethod        string    `json:"p_method"` // normal, t, exact or normal-continuity
+	P              float64   `json:"p"`
+	PAdjusted      float64   `json:"p_adjusted"`
+	Reject         bool      `json:"reject"`
+	CliffsDelta    float64   `json:"cliffs_delta"`
+	VarghaDelaneyA float64   `json:"vargha_delaney_a"`
+	HodgesLehmann  HLShift   `json:"hodges_lehmann"`
+}
+
+// HLShift is the Hodges-Lehmann shift of the first group against the second, with its
+// distribution-free (Moses) interval.
+type HLShift struct {
+	Shift    float64  `json:"shift"`
+	Interval Interval `json:"interval"`
+	// Coverage is the interval's exact coverage for continuous data; null when taken from
+	// the normal approximation of the index.
+	Coverage *float64 `json:"coverage"`
+}
+
+// GroupLetters is a group's letters in the compact letter display.
+type GroupLetters struct {
+	Group   string `json:"group"`
+	Letters string `json:"letters"`
 }
 
 // Group describes one analysed group.

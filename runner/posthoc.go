@@ -1,0 +1,123 @@
+package runner
+
+import (
+	"fmt"
+	"slices"
+
+	"rankplan/runner/results"
+	"rankplan/spec"
+	"rankplan/stats"
+)
+
+// postHoc runs the pairwise follow-up of an analysis. This switch is the one place where a
+// post-hoc method or adjustment named in a plan meets its function in package stats.
+func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibusReject bool) (*results.PostHoc, error) {
+	ph := in.Analysis.PostHoc
+	if ph.Method == spec.NoPostHoc {
+		return nil, nil
+	}
+	out := &results.PostHoc{Method: string(ph.Method), Adjust: string(ph.Adjust), Family: "all-pairs", When: ph.When}
+	k := len(in.Groups)
+	pairs := stats.AllPairs(k)
+	if ph.Control != "" {
+		out.Family, out.Control = "many-to-one", ph.Control
+		pairs = stats.ManyToOne(k, slices.Index(in.Groups, ph.Control))
+	}
+	switch {
+	case ph.When == "always":
+		out.Ran, out.Why = true, "posthoc.when is always: the comparisons run whatever the omnibus result"
+	case omnibusReject:
+		out.Ran, out.Why = true, "the omnibus test rejected at alpha (posthoc.when: significant)"
+	default:
+		out.Why = "not run: the omnibus test did not reject at alpha (posthoc.when: significant)"
+		return out, nil
+	}
+
+	raw := make([]float64, len(pairs))
+	out.Pairs = make([]results.Pair, len(pairs))
+	switch ph.Method {
+	case spec.Dunn, spec.Conover:
+		var cmp []stats.Comparison
+		var err error
+		if ph.Method == spec.Dunn {
+			out.Statistic = "z"
+			cmp, err = stats.DunnTest(r, pairs)
+		} else {
+			out.Statistic = "t"
+			cmp, err = stats.ConoverImanTest(r, pairs)
+		}
+		if err != nil {
+			return nil, err
+		}
+		for i, c := range cmp {
+			pm := "normal"
+			if ph.Method == spec.Conover {
+				pm = "t"
+			}
+			out.Pairs[i] = results.Pair{MeanRankDiff: c.MeanDiff, Statistic: c.Statistic, PMethod: pm, P: c.P}
+			raw[i] = c.P
+		}
+	case spec.RankSum:
+		out.Statistic = "U"
+		for i, pr := range pairs {
+			rs, err := stats.RankSumTest(r.Sorted[pr[0]], r.Sorted[pr[1]], true, stats.DefaultExactBudget)
+			if err != nil {
+				return nil, fmt.Errorf("rank-sum %s vs %s: %w", in.Groups[pr[0]], in.Groups[pr[1]], err)
+			}
+			m, n := float64(len(r.Sorted[pr[0]])), float64(len(r.Sorted[pr[1]]))
+			// The pair's own mean-rank difference: R̄_x − R̄_y = (U − mn/2)(m + n)/(mn).
+			pair := results.Pair{Statistic: rs.U, PMethod: "normal-continuity", P: rs.PNorm,
+				MeanRankDiff: float64(float64(rs.U-float64(m*n)/2)*float64(m+n)) / float64(m*n)}
+			if rs.Exact {
+				pair.PMethod, pair.P = "exact", rs.PExact
+			}
+			out.Pairs[i] = pair
+			raw[i] = pair.P
+		}
+	default:
+		return nil, fmt.Errorf("post-hoc method %q has no implementation", ph.Method)
+	}
+	adj, err := stats.AdjustP(string(ph.Adjust), raw)
+	if err != nil {
+		return nil, err
+	}
+	rej := stats.Reject(adj, p.Alpha)
+	level := in.Analysis.EffectSize.Level
+	for i, pr := range pairs {
+		x, y := r.Sorted[pr[0]], r.Sorted[pr[1]]
+		e, err := stats.PairEffectSizes(x, y)
+		if err != nil {
+			return nil, err
+		}
+		hl, err := stats.HodgesLehmannShift(x, y, level)
+		if err != nil {
+			return nil, err
+		}
+		pp := &out.Pairs[i]
+		pp.Groups = [2]string{in.Groups[pr[0]], in.Groups[pr[1]]}
+		pp.PAdjusted, pp.Reject = adj[i], rej[i]
+		pp.CliffsDelta, pp.VarghaDelaneyA = e.CliffsDelta, e.VarghaDelaneyA
+		pp.HodgesLehmann = results.HLShift{Shift: hl.Shift, Interval: results.Interval{Level: level, Low: hl.Low, High: hl.High}}
+		if hl.ExactIndex {
+			c := hl.Coverage
+			pp.HodgesLehmann.Coverage = &c
+		}
+	}
+	if out.Family == "all-pairs" {
+		diff := make([][]bool, k)
+		for i := range diff {
+			diff[i] = make([]bool, k)
+		}
+		for i, pr := range pairs {
+			diff[pr[0]][pr[1]], diff[pr[1]][pr[0]] = rej[i], rej[i]
+		}
+		letters, err := stats.CompactLetters(diff)
+		if err != nil {
+			return nil, err
+		}
+		for i, g := range in.Groups {
+			out.Letters = append(out.Letters, results.GroupLetters{Group: g, Letters: letters[i]})
+		}
+	}
+	return out, nil
+}
