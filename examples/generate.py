@@ -56,6 +56,27 @@ def pilot():
         for r in rows:
             f.write(",".join(r) + "\n")
 
+def cream_trial():
+    # A three-arm trial of a skin cream (vehicle, 0.5%, 1%) at two sites, 10 patients per
+    # arm and site, with three endpoints on day 14: itch (0-10, half points), redness
+    # (0-4 grade) and nights of disturbed sleep in the last week (0-7). Heavily tied.
+    rng = random.Random(1414)
+    arms = {"vehicle": 0.0, "cream 0.5%": 0.8, "cream 1%": 1.4}
+    rows = []
+    for site in ("north", "south"):
+        for arm, d in arms.items():
+            for i in range(10):
+                itch = min(10.0, max(0.0, round((6.0 - 1.6 * d + rng.gauss(0, 1.5)) * 2) / 2))
+                redness = min(4, max(0, round(2.4 - 1.0 * d + rng.gauss(0, 0.9))))
+                sleep = min(7, max(0, round(3.0 - 0.35 * d + rng.gauss(0, 1.8))))
+                rows.append((f"{site[0].upper()}{len(rows) + 1:03d}", site, arm, f"{itch:g}", str(redness), str(sleep)))
+    rows[23] = rows[23][:4] + ("NA",) + rows[23][5:]  # a redness grade not recorded
+    with open("cream-trial/patients.csv", "w", newline="") as f:
+        f.write("patient,site,arm,itch_day14,redness_day14,sleep_nights_day14\n")
+        for r in rows:
+            f.write(",".join(r) + "\n")
+
 dissolution()
 symptom_scores()
 pilot()
+cream_trial()

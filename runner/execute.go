@@ -22,7 +22,7 @@ const smallestNormal = 0x1p-1022
 var Conventions = results.Conventions{
 	Ranks:     "midranks for ties; values are compared as IEEE 754 doubles (-0 ties with 0)",
 	Quantiles: "Hyndman & Fan (1996) type 7: linear interpolation between order statistics at h = (n - 1)p",
-	Decision:  "reject the null hypothesis when p <= alpha",
+	Decision:  "reject the null hypothesis when p <= alpha; an analysis in the plan's multiplicity family rejects when its adjusted p <= alpha (for a fixed sequence, the largest p so far in the sequence)",
 	RandomStream: "ChaCha8Rand (C2SP chacha8rand) per block; block key = SHA-256(" + stream.Label +
 		" || 0x00 || purpose || 0x00 || seed as 8 bytes big-endian || analysis id length as 4 bytes big-endian || analysis id || block index as 8 bytes big-endian); " +
 		"bounded integers by Lemire's method, shuffles by Fisher-Yates, resampling by uniform indices (specified step by step in rankplan's stats/stream package documentation)",
@@ -47,39 +47,67 @@ func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results
 		Conventions: Conventions,
 		Analyses:    make([]results.Analysis, 0, len(prep.Analyses)),
 	}
+	wrap := func(i int, err error) error {
+		var ie *InputError
+		if errors.As(err, &ie) {
+			return err
+		}
+		return fmt.Errorf("analysis %q: %w", prep.Analyses[i].Analysis.ID, err)
+	}
+	// The omnibus tests first: decisions across analyses need every omnibus p-value,
+	// and post-hoc gating needs the decisions.
+	ranks := make([]*stats.Ranking, len(prep.Analyses))
 	for i := range prep.Analyses {
-		a, err := analyse(ctx, p, i, &prep.Analyses[i], opt)
+		a, r, err := analyse(ctx, p, i, &prep.Analyses[i], opt)
 		if err != nil {
-			var ie *InputError
-			if errors.As(err, &ie) {
-				return nil, err
-			}
-			return nil, fmt.Errorf("analysis %q: %w", prep.Analyses[i].Analysis.ID, err)
+			return nil, wrap(i, err)
 		}
 		res.Analyses = append(res.Analyses, a)
+		ranks[i] = r
+	}
+	if p.Multiplicity != nil {
+		m, err := multiplicity(p, res.Analyses)
+		if err != nil {
+			return nil, err
+		}
+		res.Multiplicity = m
+	}
+	for i := range res.Analyses {
+		a := &res.Analyses[i]
+		if a.Status != "ok" {
+			continue
+		}
+		var err error
+		if a.PostHoc, err = postHoc(p, &prep.Analyses[i], ranks[i], a.Decision); err != nil {
+			return nil, wrap(i, err)
+		}
+		ranks[i] = nil
 	}
 	return res, nil
 }
 
-func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Options) (results.Analysis, error) {
+// analyse runs the omnibus test of one analysis and its effect sizes, and returns the
+// ranking for the post-hoc comparisons (nil when the test is not computable).
+func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Options) (results.Analysis, *stats.Ranking, error) {
 	a := in.Analysis
 	out := results.Analysis{
 		ID:       a.ID,
 		Title:    a.Title,
 		Test:     string(a.Test),
 		Outcome:  a.Outcome,
+		Subset:   subsetOf(a),
 		N:        len(in.Values),
 		Excluded: in.Excluded,
 		Groups:   make([]results.Group, len(in.Groups)),
 	}
 	r, err := stats.Rank(in.Group, in.Values, len(in.Groups))
 	if err != nil {
-		return out, err
+		return out, nil, err
 	}
 	for j, name := range in.Groups {
 		q1, med, q3, err := stats.Quartiles(r.Sorted[j])
 		if err != nil {
-			return out, fmt.Errorf("group %q: %w", name, err)
+			return out, nil, fmt.Errorf("group %q: %w", name, err)
 		}
 		s := r.Sorted[j]
 		out.Groups[j] = results.Group{
@@ -94,10 +122,10 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 	if errors.Is(err, stats.ErrAllTied) {
 		out.Status = "not-computable"
 		out.Reason = "all observations are tied: every value is the same, so ranks carry no information"
-		return out, nil
+		return out, nil, nil
 	}
 	if err != nil {
-		return out, err
+		return out, nil, err
 	}
 	blocks, tied := 0, 0
 	for _, b := range r.Blocks {
@@ -114,23 +142,20 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 	out.AsymptoticP = tail(kw.P, kw.Log10P)
 	pv, err := pValue(ctx, p, index, in, r, kw, opt)
 	if err != nil {
-		return out, err
+		return out, nil, err
 	}
 	out.PValue = pv
 	reject := pv.Log10 <= math.Log10(p.Alpha)
 	if pv.Value != nil {
 		reject = *pv.Value <= p.Alpha
 	}
-	out.Decision = &results.Decision{Alpha: p.Alpha, Reject: reject}
-	if out.PostHoc, err = postHoc(p, in, r, reject); err != nil {
-		return out, err
-	}
+	out.Decision = &results.Decision{Alpha: p.Alpha, Reject: reject, Rule: "own p-value: reject when p <= alpha"}
 	es, err := effectSizes(p, in, r, kw, opt)
 	if err != nil {
-		return out, err
+		return out, nil, err
 	}
 	out.EffectSizes = es
-	return out, nil
+	return out, r, nil
 }
 
 // tail writes a p-value and its log10; the value is left out (null) below the smallest

@@ -11,7 +11,7 @@ import (
 
 // postHoc runs the pairwise follow-up of an analysis. This switch is the one place where a
 // post-hoc method or adjustment named in a plan meets its function in package stats.
-func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibusReject bool) (*results.PostHoc, error) {
+func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decision) (*results.PostHoc, error) {
 	ph := in.Analysis.PostHoc
 	if ph.Method == spec.NoPostHoc {
 		return nil, nil
@@ -26,8 +26,13 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibusReject bool) (*re
 	switch {
 	case ph.When == "always":
 		out.Ran, out.Why = true, "posthoc.when is always: the comparisons run whatever the omnibus result"
-	case omnibusReject:
+	case omnibus.Reject && omnibus.PAdjusted != nil:
+		out.Ran, out.Why = true, "the omnibus test rejected at alpha under the plan's multiplicity rule (posthoc.when: significant)"
+	case omnibus.Reject:
 		out.Ran, out.Why = true, "the omnibus test rejected at alpha (posthoc.when: significant)"
+	case omnibus.PAdjusted != nil:
+		out.Why = "not run: the omnibus test did not reject at alpha under the plan's multiplicity rule (posthoc.when: significant)"
+		return out, nil
 	default:
 		out.Why = "not run: the omnibus test did not reject at alpha (posthoc.when: significant)"
 		return out, nil

@@ -72,10 +72,25 @@ func Prepare(p *spec.Plan) (*Prepared, error) {
 		FailOnMissing: p.Data.Missing.Policy == spec.FailOnMissing,
 	}
 	outcomeCol := map[string]int{}
+	labelCol := map[string]int{}
 	for _, a := range p.Analyses {
 		if _, ok := outcomeCol[a.Outcome]; !ok {
 			outcomeCol[a.Outcome] = len(opt.OutcomeColumns)
 			opt.OutcomeColumns = append(opt.OutcomeColumns, a.Outcome)
+		}
+	}
+	for i, a := range p.Analyses {
+		s := a.Subset
+		if s == nil {
+			continue
+		}
+		if _, ok := outcomeCol[s.Column]; ok {
+			return nil, inputErr(spec.ErrorList{p.Errorf("analyses."+strconv.Itoa(i)+".subset.column",
+				"column %q is an outcome of an analysis of this plan; a subset column holds labels", s.Column)})
+		}
+		if _, ok := labelCol[s.Column]; !ok {
+			labelCol[s.Column] = len(opt.LabelColumns)
+			opt.LabelColumns = append(opt.LabelColumns, s.Column)
 		}
 	}
 
@@ -118,7 +133,11 @@ func Prepare(p *spec.Plan) (*Prepared, error) {
 			return nil, inputErr(spec.ErrorList{p.Errorf("analyses."+strconv.Itoa(i)+".posthoc.control",
 				"the control group %q is not among the analysed groups (%s)", c, strings.Join(quoteEach(groups), ", "))})
 		}
-		in, err := select_(p, i, t, groups, t.Outcome[outcomeCol[a.Outcome]])
+		var subset *data.LabelColumn
+		if a.Subset != nil {
+			subset = &t.Labels[labelCol[a.Subset.Column]]
+		}
+		in, err := select_(p, i, t, groups, t.Outcome[outcomeCol[a.Outcome]], subset)
 		if err != nil {
 			return nil, inputErr(err)
 		}
@@ -176,6 +195,9 @@ func checkColumns(p *spec.Plan, path string, header []string) spec.ErrorList {
 			need(key, a.Outcome)
 		} else if !p.Has("data.outcome") {
 			need(key, a.Outcome)
+		}
+		if a.Subset != nil {
+			need("analyses."+strconv.Itoa(i)+".subset.column", a.Subset.Column)
 		}
 	}
 	return errs
@@ -242,9 +264,29 @@ func sortedCopy(s []string) []string {
 
 // select_ builds the input of analysis i: each row is either used or counted once as
 // excluded, under the first reason that applies in this order: missing-group,
-// group-not-included, missing-outcome.
-func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []float64) (Input, error) {
+// group-not-included, outside-subset, missing-outcome. subset is the label column of the
+// analysis's subset, or nil.
+func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []float64, subset *data.LabelColumn) (Input, error) {
 	a := &p.Analyses[i]
+	at := "analyses." + strconv.Itoa(i)
+	// Label index → whether the subset takes its rows.
+	var keep []bool
+	if subset != nil {
+		keep = make([]bool, len(subset.Values))
+		var errs spec.ErrorList
+		for j, v := range a.Subset.Values {
+			k := slices.Index(subset.Values, v)
+			if k < 0 {
+				errs = append(errs, p.Errorf(fmt.Sprintf("%s.subset.values.%d", at, j),
+					"no row has %q in column %q of %s (values found: %s)", v, a.Subset.Column, p.DataPath(), strings.Join(quoteEach(sortedCopy(subset.Values)), ", ")))
+				continue
+			}
+			keep[k] = true
+		}
+		if len(errs) > 0 {
+			return Input{}, errs.Err()
+		}
+	}
 	pos := make(map[string]int32, len(groups))
 	for j, g := range groups {
 		pos[g] = int32(j)
@@ -277,6 +319,8 @@ func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []floa
 			excluded[key{results.ReasonMissingGroup, -1}]++
 		case remap[g] < 0:
 			excluded[key{results.ReasonNotIncluded, g}]++
+		case keep != nil && !keep[subset.Row[r]]:
+			excluded[key{results.ReasonOutsideSubset, g}]++
 		case math.IsNaN(outcome[r]):
 			excluded[key{results.ReasonMissingOutcome, g}]++
 		default:
@@ -286,7 +330,7 @@ func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []floa
 			in.Counts[k]++
 		}
 	}
-	reasonRank := map[string]int{results.ReasonMissingGroup: 0, results.ReasonNotIncluded: 1, results.ReasonMissingOutcome: 2}
+	reasonRank := map[string]int{results.ReasonMissingGroup: 0, results.ReasonNotIncluded: 1, results.ReasonOutsideSubset: 2, results.ReasonMissingOutcome: 3}
 	keys := make([]key, 0, len(excluded))
 	for k := range excluded {
 		keys = append(keys, k)
@@ -306,7 +350,6 @@ func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []floa
 	}
 
 	var errs spec.ErrorList
-	at := "analyses." + strconv.Itoa(i)
 	for j, g := range groups {
 		if in.Counts[j] == 0 {
 			var why bytes.Buffer
@@ -332,7 +375,7 @@ func (prep *Prepared) Preview() *results.Preview {
 	for _, in := range prep.Analyses {
 		pa := results.PreviewAnalysis{
 			ID: in.Analysis.ID, Test: string(in.Analysis.Test), PValue: string(in.Analysis.PValue.Method),
-			Outcome: in.Analysis.Outcome, N: len(in.Values), Excluded: in.Excluded,
+			Outcome: in.Analysis.Outcome, Subset: subsetOf(in.Analysis), N: len(in.Values), Excluded: in.Excluded,
 		}
 		if n := in.Analysis.PValue.Resamples; n > 0 {
 			pa.Resamples = strconv.FormatInt(n, 10)
@@ -342,5 +385,16 @@ func (prep *Prepared) Preview() *results.Preview {
 		}
 		pv.Analyses = append(pv.Analyses, pa)
 	}
+	if m := p.Multiplicity; m != nil {
+		pv.Multiplicity = &results.PreviewMultiplicity{Rule: string(m.Rule), Analyses: m.Analyses}
+	}
 	return pv
+}
+
+// subsetOf returns the analysis's subset as the results show it, or nil.
+func subsetOf(a *spec.Analysis) *results.Subset {
+	if a.Subset == nil {
+		return nil
+	}
+	return &results.Subset{Column: a.Subset.Column, Values: a.Subset.Values}
 }

@@ -167,6 +167,28 @@ func (p *Plan) check() ErrorList {
 		} else if ph.Method == DSCF || ph.Method == Nemenyi {
 			add(at+".posthoc.method", "%q is %s; use \"dunn\", \"conover\" or \"rank-sum\"", ph.Method, notImplemented)
 		}
+		if s := a.Subset; s != nil && s.Column == p.Data.Group {
+			add(at+".subset.column", "the subset column must differ from the group column %q; choose groups with groups.include", p.Data.Group)
+		}
+	}
+	if m := p.Multiplicity; m != nil {
+		// The schema has refused duplicates already.
+		for i, id := range m.Analyses {
+			if _, ok := ids[id]; !ok {
+				add("multiplicity.analyses."+strconv.Itoa(i), "no analysis has the id %q (ids: %s)", id, strings.Join(analysisIDs(p), ", "))
+			}
+		}
+		if len(m.Analyses) < 2 {
+			add("multiplicity", "a family needs at least two analyses; this plan's family has %d", len(m.Analyses))
+		}
 	}
 	return errs
+}
+
+func analysisIDs(p *Plan) []string {
+	out := make([]string, len(p.Analyses))
+	for i, a := range p.Analyses {
+		out[i] = strconv.Quote(a.ID)
+	}
+	return out
 }

@@ -84,6 +84,8 @@ type Plan struct {
 	Alpha       float64    `json:"alpha"`
 	Seed        Seed       `json:"seed"`
 	Analyses    []Analysis `json:"analyses"`
+	// Multiplicity, when present, controls the error rate across analyses.
+	Multiplicity *Multiplicity `json:"multiplicity,omitempty"`
 
 	// File is the plan's path as given to Load (used in messages); Dir is the folder that
 	// relative data paths are resolved against.
@@ -130,9 +132,33 @@ type Analysis struct {
 	Title      string      `json:"title,omitempty"`
 	Test       Test        `json:"test"`
 	Outcome    string      `json:"outcome"` // default: the plan's data.outcome
+	Subset     *Subset     `json:"subset,omitempty"`
 	PValue     PValue      `json:"pvalue"`
 	EffectSize EffectSize  `json:"effect_size"`
 	PostHoc    PostHocPlan `json:"posthoc"`
+}
+
+// Subset restricts an analysis to the rows whose cell in Column is one of Values,
+// compared with the cell text exactly as written in the file.
+type Subset struct {
+	Column string   `json:"column"`
+	Values []string `json:"values"`
+}
+
+// MultiplicityRule names how decisions are made across a family of analyses: one of the
+// [Adjustment] names other than none, or [FixedSequence].
+type MultiplicityRule string
+
+// FixedSequence tests the family's analyses in the order listed, each at the full alpha,
+// and stops at the first that does not reject.
+const FixedSequence MultiplicityRule = "fixed-sequence"
+
+// Multiplicity is the plan's control of the error rate across analyses.
+type Multiplicity struct {
+	Rule MultiplicityRule `json:"rule"`
+	// Analyses are the ids of the family, in testing order for a fixed sequence;
+	// default: every analysis, in plan order.
+	Analyses []string `json:"analyses"`
 }
 
 // EffectSize is how an analysis reports its omnibus effect sizes.
@@ -204,6 +230,11 @@ func (p *Plan) applyDefaults() {
 	}
 	if p.Data.Missing.Policy == "" {
 		p.Data.Missing.Policy = ExcludeMissing
+	}
+	if m := p.Multiplicity; m != nil && m.Analyses == nil {
+		for _, a := range p.Analyses {
+			m.Analyses = append(m.Analyses, a.ID)
+		}
 	}
 	for i := range p.Analyses {
 		a := &p.Analyses[i]

@@ -181,6 +181,9 @@ func describe(d *document, tree any, v *jsonschema.ValidationError) []located {
 		if l, ok := inst.([]any); ok {
 			n = len(l)
 		}
+		if m, _ := s["minItems"].(float64); m == 1 {
+			return at("expected at least one item; found none")
+		}
 		return at("expected at least %v items; found %d", s["minItems"], n)
 	case "uniqueItems":
 		l, _ := inst.([]any)

@@ -101,7 +101,7 @@ func TestParseErrors(t *testing.T) {
 		{"unknown key", edit(t, "outcome: y", "outcome: y\ncolour: red"),
 			[]string{"plan.yaml:8:3: data.colour: unknown key; expected one of: decimal, delimiter, file, group, missing, outcome, sha256"}},
 		{"unknown top-level key", goodPlan + "extra: 1\n",
-			[]string{"plan.yaml:15:1: extra: unknown key; expected one of: alpha, analyses, data, description, groups, id, rankplan, seed, title"}},
+			[]string{"plan.yaml:15:1: extra: unknown key; expected one of: alpha, analyses, data, description, groups, id, multiplicity, rankplan, seed, title"}},
 		{"missing key", edit(t, "group: g", "# no group"),
 			[]string{`plan.yaml:4:1: data: missing required key "group"`}},
 		{"wrong type", edit(t, "alpha: 0.05", "alpha: [0.05]"),
@@ -154,6 +154,18 @@ func TestParseErrors(t *testing.T) {
 			[]string{"plan.yaml:8:27: groups.order: must list exactly the groups of groups.include, in the order wanted"}},
 		{"unique items", edit(t, "alpha: 0.05", "groups: {include: [A, B, A]}\nalpha: 0.05"),
 			[]string{`plan.yaml:8:26: groups.include[2]: the text "A" is listed twice (also item 0); items must be unique`}},
+		{"multiplicity unknown id", goodPlan + "multiplicity: {rule: holm, analyses: [a, b]}\n",
+			[]string{`plan.yaml:15:42: multiplicity.analyses[1]: no analysis has the id "b" (ids: "a")`}},
+		{"multiplicity of one", goodPlan + "multiplicity: {rule: fixed-sequence}\n",
+			[]string{"plan.yaml:15:1: multiplicity: a family needs at least two analyses; this plan's family has 1"}},
+		{"multiplicity rule none", goodPlan + "multiplicity: {rule: none}\n",
+			[]string{`plan.yaml:15:22: multiplicity.rule: expected one of "bonferroni", "sidak", "holm", "hochberg", "hommel", "bh", "by", "fixed-sequence"; found the text "none"`}},
+		{"multiplicity listed twice", goodPlan + "multiplicity: {rule: holm, analyses: [a, a]}\n",
+			[]string{`plan.yaml:15:42: multiplicity.analyses[1]: the text "a" is listed twice (also item 0); items must be unique`}},
+		{"subset on group column", goodPlan + "    subset: {column: g, values: [A]}\n",
+			[]string{`plan.yaml:15:22: analyses[0].subset.column: the subset column must differ from the group column "g"; choose groups with groups.include`}},
+		{"subset without values", goodPlan + "    subset: {column: site, values: []}\n",
+			[]string{`plan.yaml:15:36: analyses[0].subset.values: expected at least one item; found none`}},
 		{"unquoted number as text", edit(t, "group: g", "group: 12"),
 			[]string{"plan.yaml:6:10: data.group: expected text; found 12; put it in quotes to make it text"}},
 	} {
@@ -283,5 +295,36 @@ func TestLoadMissingFile(t *testing.T) {
 	_, err := Load(filepath.Join(t.TempDir(), "none.yaml"))
 	if !errors.Is(err, os.ErrNotExist) {
 		t.Errorf("got %v", err)
+	}
+}
+
+func TestMultiplicityAndSubset(t *testing.T) {
+	src := goodPlan + `    subset: {column: site, values: ["north", "NA"]}
+  - id: b
+    test: kruskal-wallis
+    outcome: z
+    pvalue: {method: asymptotic}
+multiplicity:
+  rule: fixed-sequence
+`
+	p, err := Parse("plan.yaml", []byte(src))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := p.Multiplicity.Analyses; !reflect.DeepEqual(got, []string{"a", "b"}) {
+		t.Errorf("default family %q, want every analysis in plan order", got)
+	}
+	if s := p.Analyses[0].Subset; s == nil || s.Column != "site" || !reflect.DeepEqual(s.Values, []string{"north", "NA"}) {
+		t.Errorf("subset %+v", s)
+	}
+	if p.Analyses[1].Subset != nil {
+		t.Errorf("analysis b has a subset %+v", p.Analyses[1].Subset)
+	}
+	p, err = Parse("plan.yaml", []byte(strings.Replace(src, "rule: fixed-sequence", "rule: holm\n  analyses: [b, a]", 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := p.Multiplicity.Analyses; !reflect.DeepEqual(got, []string{"b", "a"}) || p.Multiplicity.Rule != "holm" {
+		t.Errorf("family %q rule %q", got, p.Multiplicity.Rule)
 	}
 }

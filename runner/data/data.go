@@ -41,6 +41,10 @@ type Options struct {
 	// missing group cell is kept as group -1 and a missing outcome cell as NaN, for the
 	// caller to exclude and count.
 	FailOnMissing bool
+	// LabelColumns are the header names of text columns read as labels (e.g. a site
+	// column that selects a subset of rows), none of them GroupColumn or an outcome
+	// column. Their cells are kept exactly as written: missing-value tokens do not apply.
+	LabelColumns []string
 }
 
 // Table is the loaded data, column-wise: row i is Group[i], Outcome[c][i], Line[i].
@@ -66,6 +70,17 @@ type Table struct {
 	// (leading zeros not significant, trailing zeros significant). Distinct decimals
 	// with that many digits may convert to the same float64 and then count as ties.
 	HighPrecisionCells int
+	// Labels holds, per label column in the order of Options.LabelColumns, the distinct
+	// cell texts and each row's index into them.
+	Labels []LabelColumn
+}
+
+// LabelColumn is a text column read as labels.
+type LabelColumn struct {
+	// Values are the distinct cell texts in order of first appearance, as written.
+	Values []string
+	// Row holds, per row, the index of the row's cell text in Values.
+	Row []int32
 }
 
 // bufSize is the size of the read buffer. Lines longer than this are still read,
@@ -251,6 +266,17 @@ func (o *Options) check() error {
 			}
 		}
 	}
+	for i, c := range o.LabelColumns {
+		if c == "" {
+			return fmt.Errorf("data options: label column %d has an empty name", i+1)
+		}
+		if c == o.GroupColumn || slices.Contains(o.OutcomeColumns, c) {
+			return fmt.Errorf("data options: column %q is a label column and the group column or an outcome column", c)
+		}
+		if slices.Contains(o.LabelColumns[:i], c) {
+			return fmt.Errorf("data options: label column %q is listed twice", c)
+		}
+	}
 	for _, m := range o.MissingTokens {
 		if m != strings.Trim(m, " ") {
 			return fmt.Errorf("data options: missing-value token %q starts or ends with a space, so no trimmed cell can match it", m)
@@ -268,6 +294,8 @@ type loader struct {
 	names   []string // the header cells
 	groupAt int      // field index of the group column
 	outAt   []int    // field index of each outcome column
+	labAt   []int    // field index of each label column
+	labIDs  []map[string]int32
 
 	ids       map[string]int32 // group label to index in t.Groups
 	lastLabel string           // the label of the previous row, a cheap first check
@@ -303,6 +331,9 @@ func (l *loader) presize() {
 	l.t.Line = slices.Grow(l.t.Line, more)
 	for c := range l.t.Outcome {
 		l.t.Outcome[c] = slices.Grow(l.t.Outcome[c], more)
+	}
+	for c := range l.t.Labels {
+		l.t.Labels[c].Row = slices.Grow(l.t.Labels[c].Row, more)
 	}
 }
 
@@ -377,6 +408,15 @@ func (l *loader) header() error {
 			return err
 		}
 	}
+	l.labAt = make([]int, len(l.opt.LabelColumns))
+	l.labIDs = make([]map[string]int32, len(l.opt.LabelColumns))
+	l.t.Labels = make([]LabelColumn, len(l.opt.LabelColumns))
+	for c, name := range l.opt.LabelColumns {
+		if l.labAt[c], err = find(name); err != nil {
+			return err
+		}
+		l.labIDs[c] = map[string]int32{}
+	}
 	return nil
 }
 
@@ -400,6 +440,13 @@ func (l *loader) row() error {
 			return err
 		}
 		l.t.Outcome[c] = append(l.t.Outcome[c], v)
+	}
+	for c, at := range l.labAt {
+		id, err := l.label(c, at)
+		if err != nil {
+			return err
+		}
+		l.t.Labels[c].Row = append(l.t.Labels[c].Row, id)
 	}
 	l.t.Group = append(l.t.Group, g)
 	l.t.Line = append(l.t.Line, int32(p.start))
@@ -453,6 +500,29 @@ func (l *loader) group(i int) (int32, error) {
 		l.ids[s] = id
 	}
 	l.lastLabel, l.lastID = l.t.Groups[id], id
+	return id, nil
+}
+
+// label returns the index of field i of the current record among the values of label
+// column c, adding a new value. The map lookup with a []byte key converted in place does
+// not allocate; only a new distinct value does.
+func (l *loader) label(c, i int) (int32, error) {
+	b := l.p.field(i)
+	col := &l.t.Labels[c]
+	id, ok := l.labIDs[c][string(b)]
+	if ok {
+		return id, nil
+	}
+	if !utf8.Valid(b) {
+		return 0, l.cellError(i, "label "+quoteCell(b)+" is not valid UTF-8", nil)
+	}
+	if len(col.Values) == math.MaxInt32 {
+		return 0, l.cellError(i, "too many distinct labels", nil)
+	}
+	s := string(b)
+	id = int32(len(col.Values))
+	col.Values = append(col.Values, s)
+	l.labIDs[c][s] = id
 	return id, nil
 }
 

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"crypto/sha256"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -632,4 +633,72 @@ func FuzzLoad(f *testing.F) {
 			t.Fatal("digest or size wrong")
 		}
 	})
+}
+
+func TestLabelColumns(t *testing.T) {
+	opt := base()
+	opt.LabelColumns = []string{"site", "arm"}
+	in := "site,g,x,arm\nnorth,a,1,A\nsouth,b,2,A\n,a,NA,B\nnorth,b,3,\n\" north\",a,4,A\n"
+	tab, err := loadString(in, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(tab.Labels) != 2 {
+		t.Fatalf("%d label columns, want 2", len(tab.Labels))
+	}
+	// Cells are kept as written: "" is a value of its own (missing tokens do not apply),
+	// and " north" differs from "north".
+	site, arm := tab.Labels[0], tab.Labels[1]
+	if want := []string{"north", "south", "", " north"}; !slices.Equal(site.Values, want) {
+		t.Errorf("site values %q, want %q", site.Values, want)
+	}
+	if want := []int32{0, 1, 2, 0, 3}; !slices.Equal(site.Row, want) {
+		t.Errorf("site rows %v, want %v", site.Row, want)
+	}
+	if want := []string{"A", "B", ""}; !slices.Equal(arm.Values, want) {
+		t.Errorf("arm values %q, want %q", arm.Values, want)
+	}
+	if want := []int32{0, 0, 1, 2, 0}; !slices.Equal(arm.Row, want) {
+		t.Errorf("arm rows %v, want %v", arm.Row, want)
+	}
+
+	for _, tc := range []struct {
+		cols []string
+		want string
+	}{
+		{[]string{"g"}, `data options: column "g" is a label column and the group column or an outcome column`},
+		{[]string{"x"}, `data options: column "x" is a label column and the group column or an outcome column`},
+		{[]string{"site", "site"}, `data options: label column "site" is listed twice`},
+		{[]string{""}, `data options: label column 1 has an empty name`},
+		{[]string{"region"}, `d.csv:1: no column "region" in the header (columns: site, g, x, arm)`},
+	} {
+		opt.LabelColumns = tc.cols
+		if _, err := loadString(in, opt); err == nil || err.Error() != tc.want {
+			t.Errorf("%q: got %v\nwant %s", tc.cols, err, tc.want)
+		}
+	}
+	opt.LabelColumns = []string{"site"}
+	if _, err := loadString("site,g,x\n\xff,a,1\n", opt); err == nil || !strings.Contains(err.Error(), "is not valid UTF-8") {
+		t.Errorf("invalid UTF-8 label: %v", err)
+	}
+
+	// No per-row allocation for label columns either: ten times the rows, same count.
+	gen := func(n int) []byte {
+		var b bytes.Buffer
+		b.WriteString("site,g,x\n")
+		for i := range n {
+			fmt.Fprintf(&b, "s%d,g%d,%d\n", i%5, i%3, i)
+		}
+		return b.Bytes()
+	}
+	allocs := func(in []byte) float64 {
+		return testing.AllocsPerRun(3, func() {
+			if _, err := Load(bytes.NewReader(in), opt); err != nil {
+				t.Fatal(err)
+			}
+		})
+	}
+	if a, b := allocs(gen(10_000)), allocs(gen(100_000)); b-a >= 200 {
+		t.Errorf("allocations grow with rows: %.0f for 10^4 rows, %.0f for 10^5 rows", a, b)
+	}
 }

@@ -64,7 +64,7 @@ func Summary(w io.Writer, res *results.Results, dataPath string) error {
 		ew.printf("note: %d cell(s) have more than 15 significant digits; values are compared as doubles, so such cells may tie\n", res.Data.HighPrecisionCells)
 	}
 	for _, a := range res.Analyses {
-		ew.printf("\nanalysis %s: %s of %q, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, len(a.Groups), a.N)
+		ew.printf("\nanalysis %s: %s of %q%s, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, subsetText(a.Subset), len(a.Groups), a.N)
 		ew.printf("  excluded: %s\n", Exclusions(a.Excluded))
 		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
 		fmt.Fprintf(tw, "  group\tn\tmedian\tQ1\tQ3\tmean rank\t\n")
@@ -103,17 +103,66 @@ func Summary(w io.Writer, res *results.Results, dataPath string) error {
 			}
 			ew.printf("%s\n", line)
 		}
-		verdict := "do not reject the null hypothesis of identical distributions (p > alpha)"
-		if a.Decision.Reject {
-			verdict = "reject the null hypothesis of identical distributions (p <= alpha)"
+		d := a.Decision
+		switch {
+		case d.PAdjusted != nil && d.Reject:
+			ew.printf("  at alpha = %s: reject the null hypothesis of identical distributions (adjusted p = %s <= alpha, plan's multiplicity rule)\n", Num(d.Alpha), Num(*d.PAdjusted))
+		case d.PAdjusted != nil:
+			ew.printf("  at alpha = %s: do not reject the null hypothesis of identical distributions under the plan's multiplicity rule (adjusted p = %s)\n", Num(d.Alpha), Num(*d.PAdjusted))
+		case d.Reject:
+			ew.printf("  at alpha = %s: reject the null hypothesis of identical distributions (p <= alpha)\n", Num(d.Alpha))
+		default:
+			ew.printf("  at alpha = %s: do not reject the null hypothesis of identical distributions (p > alpha)\n", Num(d.Alpha))
 		}
-		ew.printf("  at alpha = %s: %s\n", Num(a.Decision.Alpha), verdict)
 		if ph := a.PostHoc; ph != nil {
 			writePostHoc(ew, ph)
 		}
 	}
+	if m := res.Multiplicity; m != nil {
+		writeMultiplicity(ew, m)
+	}
 	ew.printf("\n%s\n", Caution)
 	return ew.err
+}
+
+// subsetText describes an analysis's subset for a heading, e.g. ` where site is "north"`.
+func subsetText(s *results.Subset) string {
+	if s == nil {
+		return ""
+	}
+	return fmt.Sprintf(" where %s is %s", s.Column, strings.Join(quoteAll(s.Values), " or "))
+}
+
+func quoteAll(s []string) []string {
+	out := make([]string, len(s))
+	for i, x := range s {
+		out[i] = strconv.Quote(x)
+	}
+	return out
+}
+
+func writeMultiplicity(ew *errWriter, m *results.Multiplicity) {
+	ew.printf("\nmultiplicity across analyses: %s\n", m.Method)
+	tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', 0)
+	fmt.Fprintf(tw, "  analysis\tp\tadjusted p\tdecision\n")
+	for _, mem := range m.Members {
+		p := "not computable"
+		if mem.P != nil {
+			p = FormatP(mem.P.Value, mem.P.Log10)
+		}
+		d := "not rejected"
+		switch {
+		case mem.Reject:
+			d = "rejected"
+		case !mem.Tested:
+			d = "not tested"
+		}
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\n", mem.ID, p, Num(mem.PAdjusted), d)
+	}
+	tw.Flush()
+	for _, mem := range m.Members {
+		ew.printf("  %s: %s\n", mem.ID, mem.Why)
+	}
 }
 
 func testName(t string) string {
@@ -165,7 +214,7 @@ func Preview(w io.Writer, pv *results.Preview, planPath, dataPath string) error 
 		if a.Resamples != "" {
 			method += " (" + a.Resamples + " Monte Carlo resamples)"
 		}
-		ew.printf("\nanalysis %s: %s of %q, p-value %s, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, method, len(a.Groups), a.N)
+		ew.printf("\nanalysis %s: %s of %q%s, p-value %s, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, subsetText(a.Subset), method, len(a.Groups), a.N)
 		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
 		fmt.Fprintf(tw, "  group\tn\t\n")
 		for _, g := range a.Groups {
@@ -173,6 +222,13 @@ func Preview(w io.Writer, pv *results.Preview, planPath, dataPath string) error 
 		}
 		tw.Flush()
 		ew.printf("  excluded: %s\n", Exclusions(a.Excluded))
+	}
+	if m := pv.Multiplicity; m != nil {
+		order := "adjusted together"
+		if m.Rule == "fixed-sequence" {
+			order = "tested in this order, each only if every earlier one rejects"
+		}
+		ew.printf("\nmultiplicity across analyses: %s over %s (%s)\n", m.Rule, strings.Join(m.Analyses, ", "), order)
 	}
 	ew.printf("\nnothing was computed; run it with: rankplan run %s --out DIR\n", planPath)
 	return ew.err

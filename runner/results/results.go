@@ -14,6 +14,8 @@ type Results struct {
 	Data        Data        `json:"data"`
 	Conventions Conventions `json:"conventions"`
 	Analyses    []Analysis  `json:"analyses"`
+	// Multiplicity is present when the plan controls the error rate across analyses.
+	Multiplicity *Multiplicity `json:"multiplicity,omitempty"`
 }
 
 // Plan identifies the plan that ran.
@@ -49,6 +51,7 @@ type Analysis struct {
 	Title    string      `json:"title,omitempty"`
 	Test     string      `json:"test"`
 	Outcome  string      `json:"outcome"`
+	Subset   *Subset     `json:"subset,omitempty"`
 	N        int         `json:"n"`
 	Groups   []Group     `json:"groups"`
 	Excluded []Exclusion `json:"excluded"`
@@ -63,6 +66,13 @@ type Analysis struct {
 	Decision    *Decision    `json:"decision,omitempty"`
 	EffectSizes *EffectSizes `json:"effect_sizes,omitempty"`
 	PostHoc     *PostHoc     `json:"posthoc,omitempty"`
+}
+
+// Subset is the plan's restriction of an analysis to some rows: those whose cell in
+// Column is one of Values.
+type Subset struct {
+	Column string   `json:"column"`
+	Values []string `json:"values"`
 }
 
 // PostHoc is the pairwise follow-up of an analysis.
@@ -138,6 +148,7 @@ const (
 	ReasonMissingGroup   = "missing-group"
 	ReasonMissingOutcome = "missing-outcome"
 	ReasonNotIncluded    = "group-not-included"
+	ReasonOutsideSubset  = "outside-subset"
 )
 
 // KruskalWallis is the omnibus statistic.
@@ -218,6 +229,32 @@ type Bootstrap struct {
 type Decision struct {
 	Alpha  float64 `json:"alpha"`
 	Reject bool    `json:"reject"`
+	// Rule says how the decision was made: on the analysis's own p-value, or under the
+	// plan's multiplicity rule across analyses (see [Multiplicity]).
+	Rule string `json:"rule"`
+	// PAdjusted is the omnibus p-value adjusted across the family, for analyses in one.
+	PAdjusted *float64 `json:"p_adjusted,omitempty"`
+}
+
+// Multiplicity is the error-rate control across the plan's analyses.
+type Multiplicity struct {
+	Rule   string  `json:"rule"` // an adjustment name or fixed-sequence
+	Method string  `json:"method"`
+	Alpha  float64 `json:"alpha"`
+	// Members are the family's analyses, in the plan's listed order.
+	Members []Member `json:"analyses"`
+}
+
+// Member is one analysis of a multiplicity family and its decision.
+type Member struct {
+	ID string `json:"id"`
+	// P is the analysis's omnibus p-value, null when the test is not computable.
+	P         *Tail   `json:"p"`
+	PAdjusted float64 `json:"p_adjusted"`
+	// Tested is false for analyses of a fixed sequence after the first that did not reject.
+	Tested bool   `json:"tested"`
+	Reject bool   `json:"reject"`
+	Why    string `json:"why"`
 }
 
 // Preview is what `rankplan check` shows: the plan joined with its data, before anything
@@ -226,6 +263,14 @@ type Preview struct {
 	Plan     Plan              `json:"plan"`
 	Data     Data              `json:"data"`
 	Analyses []PreviewAnalysis `json:"analyses"`
+	// Multiplicity is the plan's rule across analyses and its family, in listed order.
+	Multiplicity *PreviewMultiplicity `json:"multiplicity,omitempty"`
+}
+
+// PreviewMultiplicity is the plan's multiplicity section as it will apply.
+type PreviewMultiplicity struct {
+	Rule     string   `json:"rule"`
+	Analyses []string `json:"analyses"`
 }
 
 // PreviewAnalysis is one analysis as it would run.
@@ -236,6 +281,7 @@ type PreviewAnalysis struct {
 	// Resamples is the Monte Carlo resample count (decimal string), for permutation and auto.
 	Resamples string       `json:"resamples,omitempty"`
 	Outcome   string       `json:"outcome"`
+	Subset    *Subset      `json:"subset,omitempty"`
 	N         int          `json:"n"`
 	Groups    []GroupCount `json:"groups"`
 	Excluded  []Exclusion  `json:"excluded"`
