@@ -33,12 +33,48 @@ type Options struct {
 	// Workers is the number of goroutines for resampling; 0 or less means one per core.
 	// Results are identical for every value.
 	Workers int
+	// Progress, if not nil, is told how far the long steps of each analysis have come:
+	// task is TaskExact (done and total are units of work against the exact method's
+	// budget; the step may stop early when the design does not fit), TaskPermutation or
+	// TaskBootstrap (resamples). It may be called from several goroutines at once and
+	// out of order (see stats.Progress); it must be safe for concurrent use and return
+	// quickly. Results are identical with and without it. When nil, the Progress
+	// attached to the context by [WithProgress], if any, is used.
+	Progress func(analysis, task string, done, total int64)
+}
+
+// Tasks reported to Options.Progress.
+const (
+	TaskExact       = "exact"       // the exact p-value's dynamic programme; units of work
+	TaskPermutation = "permutation" // Monte Carlo permutation resamples
+	TaskBootstrap   = "bootstrap"   // effect-size bootstrap resamples
+)
+
+type progressKey struct{}
+
+// WithProgress returns a copy of ctx that carries f as the progress hook of every
+// [Execute] under it whose Options.Progress is nil (for callers such as [Run] and
+// [Verify], whose options do not carry one). f follows the rules of Options.Progress.
+func WithProgress(ctx context.Context, f func(analysis, task string, done, total int64)) context.Context {
+	return context.WithValue(ctx, progressKey{}, f)
+}
+
+// progress returns the stats hook for one task of one analysis, or nil.
+func (o Options) progress(analysis, task string) stats.Progress {
+	if o.Progress == nil {
+		return nil
+	}
+	f := o.Progress
+	return func(done, total int64) { f(analysis, task, done, total) }
 }
 
 // Execute runs every analysis of a prepared plan and assembles the results. It reads no
 // files and depends on nothing but its input, so the same input gives the same results,
 // whatever opt holds.
 func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results, error) {
+	if opt.Progress == nil {
+		opt.Progress, _ = ctx.Value(progressKey{}).(func(analysis, task string, done, total int64))
+	}
 	p := prep.Plan
 	res := &results.Results{
 		Format:      results.Format,
@@ -175,6 +211,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	a := in.Analysis
 	pv := &results.PValue{Requested: string(a.PValue.Method)}
 	budget := stats.DefaultExactBudget
+	budget.Progress = opt.progress(a.ID, TaskExact)
 	exact := func() error {
 		ex, err := stats.KruskalWallisExact(r, budget)
 		if err != nil {
@@ -219,6 +256,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	}
 	mc, err := stats.KruskalWallisPermutation(ctx, in.Group, in.Values, len(in.Groups), r, stats.PermutationOptions{
 		Seed: uint64(p.Seed), AnalysisID: a.ID, Resamples: a.PValue.Resamples, Workers: opt.Workers,
+		Progress: opt.progress(a.ID, TaskPermutation),
 	})
 	if err != nil {
 		return nil, err
@@ -255,6 +293,7 @@ func effectSizes(p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWall
 	bs, err := stats.KruskalWallisBootstrap(r, stats.BootstrapOptions{
 		Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: m,
 		Level: in.Analysis.EffectSize.Level, Workers: opt.Workers,
+		Progress: opt.progress(in.Analysis.ID, TaskBootstrap),
 	})
 	if err != nil {
 		return nil, err

@@ -53,6 +53,10 @@ type BootstrapOptions struct {
 	Resamples  int64   // at least 1
 	Level      float64 // confidence level, in (0, 1)
 	Workers    int     // 0 or less: runtime.GOMAXPROCS(0); the result does not depend on it
+	// Progress, if not nil, is called with the resamples finished so far after each
+	// block of BootstrapBlockSize, from the worker goroutines (see [Progress]). The
+	// result does not depend on it.
+	Progress Progress
 }
 
 // Bootstrap is a percentile bootstrap interval of the tie-corrected H, from which the
@@ -100,6 +104,7 @@ func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error)
 	workers = int(min(int64(workers), blocks))
 
 	next := make(chan int64)
+	progress := newProgressCounter(opt.Progress, m)
 	var wg sync.WaitGroup
 	for range workers {
 		wg.Add(1)
@@ -108,9 +113,11 @@ func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error)
 			w := newBootWorker(r)
 			for j := range next {
 				s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
-				for b := j * BootstrapBlockSize; b < min((j+1)*BootstrapBlockSize, m); b++ {
+				end := min((j+1)*BootstrapBlockSize, m)
+				for b := j * BootstrapBlockSize; b < end; b++ {
 					hs[b], degenerate[b] = w.resample(s)
 				}
+				progress.add(end - j*BootstrapBlockSize)
 			}
 		}()
 	}

@@ -26,6 +26,11 @@ type ExactBudget struct {
 	// the package was measured on (see BenchmarkKruskalWallisExact). Zero means
 	// DefaultExactBudget.MaxWork.
 	MaxWork int64
+	// Progress, if not nil, is called after each layer of the programme (one value or
+	// one whole tie block placed) with the units of work so far and MaxWork, from the
+	// calling goroutine (see [Progress]). It is not part of the budget and the result
+	// does not depend on it.
+	Progress Progress
 }
 
 // DefaultExactBudget is the budget used for a zero [ExactBudget] (or a zero field of
@@ -786,6 +791,9 @@ func (pl *exactPlan) run(b ExactBudget, obs exactU128, visit func(t exactU128, w
 			done += per
 			doneS += int64(per) * blk.Rank2
 			ls.merge(nc)
+			if b.Progress != nil {
+				b.Progress(res.Work, b.MaxWork)
+			}
 		}
 	}
 
@@ -815,6 +823,9 @@ func (pl *exactPlan) run(b ExactBudget, obs exactU128, visit func(t exactU128, w
 		return Exact{}, fmt.Errorf("%w: last tie block: %d units of work (budget %d)", ErrExactBudget, res.Work, b.MaxWork)
 	}
 	res.P = min(p.sum(), 1)
+	if b.Progress != nil {
+		b.Progress(res.Work, b.MaxWork)
+	}
 	return res, nil
 }
 

@@ -63,6 +63,10 @@ type PermutationOptions struct {
 	AnalysisID string // the analysis's identifier; different analyses draw different streams
 	Resamples  int64  // m >= 1
 	Workers    int    // goroutines; 0 or less: runtime.GOMAXPROCS(0). The result does not depend on it.
+	// Progress, if not nil, is called with the resamples finished so far after each
+	// block of PermutationBlockSize, from the worker goroutines (see [Progress]). The
+	// result does not depend on it.
+	Progress Progress
 }
 
 // KruskalWallisPermutation estimates the permutation p-value of the Kruskal-Wallis test
@@ -384,6 +388,7 @@ func (ps *permSetup) run(ctx context.Context, opt PermutationOptions) (int64, er
 	workers = int(min(int64(workers), blocks))
 
 	var next atomic.Int64
+	progress := newProgressCounter(opt.Progress, m)
 	counts := make([]int64, workers)
 	errs := make([]error, workers)
 	var wg sync.WaitGroup
@@ -407,6 +412,7 @@ func (ps *permSetup) run(ctx context.Context, opt PermutationOptions) (int64, er
 					return
 				}
 				counts[w] += c
+				progress.add(end - start)
 			}
 		}()
 	}

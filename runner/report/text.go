@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 	"text/tabwriter"
+	"unicode/utf8"
 
 	"rankplan/runner/results"
 )
@@ -55,8 +56,72 @@ func Exclusions(ex []results.Exclusion) string {
 	return fmt.Sprintf("%d row(s): %s", total, strings.Join(parts, ", "))
 }
 
-// Summary writes the short terminal summary of a run.
+// Style selects the marks of text meant for a terminal. The zero Style writes plain
+// text, as for files, pipes and the golden tests.
+type Style struct {
+	// Color marks headings in bold and decisions (a rejected null hypothesis, a pair that
+	// differs) in bold cyan, with ECMA-48 SGR escape sequences. Set it only for a terminal.
+	Color bool
+}
+
+// SGR sequences (ECMA-48 §8.3.117). In a table every cell of a marked column carries a
+// sequence of the same length, so that tabwriter, which counts the bytes of the
+// sequences as text, still aligns the columns.
+const (
+	sgrHeading  = "\x1b[1m"    // bold
+	sgrDecision = "\x1b[1;36m" // bold cyan
+	sgrNeutral  = "\x1b[0;39m" // no attributes, default colour: as long as sgrDecision
+	sgrReset    = "\x1b[0m"
+)
+
+func (st Style) heading(s string) string {
+	if !st.Color {
+		return s
+	}
+	return sgrHeading + s + sgrReset
+}
+
+func (st Style) decision(s string) string {
+	if !st.Color {
+		return s
+	}
+	return sgrDecision + s + sgrReset
+}
+
+// cell writes a table cell of a marked column: marked or neutral, the same length.
+func (st Style) cell(s string, marked bool) string {
+	if !st.Color {
+		return s
+	}
+	if marked {
+		return sgrDecision + s + sgrReset
+	}
+	return sgrNeutral + s + sgrReset
+}
+
+// leftColumn pads every string of col with spaces to the widest one, counted in runes
+// as tabwriter counts them, so that a column of a right-aligned table is left-aligned.
+// It returns a new slice.
+func leftColumn(col []string) []string {
+	w := 0
+	for _, s := range col {
+		w = max(w, utf8.RuneCountInString(s))
+	}
+	out := make([]string, len(col))
+	for i, s := range col {
+		out[i] = s + strings.Repeat(" ", w-utf8.RuneCountInString(s))
+	}
+	return out
+}
+
+// Summary writes the short summary of a run as plain text; see [SummaryWith].
 func Summary(w io.Writer, res *results.Results, dataPath string) error {
+	return SummaryWith(w, res, dataPath, Style{})
+}
+
+// SummaryWith writes the short terminal summary of a run in style st. Tables have their
+// first column (and columns of words) left-aligned and their numbers right-aligned.
+func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) error {
 	ew := &errWriter{w: w}
 	ew.printf("plan %s: %s\n", res.Plan.ID, res.Plan.Title)
 	ew.printf("data %s: %d rows, sha256 %s\n", dataPath, res.Data.Rows, res.Data.SHA256)
@@ -64,12 +129,18 @@ func Summary(w io.Writer, res *results.Results, dataPath string) error {
 		ew.printf("note: %d cell(s) have more than 15 significant digits; values are compared as doubles, so such cells may tie\n", res.Data.HighPrecisionCells)
 	}
 	for _, a := range res.Analyses {
-		ew.printf("\nanalysis %s: %s of %q%s, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, subsetText(a.Subset), len(a.Groups), a.N)
+		ew.printf("\n%s: %s of %q%s, %d groups, N = %d\n", st.heading("analysis "+a.ID), testName(a.Test), a.Outcome, subsetText(a.Subset), len(a.Groups), a.N)
 		ew.printf("  excluded: %s\n", Exclusions(a.Excluded))
-		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
-		fmt.Fprintf(tw, "  group\tn\tmedian\tQ1\tQ3\tmean rank\t\n")
+		names := make([]string, 0, len(a.Groups)+1)
+		names = append(names, "group")
 		for _, g := range a.Groups {
-			fmt.Fprintf(tw, "  %s\t%d\t%s\t%s\t%s\t%s\t\n", g.Name, g.N, Num(g.Median), Num(g.Q1), Num(g.Q3), Num(g.MeanRank))
+			names = append(names, g.Name)
+		}
+		names = leftColumn(names)
+		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
+		fmt.Fprintf(tw, "%s\tn\tmedian\tQ1\tQ3\tmean rank\t\n", names[0])
+		for i, g := range a.Groups {
+			fmt.Fprintf(tw, "%s\t%d\t%s\t%s\t%s\t%s\t\n", names[i+1], g.N, Num(g.Median), Num(g.Q1), Num(g.Q3), Num(g.MeanRank))
 		}
 		tw.Flush()
 		if a.Status != "ok" {
@@ -106,20 +177,20 @@ func Summary(w io.Writer, res *results.Results, dataPath string) error {
 		d := a.Decision
 		switch {
 		case d.PAdjusted != nil && d.Reject:
-			ew.printf("  at alpha = %s: reject the null hypothesis of identical distributions (adjusted p = %s <= alpha, plan's multiplicity rule)\n", Num(d.Alpha), Num(*d.PAdjusted))
+			ew.printf("  at alpha = %s: %s of identical distributions (adjusted p = %s <= alpha, plan's multiplicity rule)\n", Num(d.Alpha), st.decision("reject the null hypothesis"), Num(*d.PAdjusted))
 		case d.PAdjusted != nil:
 			ew.printf("  at alpha = %s: do not reject the null hypothesis of identical distributions under the plan's multiplicity rule (adjusted p = %s)\n", Num(d.Alpha), Num(*d.PAdjusted))
 		case d.Reject:
-			ew.printf("  at alpha = %s: reject the null hypothesis of identical distributions (p <= alpha)\n", Num(d.Alpha))
+			ew.printf("  at alpha = %s: %s of identical distributions (p <= alpha)\n", Num(d.Alpha), st.decision("reject the null hypothesis"))
 		default:
 			ew.printf("  at alpha = %s: do not reject the null hypothesis of identical distributions (p > alpha)\n", Num(d.Alpha))
 		}
 		if ph := a.PostHoc; ph != nil {
-			writePostHoc(ew, ph)
+			writePostHoc(ew, ph, st)
 		}
 	}
 	if m := res.Multiplicity; m != nil {
-		writeMultiplicity(ew, m)
+		writeMultiplicity(ew, m, st)
 	}
 	ew.printf("\n%s\n", Caution)
 	return ew.err
@@ -141,11 +212,17 @@ func quoteAll(s []string) []string {
 	return out
 }
 
-func writeMultiplicity(ew *errWriter, m *results.Multiplicity) {
-	ew.printf("\nmultiplicity across analyses: %s\n", m.Method)
-	tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', 0)
-	fmt.Fprintf(tw, "  analysis\tp\tadjusted p\tdecision\n")
+func writeMultiplicity(ew *errWriter, m *results.Multiplicity, st Style) {
+	ew.printf("\n%s: %s\n", st.heading("multiplicity across analyses"), m.Method)
+	ids := make([]string, 0, len(m.Members)+1)
+	ids = append(ids, "analysis")
 	for _, mem := range m.Members {
+		ids = append(ids, mem.ID)
+	}
+	ids = leftColumn(ids)
+	tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintf(tw, "%s\tp\tadjusted p\t  decision\n", ids[0]) // the last column is left-aligned text
+	for i, mem := range m.Members {
 		p := "not computable"
 		if mem.P != nil {
 			p = FormatP(mem.P.Value, mem.P.Log10)
@@ -153,11 +230,11 @@ func writeMultiplicity(ew *errWriter, m *results.Multiplicity) {
 		d := "not rejected"
 		switch {
 		case mem.Reject:
-			d = "rejected"
+			d = st.decision("rejected")
 		case !mem.Tested:
 			d = "not tested"
 		}
-		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\n", mem.ID, p, Num(mem.PAdjusted), d)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t  %s\n", ids[i+1], p, Num(mem.PAdjusted), d)
 	}
 	tw.Flush()
 	for _, mem := range m.Members {
@@ -200,9 +277,14 @@ func (e *errWriter) Write(b []byte) (int, error) {
 
 func (e *errWriter) printf(format string, args ...any) { fmt.Fprintf(e, format, args...) }
 
-// Preview writes what `rankplan check` found: the groups and their sizes, and the rows
-// that would be left out, for each analysis.
+// Preview writes what `rankplan check` found as plain text; see [PreviewWith].
 func Preview(w io.Writer, pv *results.Preview, planPath, dataPath string) error {
+	return PreviewWith(w, pv, planPath, dataPath, Style{})
+}
+
+// PreviewWith writes what `rankplan check` found, in style st: the groups and their
+// sizes, and the rows that would be left out, for each analysis.
+func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st Style) error {
 	ew := &errWriter{w: w}
 	ew.printf("plan %s is valid: %s\n", planPath, pv.Plan.Title)
 	ew.printf("data %s: %d rows, sha256 %s\n", dataPath, pv.Data.Rows, pv.Data.SHA256)
@@ -214,11 +296,17 @@ func Preview(w io.Writer, pv *results.Preview, planPath, dataPath string) error 
 		if a.Resamples != "" {
 			method += " (" + a.Resamples + " Monte Carlo resamples)"
 		}
-		ew.printf("\nanalysis %s: %s of %q%s, p-value %s, %d groups, N = %d\n", a.ID, testName(a.Test), a.Outcome, subsetText(a.Subset), method, len(a.Groups), a.N)
-		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
-		fmt.Fprintf(tw, "  group\tn\t\n")
+		ew.printf("\n%s: %s of %q%s, p-value %s, %d groups, N = %d\n", st.heading("analysis "+a.ID), testName(a.Test), a.Outcome, subsetText(a.Subset), method, len(a.Groups), a.N)
+		names := make([]string, 0, len(a.Groups)+1)
+		names = append(names, "group")
 		for _, g := range a.Groups {
-			fmt.Fprintf(tw, "  %s\t%d\t\n", g.Name, g.N)
+			names = append(names, g.Name)
+		}
+		names = leftColumn(names)
+		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
+		fmt.Fprintf(tw, "%s\tn\t\n", names[0])
+		for i, g := range a.Groups {
+			fmt.Fprintf(tw, "%s\t%d\t\n", names[i+1], g.N)
 		}
 		tw.Flush()
 		ew.printf("  excluded: %s\n", Exclusions(a.Excluded))
@@ -228,7 +316,7 @@ func Preview(w io.Writer, pv *results.Preview, planPath, dataPath string) error 
 		if m.Rule == "fixed-sequence" {
 			order = "tested in this order, each only if every earlier one rejects"
 		}
-		ew.printf("\nmultiplicity across analyses: %s over %s (%s)\n", m.Rule, strings.Join(m.Analyses, ", "), order)
+		ew.printf("\n%s: %s over %s (%s)\n", st.heading("multiplicity across analyses"), m.Rule, strings.Join(m.Analyses, ", "), order)
 	}
 	ew.printf("\nnothing was computed; run it with: rankplan run %s --out DIR\n", planPath)
 	return ew.err
@@ -239,7 +327,7 @@ var postHocNames = map[string]string{
 	"rank-sum": "pairwise Wilcoxon-Mann-Whitney rank-sum tests",
 }
 
-func writePostHoc(ew *errWriter, ph *results.PostHoc) {
+func writePostHoc(ew *errWriter, ph *results.PostHoc, st Style) {
 	family := "all pairs"
 	if ph.Family == "many-to-one" {
 		family = "each group against " + strconv.Quote(ph.Control)
@@ -249,16 +337,23 @@ func writePostHoc(ew *errWriter, ph *results.PostHoc) {
 		ew.printf("    %s\n", ph.Why)
 		return
 	}
-	tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintf(tw, "    pair\t%s\tp\tadjusted p\tdecision\tCliff's delta\tHL shift\tinterval\t\n", ph.Statistic)
+	pairs := make([]string, 0, len(ph.Pairs)+1)
+	decisions := make([]string, 0, len(ph.Pairs)+1)
+	pairs, decisions = append(pairs, "pair"), append(decisions, "decision")
 	for _, p := range ph.Pairs {
 		d := "no difference shown"
 		if p.Reject {
 			d = "differ"
 		}
+		pairs, decisions = append(pairs, p.Groups[0]+" vs "+p.Groups[1]), append(decisions, d)
+	}
+	pairs, decisions = leftColumn(pairs), leftColumn(decisions)
+	tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintf(tw, "  %s\t%s\tp\tadjusted p\t%s\tCliff's delta\tHL shift\tinterval\t\n", pairs[0], ph.Statistic, st.cell(decisions[0], false))
+	for i, p := range ph.Pairs {
 		iv := p.HodgesLehmann.Interval
-		fmt.Fprintf(tw, "    %s vs %s\t%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t\n", p.Groups[0], p.Groups[1], Num(p.Statistic), Num(p.P),
-			Num(p.PAdjusted), d, Num(p.CliffsDelta), Num(p.HodgesLehmann.Shift), Num(iv.Low), Num(iv.High))
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t\n", pairs[i+1], Num(p.Statistic), Num(p.P),
+			Num(p.PAdjusted), st.cell(decisions[i+1], p.Reject), Num(p.CliffsDelta), Num(p.HodgesLehmann.Shift), Num(iv.Low), Num(iv.High))
 	}
 	tw.Flush()
 	if len(ph.Letters) > 0 {

@@ -1,8 +1,12 @@
 package report
 
 import (
+	"fmt"
+	"os"
+	"regexp"
 	"strings"
 	"testing"
+	"unicode/utf8"
 
 	"rankplan/runner/results"
 )
@@ -53,4 +57,175 @@ func TestSummaryNotComputable(t *testing.T) {
 			t.Errorf("summary lacks %q:\n%s", want, b.String())
 		}
 	}
+}
+
+// layoutResults is an invented run (the numbers are made up and mean nothing: these
+// tests check the layout only) with group names of several lengths, one of them
+// non-ASCII, a post-hoc table and a multiplicity family.
+func layoutResults() *results.Results {
+	p, adj := 0.0123, 0.0246
+	pair := func(a, b string, reject bool) results.Pair {
+		return results.Pair{Groups: [2]string{a, b}, Statistic: -2.5, P: 0.01, PAdjusted: 0.03, Reject: reject,
+			CliffsDelta: -0.5, HodgesLehmann: results.HLShift{Shift: -1, Interval: results.Interval{Level: 0.95, Low: -2, High: 0}}}
+	}
+	return &results.Results{
+		Plan: results.Plan{ID: "layout", Title: "Invented layout check"},
+		Analyses: []results.Analysis{{
+			ID: "first", Test: "kruskal-wallis", Outcome: "y", N: 30, Status: "ok",
+			Groups: []results.Group{
+				{Name: "A", N: 10, Median: 1.5, Q1: 1, Q3: 2, MeanRank: 9.5},
+				{Name: "Zürich-Süd", N: 10, Median: 12.25, Q1: 10, Q3: 14, MeanRank: 20.5},
+				{Name: "control group", N: 10, Median: 3, Q1: 2.5, Q3: 4, MeanRank: 16.5},
+			},
+			KruskalWallis: &results.KruskalWallis{H: 7.5, TieCorrection: 1, DF: 2},
+			PValue:        &results.PValue{Method: "asymptotic", Reason: "invented", Value: &p, Log10: -1.91},
+			AsymptoticP:   &results.Tail{Value: &p, Log10: -1.91},
+			Decision:      &results.Decision{Alpha: 0.05, Reject: true, PAdjusted: &adj},
+			PostHoc: &results.PostHoc{Method: "dunn", Adjust: "holm", Family: "all-pairs", Ran: true, Statistic: "z",
+				Pairs: []results.Pair{pair("A", "Zürich-Süd", true), pair("A", "control group", false), pair("Zürich-Süd", "control group", false)}},
+		}},
+		Multiplicity: &results.Multiplicity{Rule: "holm", Method: "Holm step-down", Alpha: 0.05,
+			Members: []results.Member{{ID: "first", P: &results.Tail{Value: &p}, PAdjusted: adj, Tested: true, Reject: true}, {ID: "second-endpoint", PAdjusted: 1, Tested: true}}},
+	}
+}
+
+// column returns the rune offset at which field starts in line, or -1.
+func column(line, field string) int {
+	i := strings.Index(line, field)
+	if i < 0 {
+		return -1
+	}
+	return utf8.RuneCountInString(line[:i])
+}
+
+// TestSummaryTables checks the alignment of the summary's tables: names and words
+// left-aligned (they start in the same column), numbers right-aligned (they end in the
+// same column).
+func TestSummaryTables(t *testing.T) {
+	var b strings.Builder
+	if err := Summary(&b, layoutResults(), "d.csv"); err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(b.String(), "\n")
+	find := func(prefix string) string {
+		t.Helper()
+		for _, l := range lines {
+			if strings.HasPrefix(l, prefix) {
+				return l
+			}
+		}
+		t.Fatalf("no line starts with %q:\n%s", prefix, b.String())
+		return ""
+	}
+	for _, tc := range []struct {
+		name  string
+		lines []string // table rows
+		left  []string // a field of each row that must start in one column
+		right []string // a field of each row that must end in one column
+	}{
+		{"groups", []string{find("  group "), find("  A "), find("  Zürich-Süd "), find("  control group ")},
+			[]string{"group", "A", "Zürich-Süd", "control group"}, []string{"mean rank", "9.5", "20.5", "16.5"}},
+		{"pairs", []string{find("    pair "), find("    A vs Zürich-Süd "), find("    A vs control group "), find("    Zürich-Süd vs control group ")},
+			[]string{"decision", "differ", "no difference shown", "no difference shown"}, []string{"adjusted p", "0.03", "0.03", "0.03"}},
+		{"multiplicity", []string{find("  analysis "), find("  first "), find("  second-endpoint ")},
+			[]string{"decision", "rejected", "not rejected"}, []string{"adjusted p", "0.0246", "1"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			for i, l := range tc.lines {
+				if got, want := column(l, tc.left[i]), column(tc.lines[0], tc.left[0]); got != want || got < 0 {
+					t.Errorf("%q starts at %d, want %d (left-aligned):\n%s", tc.left[i], got, want, strings.Join(tc.lines, "\n"))
+				}
+				end := func(l, f string) int { return column(l, f) + utf8.RuneCountInString(f) }
+				if got, want := end(l, tc.right[i]), end(tc.lines[0], tc.right[0]); got != want {
+					t.Errorf("%q ends at %d, want %d (right-aligned):\n%s", tc.right[i], got, want, strings.Join(tc.lines, "\n"))
+				}
+			}
+		})
+	}
+}
+
+var sgr = regexp.MustCompile("\x1b\\[[0-9;]*m")
+
+// TestSummaryColor checks that colour only adds escape sequences: without them the text
+// is the plain text, byte for byte (so the tables stay aligned), and the marks fall on
+// the headings and the decisions.
+func TestSummaryColor(t *testing.T) {
+	var plain, color strings.Builder
+	if err := Summary(&plain, layoutResults(), "d.csv"); err != nil {
+		t.Fatal(err)
+	}
+	if err := SummaryWith(&color, layoutResults(), "d.csv", Style{Color: true}); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(plain.String(), "\x1b") {
+		t.Errorf("plain summary has escape sequences:\n%q", plain.String())
+	}
+	if got := sgr.ReplaceAllString(color.String(), ""); got != plain.String() {
+		t.Errorf("coloured summary without its escapes differs from the plain one:\n%s\n---\n%s", got, plain.String())
+	}
+	for _, want := range []string{
+		sgrHeading + "analysis first" + sgrReset,
+		sgrHeading + "multiplicity across analyses" + sgrReset,
+		sgrDecision + "reject the null hypothesis" + sgrReset,
+		sgrDecision + "differ",
+		sgrDecision + "rejected",
+		sgrNeutral + "no difference shown",
+	} {
+		if !strings.Contains(color.String(), want) {
+			t.Errorf("coloured summary lacks %q:\n%q", want, color.String())
+		}
+	}
+	if len(sgrNeutral) != len(sgrDecision) {
+		t.Errorf("neutral and decision sequences differ in length: %q, %q", sgrNeutral, sgrDecision)
+	}
+}
+
+// TestPreviewColor is TestSummaryColor for the check preview.
+func TestPreviewColor(t *testing.T) {
+	pv := &results.Preview{
+		Plan: results.Plan{ID: "layout", Title: "Invented layout check"},
+		Analyses: []results.PreviewAnalysis{{ID: "first", Test: "kruskal-wallis", PValue: "auto", Outcome: "y", N: 3,
+			Groups: []results.GroupCount{{Name: "long group name", N: 2}, {Name: "B", N: 1}}}},
+		Multiplicity: &results.PreviewMultiplicity{Rule: "holm", Analyses: []string{"first"}},
+	}
+	var plain, color strings.Builder
+	if err := Preview(&plain, pv, "p.yaml", "d.csv"); err != nil {
+		t.Fatal(err)
+	}
+	if err := PreviewWith(&color, pv, "p.yaml", "d.csv", Style{Color: true}); err != nil {
+		t.Fatal(err)
+	}
+	if got := sgr.ReplaceAllString(color.String(), ""); got != plain.String() {
+		t.Errorf("coloured preview without its escapes differs from the plain one:\n%s\n---\n%s", got, plain.String())
+	}
+	for _, want := range []string{"\n  group            n\n", "\n  long group name  2\n", "\n  B                1\n", sgrHeading + "analysis first" + sgrReset} {
+		if !strings.Contains(color.String(), want) {
+			t.Errorf("preview lacks %q:\n%s", want, color.String())
+		}
+	}
+}
+
+// ExamplePreviewWith shows the check preview of an invented plan; with Style{Color: true}
+// the same text carries escape sequences on its headings.
+func ExamplePreviewWith() {
+	pv := &results.Preview{
+		Plan: results.Plan{ID: "demo", Title: "Invented demo"},
+		Data: results.Data{Rows: 5, SHA256: "0123abcd"},
+		Analyses: []results.PreviewAnalysis{{ID: "main", Test: "kruskal-wallis", PValue: "exact", Outcome: "score", N: 5,
+			Groups: []results.GroupCount{{Name: "placebo", N: 3}, {Name: "dose", N: 2}}}},
+	}
+	if err := PreviewWith(os.Stdout, pv, "plan.yaml", "scores.csv", Style{}); err != nil {
+		fmt.Println(err)
+	}
+	// Output:
+	// plan plan.yaml is valid: Invented demo
+	// data scores.csv: 5 rows, sha256 0123abcd
+	//
+	// analysis main: Kruskal-Wallis of "score", p-value exact, 2 groups, N = 5
+	//   group    n
+	//   placebo  3
+	//   dose     2
+	//   excluded: none
+	//
+	// nothing was computed; run it with: rankplan run plan.yaml --out DIR
 }
