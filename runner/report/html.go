@@ -1,0 +1,429 @@
+package report
+
+import (
+	"errors"
+	"fmt"
+	"html/template"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+
+	"rankplan/runner/results"
+)
+
+// Meta is what the report shows beyond results.json: provenance for the header and footer.
+type Meta struct {
+	PlanFile, PlanSHA256, PlanCanonicalSHA256 string // as given, and "sha256:<hex>"
+	DataFile, DataSHA256                      string
+	Lock                                      string   // e.g. "locked: lock sha256:… matches" or "no lock"
+	Deviations                                []string // each deviation from the lock, in words; empty: none
+	Tool                                      string   // "rankplan 0.1.0-dev (revision …, go1.26)"
+	Seed, RNG                                 string
+	AuditHead                                 string // "sha256:<hex>", the chain head when the report was written
+	AuditSeq                                  int64  // its record number
+}
+
+// AnalysisValues are the observations of one analysis per group (report order), for the plots only.
+type AnalysisValues struct {
+	ID     string
+	Groups [][]float64 // Groups[i] sorted ascending, same order as results Analysis.Groups
+}
+
+// HTML writes report.html: one self-contained page (inline style and inline SVG plots, no
+// script, no external reference) that renders the results of a run for people, on screen
+// and on paper. It computes no statistic: every number is read from res, and values (one
+// entry per analysis, by id; an analysis without one gets its plots without points) only
+// place the observations in the box plots. Headline numbers carry data-key and
+// data-value attributes (every digit, strconv 'g' −1) so that a program can find them.
+// It does not change res or values.
+func HTML(w io.Writer, res *results.Results, meta Meta, values []AnalysisValues) error {
+	if res == nil {
+		return errors.New("html report: no results")
+	}
+	byID, err := checkValues(res, values)
+	if err != nil {
+		return fmt.Errorf("html report: %w", err)
+	}
+	page := htmlPage{Res: res, Meta: meta, Caution: Caution}
+	if page.Meta.Seed == "" {
+		page.Meta.Seed = res.Plan.Seed
+	}
+	for i := range res.Analyses {
+		a := &res.Analyses[i]
+		v, err := analysisView(i, a, byID[a.ID])
+		if err != nil {
+			return fmt.Errorf("html report: analysis %q: %w", a.ID, err)
+		}
+		page.Analyses = append(page.Analyses, v)
+	}
+	ew := &errWriter{w: w}
+	if err := htmlTemplate.Execute(ew, &page); err != nil {
+		return fmt.Errorf("html report: %w", err)
+	}
+	return ew.err
+}
+
+// checkValues matches the plot values to the analyses and checks them against the
+// results: one entry per analysis at most, one slice per group of the group's size,
+// finite and sorted ascending.
+func checkValues(res *results.Results, values []AnalysisValues) (map[string][][]float64, error) {
+	analyses := make(map[string]*results.Analysis, len(res.Analyses))
+	for i := range res.Analyses {
+		analyses[res.Analyses[i].ID] = &res.Analyses[i]
+	}
+	byID := make(map[string][][]float64, len(values))
+	for _, v := range values {
+		a, ok := analyses[v.ID]
+		if !ok {
+			return nil, fmt.Errorf("values for analysis %q, which is not in the results", v.ID)
+		}
+		if _, dup := byID[v.ID]; dup {
+			return nil, fmt.Errorf("values for analysis %q given twice", v.ID)
+		}
+		if len(v.Groups) != len(a.Groups) {
+			return nil, fmt.Errorf("values for analysis %q: %d groups, the results have %d", v.ID, len(v.Groups), len(a.Groups))
+		}
+		for gi, g := range v.Groups {
+			if len(g) != a.Groups[gi].N {
+				return nil, fmt.Errorf("values for analysis %q group %q: %d observations, the results have %d", v.ID, a.Groups[gi].Name, len(g), a.Groups[gi].N)
+			}
+			for j, x := range g {
+				if math.IsNaN(x) || math.IsInf(x, 0) {
+					return nil, fmt.Errorf("values for analysis %q group %q: observation %d is %v", v.ID, a.Groups[gi].Name, j+1, x)
+				}
+				if j > 0 && x < g[j-1] {
+					return nil, fmt.Errorf("values for analysis %q group %q: not sorted ascending at observation %d", v.ID, a.Groups[gi].Name, j+1)
+				}
+			}
+		}
+		byID[v.ID] = v.Groups
+	}
+	return byID, nil
+}
+
+type htmlPage struct {
+	Res      *results.Results
+	Meta     Meta
+	Analyses []htmlAnalysis
+	Caution  string
+}
+
+type htmlAnalysis struct {
+	*results.Analysis
+	Anchor     string
+	HasValues  bool
+	Points     int // most points drawn per group
+	Box, Ranks template.HTML
+	Heat       template.HTML
+	HeatLegend []legendSwatch
+	Diag       []diagRow
+	TieShare   float64
+	RankMid    float64
+	PostHocSay string
+	FamilySay  string
+}
+
+type diagRow struct {
+	Name                  string
+	IQR, Min, Max, Median float64
+}
+
+type legendSwatch struct {
+	Label, Color string
+}
+
+// analysisView prepares one analysis for the template: its plots and the arithmetic on
+// results that the page shows (IQR = Q3 − Q1, tie share = tied values / N).
+func analysisView(i int, a *results.Analysis, vals [][]float64) (htmlAnalysis, error) {
+	v := htmlAnalysis{Analysis: a, Anchor: "analysis-" + strconv.Itoa(i+1), HasValues: vals != nil}
+	v.RankMid = float64(a.N+1) / 2
+	for _, g := range a.Groups {
+		v.Diag = append(v.Diag, diagRow{Name: g.Name, IQR: g.Q3 - g.Q1, Min: g.Min, Max: g.Max, Median: g.Median})
+		v.Points = max(v.Points, g.N)
+	}
+	if kw := a.KruskalWallis; kw != nil && a.N > 0 {
+		v.TieShare = float64(kw.TiedValues) / float64(a.N)
+	}
+	if a.N > 0 {
+		svg, err := boxPlotSVG(a, vals)
+		if err != nil {
+			return v, err
+		}
+		v.Box = template.HTML(svg) // built by the SVG canvas, which escapes its text
+		svg, err = meanRankPlotSVG(a)
+		if err != nil {
+			return v, err
+		}
+		v.Ranks = template.HTML(svg)
+	}
+	if ph := a.PostHoc; ph != nil {
+		v.PostHocSay = postHocNames[ph.Method]
+		if v.PostHocSay == "" {
+			v.PostHocSay = ph.Method
+		}
+		v.FamilySay = "all pairs of groups"
+		if ph.Family == "many-to-one" {
+			v.FamilySay = "each group against the control " + strconv.Quote(ph.Control)
+		}
+		if ph.Ran && len(ph.Pairs) > 0 {
+			svg, err := heatmapSVG(a)
+			if err != nil {
+				return v, err
+			}
+			v.Heat = template.HTML(svg)
+			for _, p := range []float64{1, 0.1, 0.05, 0.01, 0.001} {
+				v.HeatLegend = append(v.HeatLegend, legendSwatch{Label: Num(p), Color: hexColor(pColor(p))})
+			}
+			v.HeatLegend[len(v.HeatLegend)-1].Label = "≤ 0.001"
+		}
+	}
+	return v, nil
+}
+
+// htmlValue is a number as the page shows it, with its key and every digit for programs.
+type htmlValue struct {
+	Key, Full, Log10, Text string
+}
+
+func full(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+
+var htmlFuncs = template.FuncMap{
+	"key": func(parts ...string) string { return strings.Join(parts, ".") },
+	"pairkey": func(id string, p results.Pair, field string) string {
+		return id + ".pair." + p.Groups[0] + "|" + p.Groups[1] + "." + field
+	},
+	"v": func(key string, x float64) htmlValue { return htmlValue{Key: key, Full: full(x), Text: Num(x)} },
+	"vi": func(key string, n int) htmlValue {
+		s := strconv.Itoa(n)
+		return htmlValue{Key: key, Full: s, Text: s}
+	},
+	"vp": func(key string, value *float64, log10 float64) htmlValue {
+		v := htmlValue{Key: key, Log10: full(log10), Text: FormatP(value, log10)}
+		if value != nil {
+			v.Full = full(*value)
+		}
+		return v
+	},
+	"num":     Num,
+	"pct":     func(level float64) string { return Num(100*level) + "%" },
+	"fmtp":    FormatP,
+	"method":  methodName,
+	"test":    testName,
+	"exclude": Exclusions,
+	"subset":  subsetText,
+	"reason":  reasonText,
+	"group": func(g string) string {
+		if g == "" {
+			return "(no group)"
+		}
+		return g
+	},
+}
+
+// reasonText says an exclusion reason in words.
+func reasonText(r string) string {
+	switch r {
+	case results.ReasonMissingGroup:
+		return "group label missing"
+	case results.ReasonMissingOutcome:
+		return "outcome missing"
+	case results.ReasonNotIncluded:
+		return "group not in the plan's groups"
+	case results.ReasonOutsideSubset:
+		return "outside the analysis's subset"
+	}
+	return r
+}
+
+var htmlTemplate = template.Must(template.New("report").Funcs(htmlFuncs).Parse(htmlSource))
+
+const htmlSource = `{{define "val"}}<span class="num" data-key="{{.Key}}"{{if .Full}} data-value="{{.Full}}"{{end}}{{if .Log10}} data-log10="{{.Log10}}"{{end}}>{{.Text}}</span>{{end -}}
+<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>{{.Res.Plan.Title}} ({{.Res.Plan.ID}}): rankplan report</title>
+<style>
+:root { color-scheme: light; }
+body { font-family: "Liberation Sans", Arial, Helvetica, sans-serif; font-size: 11pt; line-height: 1.45;
+  color: #111; background: #fff; max-width: 60rem; margin: 0 auto; padding: 1.5rem; }
+h1 { font-size: 1.6em; margin: 0 0 .2em; }
+h2 { font-size: 1.3em; border-bottom: 2px solid #0072B2; padding-bottom: .15em; margin-top: 2em; }
+h3 { font-size: 1.05em; margin: 1.4em 0 .4em; }
+.planid { color: #444; margin: 0 0 1.5em; }
+code, .hash { font-family: "Liberation Mono", "Courier New", monospace; font-size: .9em; word-break: break-all; }
+table { border-collapse: collapse; margin: .4em 0 1em; }
+th, td { border: 1px solid #bbb; padding: .2em .55em; text-align: left; vertical-align: top; }
+th { background: #eef3f8; }
+td.r, th.r { text-align: right; }
+dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: .2em 1em; margin: .4em 0 1em; }
+dl.facts dt { font-weight: bold; }
+dl.facts dd { margin: 0; }
+.decision { border-left: 4px solid #0072B2; padding: .3em .8em; background: #f4f8fb; }
+.note { color: #333; font-size: .95em; }
+.caution { border: 1px solid #D55E00; padding: .5em 1em; }
+figure { margin: 1em 0; }
+figcaption { font-size: .92em; color: #333; max-width: 44rem; }
+svg.plot { display: block; max-width: 100%; height: auto; }
+.swatch { display: inline-block; width: 1.1em; height: .9em; border: 1px solid #999; vertical-align: middle;
+  margin: 0 .25em 0 .6em; -webkit-print-color-adjust: exact; print-color-adjust: exact; }
+footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-size: .9em; color: #333; }
+@page { size: auto; margin: 18mm 16mm; }
+@media print {
+  body { max-width: none; padding: 0; font-size: 10pt; background: #fff; color: #000; }
+  h2 { break-before: auto; }
+  section, table, figure, .decision, .caution, dl.facts { page-break-inside: avoid; break-inside: avoid; }
+  h2, h3 { page-break-after: avoid; break-after: avoid; }
+  th, .decision { background: #fff; }
+}
+</style>
+</head>
+<body>
+<header>
+<h1>{{.Res.Plan.Title}}</h1>
+<p class="planid">Plan <code>{{.Res.Plan.ID}}</code> · significance level α = {{num .Res.Plan.Alpha}} · {{len .Analyses}} analys{{if eq (len .Analyses) 1}}is{{else}}es{{end}}</p>
+</header>
+<main>
+<section id="provenance">
+<h2>Plan, data and lock</h2>
+<dl class="facts">
+<dt>Plan file</dt><dd><code>{{.Meta.PlanFile}}</code></dd>
+<dt>Plan file SHA-256</dt><dd class="hash">{{.Meta.PlanSHA256}}</dd>
+<dt>Canonical plan SHA-256</dt><dd class="hash">{{.Meta.PlanCanonicalSHA256}}</dd>
+<dt>Data file</dt><dd><code>{{.Meta.DataFile}}</code></dd>
+<dt>Data SHA-256</dt><dd class="hash">{{if .Meta.DataSHA256}}{{.Meta.DataSHA256}}{{else}}sha256:{{.Res.Data.SHA256}}{{end}}</dd>
+<dt>Data read</dt><dd>{{.Res.Data.Rows}} data rows, {{.Res.Data.Bytes}} bytes{{if .Res.Data.HighPrecisionCells}}; {{.Res.Data.HighPrecisionCells}} cell(s) carry more than 15 significant digits and are compared as doubles, so such cells may tie{{end}}</dd>
+<dt>Lock</dt><dd>{{if .Meta.Lock}}{{.Meta.Lock}}{{else}}not stated{{end}}</dd>
+<dt>Deviations from the lock</dt><dd>{{if .Meta.Deviations}}<ul>{{range .Meta.Deviations}}<li>{{.}}</li>{{end}}</ul>{{else}}none{{end}}</dd>
+</dl>
+<h3>Conventions behind the numbers</h3>
+<dl class="facts">
+<dt>Ranks</dt><dd>{{.Res.Conventions.Ranks}}</dd>
+<dt>Quantiles</dt><dd>{{.Res.Conventions.Quantiles}}</dd>
+<dt>Decisions</dt><dd>{{.Res.Conventions.Decision}}</dd>
+<dt>Random numbers</dt><dd>{{.Res.Conventions.RandomStream}}</dd>
+</dl>
+</section>
+{{range .Analyses}}{{$id := .ID}}{{$a := .}}
+<section class="analysis" id="{{.Anchor}}">
+<h2>Analysis <code>{{.ID}}</code>{{if .Title}}: {{.Title}}{{end}}</h2>
+<section class="data">
+<h3>Data</h3>
+<p>{{test .Test}} test of <code>{{.Outcome}}</code>{{if .Unit}} ({{.Unit}}){{end}} across {{len .Groups}} groups, N = {{template "val" (vi (key $id "n") .N)}}.{{with .Subset}} Rows restricted to those where <code>{{.Column}}</code> is {{range $i, $s := .Values}}{{if $i}} or {{end}}“{{$s}}”{{end}}.{{end}}</p>
+<table>
+<thead><tr><th>group</th><th class="r">n</th><th class="r">median</th><th class="r">Q1</th><th class="r">Q3</th><th class="r">rank sum</th><th class="r">mean rank</th></tr></thead>
+<tbody>
+{{range .Groups}}<tr><td>{{.Name}}</td><td class="r">{{template "val" (vi (key $id "group" .Name "n") .N)}}</td><td class="r">{{num .Median}}</td><td class="r">{{num .Q1}}</td><td class="r">{{num .Q3}}</td><td class="r">{{num .RankSum}}</td><td class="r">{{template "val" (v (key $id "group" .Name "mean_rank") .MeanRank)}}</td></tr>
+{{end}}</tbody>
+</table>
+{{if .Excluded}}<p>Rows left out:</p>
+<table>
+<thead><tr><th>group</th><th>reason</th><th class="r">rows</th></tr></thead>
+<tbody>
+{{range .Excluded}}<tr><td>{{group .Group}}</td><td>{{reason .Reason}}</td><td class="r">{{.Rows}}</td></tr>
+{{end}}</tbody>
+</table>{{else}}<p>No rows were left out.</p>{{end}}
+</section>
+<section class="omnibus">
+<h3>Omnibus test</h3>
+{{if ne .Status "ok"}}<p class="decision">Not computable: {{.Reason}}</p>{{else}}{{with .KruskalWallis}}
+<dl class="facts">
+<dt>H (tie-corrected)</dt><dd>{{template "val" (v (key $id "h") .H)}}, df = {{template "val" (vi (key $id "df") .DF)}}</dd>
+<dt>Tie correction</dt><dd>C = {{template "val" (v (key $id "tie_correction") .TieCorrection)}}; H before correction = {{num .HUncorrected}}</dd>
+{{end}}{{with .PValue}}
+<dt>p-value</dt><dd>p = {{template "val" (vp (key $id "p") .Value .Log10)}}, {{method .Method}}{{if ne .Requested .Method}} (plan asked for {{.Requested}}){{end}}</dd>
+<dt>Why this method</dt><dd>{{.Reason}}</dd>
+{{with .MonteCarlo}}<dt>Monte Carlo</dt><dd>{{.Exceedances}} of {{.Resamples}} resamples reached the observed H; estimator {{.Estimator}}; standard error {{template "val" (v (key $id "mc_se") .SE)}}; {{pct .CI.Level}} Clopper-Pearson interval [{{template "val" (v (key $id "mc_ci_low") .CI.Low)}}, {{template "val" (v (key $id "mc_ci_high") .CI.High)}}]; statistic compared as {{.Comparison}}; random stream {{.Stream}}</dd>
+{{end}}{{with .Exact}}<dt>Exact distribution work</dt><dd>peak {{.PeakStates}} states (budget {{.BudgetStates}}), {{.Work}} units of work (budget {{.BudgetWork}})</dd>
+{{end}}{{end}}{{with .AsymptoticP}}<dt>Asymptotic p</dt><dd>{{template "val" (vp (key $id "p_asymptotic") .Value .Log10)}} (chi-square approximation{{with $a.KruskalWallis}} with {{.DF}} df{{end}}, always shown beside the p-value used){{end}}</dd>
+</dl>
+{{with .Decision}}
+<h3>Decision</h3>
+<p class="decision">At α = {{num .Alpha}}: {{if .Reject}}<strong>the null hypothesis of identical distributions is rejected</strong>{{else}}<strong>the null hypothesis of identical distributions is not rejected</strong>{{end}}{{with .PAdjusted}} (adjusted p = {{template "val" (v (key $id "p_adjusted") .)}}){{end}}. Rule: {{.Rule}}.</p>
+{{end}}{{end}}
+</section>
+{{with .EffectSizes}}<section class="effects">
+<h3>Effect sizes</h3>
+<table>
+<thead><tr><th>measure</th><th class="r">estimate</th>{{with .Bootstrap}}<th>{{pct .EpsilonSquared.Level}} interval</th>{{end}}</tr></thead>
+<tbody>
+<tr><td>epsilon-squared, H / ((N² − 1)/(N + 1))</td><td class="r">{{template "val" (v (key $id "epsilon_squared") .EpsilonSquared)}}</td>{{with .Bootstrap}}<td>[{{template "val" (v (key $id "epsilon_squared_low") .EpsilonSquared.Low)}}, {{template "val" (v (key $id "epsilon_squared_high") .EpsilonSquared.High)}}]</td>{{end}}</tr>
+<tr><td>eta-squared(H), (H − k + 1)/(N − k)</td><td class="r">{{with .EtaSquaredH}}{{template "val" (v (key $id "eta_squared_h") .)}}{{else}}not defined (N = k){{end}}</td>{{with .Bootstrap}}<td>{{with .EtaSquaredH}}[{{num .Low}}, {{num .High}}]{{else}}not defined{{end}}</td>{{end}}</tr>
+</tbody>
+</table>
+{{with .Bootstrap}}<p class="note">Intervals: {{.Method}}, {{.Resamples}} resamples ({{.Degenerate}} with every value tied, counted as H = 0); random stream {{.Stream}}.</p>{{end}}
+</section>{{end}}
+{{with .PostHoc}}<section class="pairs">
+<h3>Pairwise comparisons</h3>
+<p>Planned: {{$a.PostHocSay}}, {{$a.FamilySay}}; {{if .Simultaneous}}simultaneous: {{.Simultaneous}}{{else}}p-values adjusted by {{.Adjust}}{{end}}; run {{if eq .When "always"}}whatever the omnibus result{{else}}only if the omnibus test rejects{{end}}.</p>
+{{if .Note}}<p class="note">Note: {{.Note}}</p>{{end}}
+{{if .Ran}}{{$ph := .}}
+<table>
+<thead><tr><th>groups</th><th class="r">Hodges-Lehmann shift</th><th>interval</th><th class="r">Cliff's δ</th><th class="r">{{.Statistic}}</th><th class="r">p</th><th class="r">{{if .Simultaneous}}simultaneous p{{else}}adjusted p{{end}}</th><th>decision</th></tr></thead>
+<tbody>
+{{range .Pairs}}<tr><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{pct .HodgesLehmann.Interval.Level}} [{{num .HodgesLehmann.Interval.Low}}, {{num .HodgesLehmann.Interval.High}}]{{with .HodgesLehmann.Coverage}}, exact coverage {{num .}}{{end}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (v (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (v (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (v (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
+{{end}}</tbody>
+</table>
+<p class="note">The shift estimates how far the first group's values lie above the second's (median of all pairwise differences, with its distribution-free interval); Cliff's δ is P(first &gt; second) − P(first &lt; second). p-values of the pairs: {{with index .Pairs 0}}{{.PMethod}}{{end}}.</p>
+{{if .Letters}}<p>Compact letter display (groups sharing a letter do not differ at α after adjustment):</p>
+<table>
+<thead><tr><th>group</th><th>letters</th></tr></thead>
+<tbody>
+{{range .Letters}}<tr><td>{{.Group}}</td><td><code>{{.Letters}}</code></td></tr>
+{{end}}</tbody>
+</table>{{end}}
+{{else}}<p class="decision">Not run: {{.Why}}</p>{{end}}
+</section>{{end}}
+<section class="diagnostics">
+<h3>Diagnostics</h3>
+<table>
+<thead><tr><th>group</th><th class="r">median</th><th class="r">IQR (Q3 − Q1)</th><th>min – max</th></tr></thead>
+<tbody>
+{{range .Diag}}<tr><td>{{.Name}}</td><td class="r">{{num .Median}}</td><td class="r">{{num .IQR}}</td><td>{{num .Min}} – {{num .Max}}</td></tr>
+{{end}}</tbody>
+</table>
+{{with .KruskalWallis}}<p>Ties: {{.TiedValues}} of {{$a.N}} observations share their value with another (tie share {{num $a.TieShare}}), in {{.TieBlocks}} tie block{{if ne .TieBlocks 1}}s{{end}}.</p>{{end}}
+<p class="note">Compare the spreads and shapes above and in the box plot before reading a difference as a difference in medians (see “Reading these results”).</p>
+</section>
+<section class="figures">
+<h3>Figures</h3>
+{{if .Box}}<figure>
+{{.Box}}
+<figcaption>Box plot of {{.Outcome}}{{if .Unit}} ({{.Unit}}){{end}} by group: boxes from Q1 to Q3 with the median as a thick line, whiskers to the minimum and maximum (all from the results).{{if .HasValues}} Dots are the observations, spread sideways by a fixed pseudo-random jitter{{if gt .Points 400}}; groups with more than 400 observations show 400 of them, evenly spaced in rank, including the extremes{{end}}.{{else}} The observations were not given, so no dots are drawn.{{end}}</figcaption>
+</figure>
+<figure>
+{{.Ranks}}
+<figcaption>Mean rank by group (dots) with {{with (index .Groups 0).MeanRankInterval}}{{pct .Level}} {{end}}intervals: mean rank ± z·SE under random labelling, a descriptive yardstick rather than a test. The dashed line is (N + 1)/2 = {{num .RankMid}}, where every mean rank would sit if the groups did not differ at all.</figcaption>
+</figure>{{end}}
+{{if .Heat}}<figure>
+{{.Heat}}
+<figcaption>{{if .PostHoc.Simultaneous}}Simultaneous{{else}}Adjusted{{end}} p-values of the pairwise comparisons; the diagonal{{if eq .PostHoc.Family "many-to-one"}} and the pairs not compared{{end}} stay blank. Colour: darker is smaller.{{range .HeatLegend}}<span class="swatch" style="background-color: {{.Color}}"></span>{{.Label}}{{end}}</figcaption>
+</figure>{{end}}
+</section>
+</section>
+{{end}}
+{{with .Res.Multiplicity}}<section id="multiplicity">
+<h2>Multiplicity across analyses</h2>
+<p>{{.Method}} (rule {{.Rule}}) at α = {{num .Alpha}}.</p>
+<table>
+<thead><tr><th>analysis</th><th class="r">p</th><th class="r">adjusted p</th><th>tested</th><th>decision</th><th>why</th></tr></thead>
+<tbody>
+{{range .Members}}<tr><td><code>{{.ID}}</code></td><td class="r">{{with .P}}{{fmtp .Value .Log10}}{{else}}not computable{{end}}</td><td class="r">{{template "val" (v (key "multiplicity" .ID "p_adjusted") .PAdjusted)}}</td><td>{{if .Tested}}yes{{else}}no{{end}}</td><td>{{if .Reject}}rejected{{else if .Tested}}not rejected{{else}}not tested{{end}}</td><td>{{.Why}}</td></tr>
+{{end}}</tbody>
+</table>
+</section>{{end}}
+<section id="reading">
+<h2>Reading these results</h2>
+<p>The Kruskal-Wallis test asks whether the groups could all have come from one and the same distribution. A rejection says they did not: values in at least one group tend to run higher or lower than in another (one distribution stochastically dominates another). It does not say which groups differ — that is what the pairwise comparisons are for — nor by how much; the effect sizes and shifts speak to that. It reads as a difference in medians only when the groups' distributions have much the same shape and spread; the box plot and the diagnostics show whether that is plausible here. A p-value above α is not evidence that the groups are alike.</p>
+<p class="caution">{{.Caution}}</p>
+</section>
+</main>
+<footer>
+<p>Written by {{if .Meta.Tool}}{{.Meta.Tool}}{{else}}rankplan{{end}}. Seed {{.Meta.Seed}}{{if .Meta.RNG}}; random numbers: {{.Meta.RNG}}{{end}}.</p>
+<p>Head of the audit chain when this report was written: <span class="hash">{{if .Meta.AuditHead}}{{.Meta.AuditHead}}{{else}}not given{{end}}</span>{{if .Meta.AuditHead}} (record {{.Meta.AuditSeq}}){{end}}. Writing the report adds records to the chain, so the final head is the one in <code>audit.head</code>.</p>
+</footer>
+</body>
+</html>
+`
