@@ -266,7 +266,7 @@ dl.facts dd { margin: 0; }
 .caution { border: 1px solid #D55E00; padding: .5em 1em; }
 figure { margin: 1em 0; }
 figcaption { font-size: .92em; color: #333; max-width: 44rem; }
-svg.plot { display: block; max-width: 100%; height: auto; }
+svg.plot { display: block; width: 100%; max-width: 34rem; height: auto; }
 .swatch { display: inline-block; width: 1.1em; height: .9em; border: 1px solid #999; vertical-align: middle;
   margin: 0 .25em 0 .6em; -webkit-print-color-adjust: exact; print-color-adjust: exact; }
 footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-size: .9em; color: #333; }
@@ -274,7 +274,10 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 @media print {
   body { max-width: none; padding: 0; font-size: 10pt; background: #fff; color: #000; }
   h2 { break-before: auto; }
-  section, table, figure, .decision, .caution, dl.facts { page-break-inside: avoid; break-inside: avoid; }
+  /* Small sections, tables and figures stay whole; an analysis as a whole may span pages. */
+  section.data, section.omnibus, section.effects, section.diagnostics, section#multiplicity, section#reading,
+  table, tr, figure, .decision, .caution, dl.facts, footer { page-break-inside: avoid; break-inside: avoid; }
+  svg.plot { max-width: 15cm; }
   h2, h3 { page-break-after: avoid; break-after: avoid; }
   th, .decision { background: #fff; }
 }

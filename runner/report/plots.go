@@ -34,7 +34,7 @@ func groupColor(i int) color.NRGBA { return okabeIto[i%len(okabeIto)] }
 
 // viridisStops are anchor colours of the viridis sequential scale (van der Walt and
 // Smith 2015, matplotlib's default map; the anchors are its values at 0, 0.25, 0.5, 0.75
-// and 1, recalled from memory and rounded to 8 bits), perceptually ordered and readable
+// and 1, as matplotlib 3.6.3 colormaps["viridis"] gives them), perceptually ordered and readable
 // with the common colour-vision deficiencies.
 var viridisStops = []color.NRGBA{
 	{0x44, 0x01, 0x54, 0xFF}, {0x3B, 0x52, 0x8B, 0xFF}, {0x21, 0x91, 0x8C, 0xFF},
@@ -105,10 +105,14 @@ func plotSize(k int) (w, h vg.Length) {
 	return w, 3.2 * vg.Inch
 }
 
+// plotFont is the typeface of the plots' text: Liberation Sans, which gonum/plot embeds
+// for measuring; the SVG names it and the viewer supplies it or a substitute.
+var plotFont = font.Font{Typeface: "Liberation", Variant: "Sans"}
+
 func textStyle(size vg.Length, c color.Color) text.Style {
 	return text.Style{
 		Color:   c,
-		Font:    font.From(plot.DefaultFont, size),
+		Font:    font.From(plotFont, size),
 		XAlign:  draw.XCenter,
 		YAlign:  draw.YCenter,
 		Handler: plot.DefaultTextHandler,
@@ -136,10 +140,10 @@ func axisLabel(a *results.Analysis) string {
 func newPlot() *plot.Plot {
 	p := plot.New()
 	p.BackgroundColor = color.White
-	p.X.Label.TextStyle.Font.Size = 10
-	p.Y.Label.TextStyle.Font.Size = 10
-	p.X.Tick.Label.Font.Size = 9
-	p.Y.Tick.Label.Font.Size = 9
+	p.X.Label.TextStyle.Font = font.From(plotFont, 10)
+	p.Y.Label.TextStyle.Font = font.From(plotFont, 10)
+	p.X.Tick.Label.Font = font.From(plotFont, 9)
+	p.Y.Tick.Label.Font = font.From(plotFont, 9)
 	return p
 }
 
@@ -346,7 +350,7 @@ func heatmapSVG(a *results.Analysis) ([]byte, error) {
 	p.X.Tick.Marker, p.Y.Tick.Marker = xt, yt
 	p.X.Label.Text, p.Y.Label.Text = "group", "group"
 	p.Add(heatPlotter{k: k, cell: cell})
-	side := vg.Length(math.Max(3.4, math.Min(6.5, 1.6+0.9*float64(k)))) * vg.Inch
+	side := vg.Length(math.Max(3.0, math.Min(6.5, 1.2+0.8*float64(k)))) * vg.Inch
 	return renderSVG(p, side+0.4*vg.Inch, side, "Adjusted pairwise p-values")
 }
 
