@@ -6,6 +6,7 @@ import (
 	"html/template"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -122,6 +123,8 @@ type htmlAnalysis struct {
 	RankMid    float64
 	PostHocSay string
 	FamilySay  string
+	// PairPMethods names the distributions the pairs' p-values came from, in words.
+	PairPMethods string
 }
 
 type diagRow struct {
@@ -166,6 +169,13 @@ func analysisView(i int, a *results.Analysis, vals [][]float64) (htmlAnalysis, e
 		if ph.Family == "many-to-one" {
 			v.FamilySay = "each group against the control " + strconv.Quote(ph.Control)
 		}
+		var methods []string
+		for _, pr := range ph.Pairs {
+			if m := pMethodText(pr.PMethod); !slices.Contains(methods, m) {
+				methods = append(methods, m)
+			}
+		}
+		v.PairPMethods = strings.Join(methods, " or ")
 		if ph.Ran && len(ph.Pairs) > 0 {
 			svg, err := heatmapSVG(a)
 			if err != nil {
@@ -219,6 +229,23 @@ var htmlFuncs = template.FuncMap{
 		}
 		return g
 	},
+}
+
+// pMethodText says how a pair's p-value was found, in words.
+func pMethodText(m string) string {
+	switch m {
+	case "normal":
+		return "normal distribution"
+	case "normal-continuity":
+		return "normal distribution with a continuity correction"
+	case "t":
+		return "t distribution"
+	case "studentized-range":
+		return "studentized range distribution"
+	case "exact":
+		return "exact distribution"
+	}
+	return m
 }
 
 // reasonText says an exclusion reason in words.
@@ -360,7 +387,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 </section>{{end}}
 {{with .PostHoc}}<section class="pairs">
 <h3>Pairwise comparisons</h3>
-<p>Planned: {{$a.PostHocSay}}, {{$a.FamilySay}}; {{if .Simultaneous}}simultaneous: {{.Simultaneous}}{{else}}p-values adjusted by {{.Adjust}}{{end}}; run {{if eq .When "always"}}whatever the omnibus result{{else}}only if the omnibus test rejects{{end}}.</p>
+<p>Planned: {{$a.PostHocSay}}, {{$a.FamilySay}}; {{if .Simultaneous}}{{.Simultaneous}}{{else}}p-values adjusted by {{.Adjust}}{{end}}; run {{if eq .When "always"}}whatever the omnibus result{{else}}only if the omnibus test rejects{{end}}.</p>
 {{if .Note}}<p class="note">Note: {{.Note}}</p>{{end}}
 {{if .Ran}}{{$ph := .}}
 <table>
@@ -369,7 +396,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 {{range .Pairs}}<tr><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{pct .HodgesLehmann.Interval.Level}} [{{num .HodgesLehmann.Interval.Low}}, {{num .HodgesLehmann.Interval.High}}]{{with .HodgesLehmann.Coverage}}, exact coverage {{num .}}{{end}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (v (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (v (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (v (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
 {{end}}</tbody>
 </table>
-<p class="note">The shift estimates how far the first group's values lie above the second's (median of all pairwise differences, with its distribution-free interval); Cliff's δ is P(first &gt; second) − P(first &lt; second). p-values of the pairs: {{with index .Pairs 0}}{{.PMethod}}{{end}}.</p>
+<p class="note">The shift estimates how far the first group's values lie above the second's (median of all pairwise differences, with its distribution-free interval); Cliff's δ is P(first &gt; second) − P(first &lt; second). p-values of the pairs from the {{$a.PairPMethods}}.</p>
 {{if .Letters}}<p>Compact letter display (groups sharing a letter do not differ at α after adjustment):</p>
 <table>
 <thead><tr><th>group</th><th>letters</th></tr></thead>
@@ -402,7 +429,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 </figure>{{end}}
 {{if .Heat}}<figure>
 {{.Heat}}
-<figcaption>{{if .PostHoc.Simultaneous}}Simultaneous{{else}}Adjusted{{end}} p-values of the pairwise comparisons; the diagonal{{if eq .PostHoc.Family "many-to-one"}} and the pairs not compared{{end}} stay blank. Colour: darker is smaller.{{range .HeatLegend}}<span class="swatch" style="background-color: {{.Color}}"></span>{{.Label}}{{end}}</figcaption>
+<figcaption>{{if .PostHoc.Simultaneous}}Simultaneous{{else}}Adjusted{{end}} p-values of the pairwise comparisons; {{if eq .PostHoc.Family "many-to-one"}}the diagonal and the pairs not compared stay blank{{else}}the diagonal stays blank{{end}}. Colour: darker is smaller.{{range .HeatLegend}}<span class="swatch" style="background-color: {{.Color}}"></span>{{.Label}}{{end}}</figcaption>
 </figure>{{end}}
 </section>
 </section>
