@@ -721,3 +721,49 @@ func ExampleHTML() {
 	// <dt>H (tie-corrected)</dt><dd><span class="num" data-key="a1.h" data-value="7.2">7.2</span>, df = <span class="num" data-key="a1.df" data-value="2">2</span></dd>
 	// 2 plots
 }
+
+// TestHTMLProvenanceAndLabels checks the header facts from Meta, the deviations list and
+// the plots' axis texts (outcome with unit, "n = …" under each group).
+func TestHTMLProvenanceAndLabels(t *testing.T) {
+	res, vals := loadFixture(t, "dissolution")
+	for _, tc := range []struct {
+		name       string
+		deviations []string
+		want       []string
+	}{
+		{"no deviations", nil, []string{"Deviations from the locknone"}},
+		{"deviations", []string{"alpha changed from 0.05 to 0.1", "analysis primary added"},
+			[]string{"Deviations from the lockalpha changed from 0.05 to 0.1analysis primary added"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			meta := goldenMeta
+			meta.Lock = "locked: lock sha256:abc matches"
+			meta.Deviations = tc.deviations
+			page := render(t, res, meta, vals)
+			text := textOf(parse(t, page))
+			want := append(tc.want, meta.PlanFile, meta.PlanSHA256, meta.PlanCanonicalSHA256, meta.DataFile,
+				meta.DataSHA256, meta.Lock, "Seed 20261201", meta.RNG, "(record 4)")
+			for _, s := range want {
+				if !strings.Contains(text, s) {
+					t.Errorf("page text lacks %q", s)
+				}
+			}
+			if tc.deviations != nil && bytes.Count(page, []byte("<li>")) != len(tc.deviations) {
+				t.Errorf("deviations are not one list item each")
+			}
+		})
+	}
+	box, err := boxPlotSVG(&res.Analyses[0], vals[0].Groups)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range []string{">minutes (min)</text>", ">n = 12</text>", ">n = 11</text>", ">L4</text>"} {
+		if !bytes.Contains(box, []byte(s)) {
+			t.Errorf("box plot lacks %q", s)
+		}
+	}
+	// One jittered point per observation (47) in the box plot.
+	if n := bytes.Count(box, []byte("<path")); n < 47 {
+		t.Errorf("box plot has %d paths, fewer than the 47 observations", n)
+	}
+}
