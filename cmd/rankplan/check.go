@@ -1,6 +1,8 @@
 package main
 
 import (
+	"encoding/json"
+
 	"github.com/spf13/cobra"
 
 	"rankplan/runner"
@@ -8,15 +10,19 @@ import (
 	"rankplan/spec"
 )
 
-func newCheckCmd() *cobra.Command {
-	return &cobra.Command{
+func newCheckCmd(u *ui) *cobra.Command {
+	var jsonOut bool
+	c := &cobra.Command{
 		Use:   "check PLAN",
 		Short: "Validate a plan and preview its data without running it",
 		Long: `check validates PLAN against the plan schema and its rules, reads the data file it
 names, and shows the groups, the observations per group and the rows that would be
 left out, without computing anything.
 
-Every problem is reported at once, each as FILE:LINE:COL: KEY: what was expected.`,
+Every problem is reported at once, each as FILE:LINE:COL: KEY: what was expected.
+
+With --json the preview is printed as JSON (plan, data, and for each analysis its
+p-value method, groups and exclusions); with --quiet only problems are printed.`,
 		Args: exactArgs(1, "one plan file"),
 		RunE: func(c *cobra.Command, args []string) error {
 			p, err := spec.Load(args[0])
@@ -27,7 +33,15 @@ Every problem is reported at once, each as FILE:LINE:COL: KEY: what was expected
 			if err != nil {
 				return err
 			}
-			return report.Preview(c.OutOrStdout(), prep.Preview(), args[0], prep.DataPath)
+			if jsonOut {
+				enc := json.NewEncoder(c.OutOrStdout())
+				enc.SetIndent("", "  ")
+				enc.SetEscapeHTML(false)
+				return enc.Encode(prep.Preview())
+			}
+			return report.PreviewWith(summaryOut(c), prep.Preview(), args[0], prep.DataPath, u.style())
 		},
 	}
+	c.Flags().BoolVar(&jsonOut, "json", false, "print the preview as JSON")
+	return c
 }

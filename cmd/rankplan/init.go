@@ -101,5 +101,29 @@ the clock, fixes every random stream.`,
 	f.StringVar(&o.Delimiter, "delimiter", "auto", `field delimiter: auto, ",", ";" or tab`)
 	f.StringVar(&o.Decimal, "decimal", "auto", `decimal separator: auto, "." or ","`)
 	f.StringVarP(&out, "output", "o", "", "write the plan to this new file instead of standard output")
+	for _, fc := range []struct {
+		flag   string
+		values []string
+	}{
+		{"pvalue", pvalueNames}, {"posthoc", posthocNames}, {"adjust", adjustNames},
+		{"delimiter", []string{"auto", ",", ";", "tab"}}, {"decimal", []string{"auto", ".", ","}},
+	} {
+		_ = c.RegisterFlagCompletionFunc(fc.flag, fixedValues(fc.values))
+	}
+	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt")
 	return c
+}
+
+// fixedValues completes a flag that takes one of a fixed list of names, with no file
+// names offered.
+func fixedValues(values []string) cobra.CompletionFunc {
+	return func(c *cobra.Command, args []string, toComplete string) ([]cobra.Completion, cobra.ShellCompDirective) {
+		var out []cobra.Completion
+		for _, v := range values {
+			if strings.HasPrefix(v, toComplete) {
+				out = append(out, v)
+			}
+		}
+		return out, cobra.ShellCompDirectiveNoFileComp
+	}
 }

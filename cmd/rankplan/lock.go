@@ -30,7 +30,7 @@ declared with --deviation. The lock needs no data file and never overwrites a fi
 			if err != nil {
 				return err
 			}
-			_, err = fmt.Fprintf(c.OutOrStdout(), "locked plan %s: %s at %s\nlock: %s\n", l.PlanID, l.PlanSHA256, l.LockedAt, out)
+			_, err = fmt.Fprintf(summaryOut(c), "locked plan %s: %s at %s\nlock: %s\n", l.PlanID, l.PlanSHA256, l.LockedAt, out)
 			return err
 		},
 	}
@@ -57,7 +57,7 @@ Existing files are never overwritten.`,
 			if err != nil {
 				return &runner.InputError{Err: err}
 			}
-			_, err = fmt.Fprintf(c.OutOrStdout(), "private key: %s (mode 0600)\npublic key: %s.pub\nfingerprint: %s\n", out, out, fp)
+			_, err = fmt.Fprintf(summaryOut(c), "private key: %s (mode 0600)\npublic key: %s.pub\nfingerprint: %s\n", out, out, fp)
 			return err
 		},
 	}

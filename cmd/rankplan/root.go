@@ -113,9 +113,25 @@ follows the lab's own procedures and software validation.
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return &usageError{fmt.Errorf("%s: %w", strings.TrimPrefix(c.CommandPath(), "rankplan "), err)}
 	})
-	root.AddCommand(newInitCmd(), newCheckCmd(), newRunCmd(), newVerifyCmd(), newLockCmd(), newKeygenCmd(), newSchemaCmd(), newVersionCmd())
-	root.CompletionOptions.HiddenDefaultCmd = true
+	u := newUI(stdout, stderr, os.Getenv)
+	root.PersistentFlags().BoolP("quiet", "q", false, "print no summary on standard output (errors still go to standard error; exit codes are the same)")
+	root.AddCommand(newInitCmd(), newCheckCmd(u), newRunCmd(u), newVerifyCmd(u), newLockCmd(), newKeygenCmd(), newSchemaCmd(), newVersionCmd())
+	// Cobra's completion command (bash, zsh, fish, powershell) stays enabled and listed.
 	return root
+}
+
+// quiet reports whether --quiet was given.
+func quiet(c *cobra.Command) bool {
+	q, _ := c.Flags().GetBool("quiet")
+	return q
+}
+
+// summaryOut is where a command's summary goes: stdout, or nowhere with --quiet.
+func summaryOut(c *cobra.Command) io.Writer {
+	if quiet(c) {
+		return io.Discard
+	}
+	return c.OutOrStdout()
 }
 
 // exactArgs is cobra.ExactArgs with our usage error type and wording.

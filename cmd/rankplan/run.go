@@ -2,6 +2,8 @@ package main
 
 import (
 	"fmt"
+	"io"
+	"os"
 	"path/filepath"
 
 	"github.com/spf13/cobra"
@@ -10,10 +12,11 @@ import (
 	"rankplan/runner/report"
 )
 
-func newRunCmd() *cobra.Command {
+func newRunCmd(u *ui) *cobra.Command {
 	var (
 		o        runner.RunOptions
 		dataSeen bool
+		jsonOut  bool
 	)
 	c := &cobra.Command{
 		Use:   "run PLAN --out DIR",
@@ -30,7 +33,13 @@ only with --deviation "reason" (repeat for several) and --data-seen=true|false, 
 deviation is recorded. With --sign KEY the final audit head is signed (Ed25519).
 
 Monte Carlo and bootstrap resamples run on --workers goroutines; the results are the same
-bytes for any number of workers, on any machine.`,
+bytes for any number of workers, on any machine. When standard error is a terminal, a
+progress line shows the exact method's work and the resamples (never with --json or
+--quiet); it does not change the results.
+
+With --json, standard output carries results.json exactly as written to DIR and nothing
+else, and the other lines go to standard error. With --quiet nothing is printed on
+success.`,
 		Args: exactArgs(1, "one plan file"),
 		RunE: func(c *cobra.Command, args []string) error {
 			if o.Out == "" {
@@ -43,12 +52,35 @@ bytes for any number of workers, on any machine.`,
 				o.DataSeen = &dataSeen
 			}
 			o.Args = append([]string{"rankplan", "run"}, args...)
-			rec, err := runner.Run(c.Context(), args[0], o)
+			q := quiet(c)
+			ctx := c.Context()
+			bar := u.progressBar(q, jsonOut)
+			if bar != nil {
+				ctx = runner.WithProgress(ctx, bar.update)
+				defer bar.finish()
+			}
+			rec, err := runner.Run(ctx, args[0], o)
+			bar.finish() // before anything else is printed
 			if err != nil {
 				return err
 			}
-			w := c.OutOrStdout()
-			if err := report.Summary(w, rec.Results, rec.Prepared.DataPath); err != nil {
+			// w takes the lines for people: stdout, or stderr when stdout carries JSON.
+			var w io.Writer = c.OutOrStdout()
+			switch {
+			case q:
+				w = io.Discard
+			case jsonOut:
+				w = c.ErrOrStderr()
+			}
+			if jsonOut {
+				b, err := os.ReadFile(filepath.Join(o.Out, runner.ResultsFile))
+				if err != nil {
+					return fmt.Errorf("run: --json: %w", err)
+				}
+				if _, err := c.OutOrStdout().Write(b); err != nil {
+					return err
+				}
+			} else if err := report.SummaryWith(w, rec.Results, rec.Prepared.DataPath, u.style()); err != nil {
 				return err
 			}
 			for _, d := range rec.Deviations {
@@ -72,5 +104,7 @@ bytes for any number of workers, on any machine.`,
 	f.BoolVar(&dataSeen, "data-seen", false, "with --deviation: whether the data had been seen when the plan was changed")
 	f.StringVar(&o.SignKey, "sign", "", "an Ed25519 private key (from 'rankplan keygen') to sign the audit head")
 	f.StringVar(&o.Meaning, "meaning", "authorship", "with --sign: the meaning of the signature (e.g. authorship, review, approval)")
+	f.BoolVar(&jsonOut, "json", false, "print results.json on standard output, exactly as written to DIR; other lines go to standard error")
+	_ = c.MarkFlagDirname("out")
 	return c
 }

@@ -2,6 +2,8 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
+	"strings"
 
 	"github.com/spf13/cobra"
 
@@ -22,7 +24,7 @@ type verifyExit struct{ code int }
 
 func (e *verifyExit) Error() string { return "" }
 
-func newVerifyCmd() *cobra.Command {
+func newVerifyCmd(u *ui) *cobra.Command {
 	var (
 		o       runner.VerifyOptions
 		jsonOut bool
@@ -49,14 +51,35 @@ Exit codes:
   3  results or inputs differ (changed data or plan, or the rerun disagrees)
   4  integrity failure (tampering, broken chain, bad signature, missing files)
   5  the run is incomplete (killed or failed)
-  6  with --data: a conclusion at alpha changed`,
+  6  with --data: a conclusion at alpha changed
+
+With --quiet nothing is printed when the run verifies; otherwise one line per failed
+check goes to standard error. When standard error is a terminal, a progress line shows
+the rerun (not with --json or --quiet).`,
 		Args: exactArgs(1, "one run folder"),
 		RunE: func(c *cobra.Command, args []string) error {
-			rep, err := runner.Verify(c.Context(), args[0], o)
+			ctx := c.Context()
+			bar := u.progressBar(quiet(c), jsonOut)
+			if bar != nil {
+				ctx = runner.WithProgress(ctx, bar.update)
+				defer bar.finish()
+			}
+			rep, err := runner.Verify(ctx, args[0], o)
+			bar.finish()
 			if err != nil {
 				return err
 			}
-			if jsonOut {
+			if quiet(c) && !jsonOut {
+				if rep.Outcome != runner.Verified {
+					var failed []string
+					for _, ch := range rep.Checks {
+						if ch.Verdict == runner.Fail {
+							failed = append(failed, ch.Name+" ("+ch.Detail+")")
+						}
+					}
+					fmt.Fprintf(c.ErrOrStderr(), "rankplan: verify %s: not verified: %s; failed: %s\n", args[0], rep.Outcome, strings.Join(failed, "; "))
+				}
+			} else if jsonOut {
 				enc := json.NewEncoder(c.OutOrStdout())
 				enc.SetIndent("", "  ")
 				enc.SetEscapeHTML(false)
