@@ -1,8 +1,10 @@
 package stats
 
 import (
+	"context"
 	"errors"
 	"sync"
+	"sync/atomic"
 	"testing"
 )
 
@@ -154,5 +156,33 @@ func TestExactProgress(t *testing.T) {
 		if d > 2000 {
 			t.Errorf("done %d above the budget 2000", d)
 		}
+	}
+}
+
+// BenchmarkPermutationProgress measures the cost of the progress hook: the same
+// permutation run (invented benchData, N = 1000, 8 blocks) without and with a callback.
+//
+//	go test ./stats -run XXX -bench PermutationProgress -benchtime=3x
+func BenchmarkPermutationProgress(b *testing.B) {
+	group, values := benchData(1000, 4, true)
+	r, err := Rank(group, values, 4)
+	if err != nil {
+		b.Fatal(err)
+	}
+	var calls atomic.Int64
+	for _, tc := range []struct {
+		name string
+		f    Progress
+	}{{"without", nil}, {"with", func(done, total int64) { calls.Add(1) }}} {
+		b.Run(tc.name, func(b *testing.B) {
+			opt := PermutationOptions{Seed: 1, AnalysisID: "bench", Resamples: 8 * PermutationBlockSize, Workers: 2, Progress: tc.f}
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := KruskalWallisPermutation(context.Background(), group, values, 4, r, opt); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(opt.Resamples)*float64(b.N)/b.Elapsed().Seconds(), "resamples/s")
+		})
 	}
 }
