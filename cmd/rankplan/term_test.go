@@ -2,7 +2,6 @@ package main
 
 import (
 	"bytes"
-	"fmt"
 	"io"
 	"os"
 	"os/exec"
@@ -188,28 +187,21 @@ func TestDurationText(t *testing.T) {
 	}
 }
 
-// buildRankplan builds the command into a temporary folder, once per test binary.
-var buildRankplan = sync.OnceValues(func() (string, error) {
-	dir, err := os.MkdirTemp("", "rankplan-bin-")
-	if err != nil {
-		return "", err
+// buildRankplan builds the command into the test's temporary folder (the build cache
+// makes the second build quick) and returns its path.
+func buildRankplan(t *testing.T) string {
+	t.Helper()
+	bin := filepath.Join(t.TempDir(), "rankplan")
+	if out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput(); err != nil {
+		t.Fatalf("go build: %v\n%s", err, out)
 	}
-	bin := filepath.Join(dir, "rankplan")
-	out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput()
-	if err != nil {
-		return "", fmt.Errorf("go build: %v\n%s", err, out)
-	}
-	return bin, nil
-})
+	return bin
+}
 
 // runWithPTY runs the built rankplan in dir with args, stdout and/or stderr attached to a
 // pseudo-terminal of 100 columns, and returns what the terminal and the pipe received.
-func runWithPTY(t *testing.T, dir string, env []string, stdoutTTY, stderrTTY bool, args ...string) (tty, pipe string) {
+func runWithPTY(t *testing.T, bin, dir string, env []string, stdoutTTY, stderrTTY bool, args ...string) (tty, pipe string) {
 	t.Helper()
-	bin, err := buildRankplan()
-	if err != nil {
-		t.Fatal(err)
-	}
 	ptmx, pts, err := pty.Open()
 	if err != nil {
 		t.Skipf("no pseudo-terminal: %v", err)
@@ -264,8 +256,8 @@ func copyExamples(t *testing.T) string {
 // lines appear there, stdout (a pipe) has none, and results.json is byte-identical to
 // that of a run without a terminal.
 func TestProgressOnTerminal(t *testing.T) {
-	dir := copyExamples(t)
-	tty, stdout := runWithPTY(t, dir, termEnv("TERM=xterm"), false, true, "run", "examples/dissolution/plan.yaml", "--out", "tty")
+	dir, bin := copyExamples(t), buildRankplan(t)
+	tty, stdout := runWithPTY(t, bin, dir, termEnv("TERM=xterm"), false, true, "run", "examples/dissolution/plan.yaml", "--out", "tty")
 	for _, want := range []string{"primary: permutation resamples [", "/100000 ", "/s ", " left"} {
 		if !strings.Contains(tty, want) {
 			t.Errorf("terminal output lacks %q:\n%q", want, tty)
@@ -278,7 +270,7 @@ func TestProgressOnTerminal(t *testing.T) {
 		t.Errorf("stdout (a pipe) has progress or escapes, or lacks the summary:\n%q", stdout)
 	}
 	// The same run without any terminal, with other workers.
-	_, _ = runWithPTY(t, dir, termEnv("TERM=xterm"), false, false, "run", "examples/dissolution/plan.yaml", "--out", "pipe", "--workers", "1")
+	_, _ = runWithPTY(t, bin, dir, termEnv("TERM=xterm"), false, false, "run", "examples/dissolution/plan.yaml", "--out", "pipe", "--workers", "1")
 	a, errA := os.ReadFile(filepath.Join(dir, "tty", runner.ResultsFile))
 	b, errB := os.ReadFile(filepath.Join(dir, "pipe", runner.ResultsFile))
 	if errA != nil || errB != nil || !bytes.Equal(a, b) {
@@ -286,14 +278,14 @@ func TestProgressOnTerminal(t *testing.T) {
 	}
 
 	// --json and --quiet draw no progress even on a terminal; --json's stdout is results.json.
-	tty, stdout = runWithPTY(t, dir, termEnv("TERM=xterm"), false, true, "run", "examples/dissolution/plan.yaml", "--out", "json", "--json")
+	tty, stdout = runWithPTY(t, bin, dir, termEnv("TERM=xterm"), false, true, "run", "examples/dissolution/plan.yaml", "--out", "json", "--json")
 	if strings.Contains(tty, "resamples") || strings.Contains(tty, "\r\x1b") {
 		t.Errorf("--json: progress on the terminal:\n%q", tty)
 	}
 	if j, _ := os.ReadFile(filepath.Join(dir, "json", runner.ResultsFile)); stdout != string(j) {
 		t.Errorf("--json: stdout is not results.json:\n%s", stdout)
 	}
-	tty, stdout = runWithPTY(t, dir, termEnv("TERM=xterm"), false, true, "run", "examples/dissolution/plan.yaml", "--out", "quiet", "--quiet")
+	tty, stdout = runWithPTY(t, bin, dir, termEnv("TERM=xterm"), false, true, "run", "examples/dissolution/plan.yaml", "--out", "quiet", "--quiet")
 	if tty != "" || stdout != "" {
 		t.Errorf("--quiet printed %q on the terminal and %q on stdout", tty, stdout)
 	}
@@ -304,7 +296,7 @@ var escape = regexp.MustCompile("\x1b\\[[0-9;]*m")
 // TestColorOnTerminal: the check preview on a terminal has bold headings, unless
 // NO_COLOR is set (to anything) or TERM is dumb; a pipe never gets colour.
 func TestColorOnTerminal(t *testing.T) {
-	dir := copyExamples(t)
+	dir, bin := copyExamples(t), buildRankplan(t)
 	args := []string{"check", "examples/dissolution/plan.yaml"}
 	for _, tc := range []struct {
 		name      string
@@ -318,7 +310,7 @@ func TestColorOnTerminal(t *testing.T) {
 		{"pipe", termEnv("TERM=xterm"), false, false},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			tty, pipe := runWithPTY(t, dir, tc.env, tc.stdoutTTY, false, args...)
+			tty, pipe := runWithPTY(t, bin, dir, tc.env, tc.stdoutTTY, false, args...)
 			out := pipe
 			if tc.stdoutTTY {
 				out = tty
