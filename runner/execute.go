@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 
@@ -100,6 +99,9 @@ func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results
 		}
 		res.Analyses = append(res.Analyses, a)
 		ranks[i] = r
+		if r != nil {
+			prep.Analyses[i].Sorted = r.Sorted
+		}
 	}
 	if p.Multiplicity != nil {
 		m, err := multiplicity(p, res.Analyses)
@@ -131,6 +133,7 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 		Title:    a.Title,
 		Test:     string(a.Test),
 		Outcome:  a.Outcome,
+		Unit:     a.Unit,
 		Subset:   subsetOf(a),
 		N:        len(in.Values),
 		Excluded: in.Excluded,
@@ -151,6 +154,9 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 			Median: med, Q1: q1, Q3: q3, Min: s[0], Max: s[len(s)-1],
 			RankSum:  float64(r.RankSum2[j]) / 2,
 			MeanRank: float64(r.RankSum2[j]) / float64(2*r.Counts[j]),
+		}
+		if lo, hi, err := stats.MeanRankInterval(r, j, a.EffectSize.Level); err == nil {
+			out.Groups[j].MeanRankInterval = &results.Interval{Level: a.EffectSize.Level, Low: lo, High: hi}
 		}
 	}
 
@@ -181,7 +187,7 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 		return out, nil, err
 	}
 	out.PValue = pv
-	reject := pv.Log10 <= math.Log10(p.Alpha)
+	reject := pv.Log10 <= stats.Log10(p.Alpha)
 	if pv.Value != nil {
 		reject = *pv.Value <= p.Alpha
 	}
@@ -217,7 +223,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 		if err != nil {
 			return err
 		}
-		t := tail(ex.P, math.Log10(ex.P))
+		t := tail(ex.P, stats.Log10(ex.P))
 		pv.Method, pv.Value, pv.Log10 = string(spec.Exact), t.Value, t.Log10
 		pv.Exact = &results.ExactWork{PeakStates: ex.States, Work: ex.Work, BudgetStates: budget.MaxStates, BudgetWork: budget.MaxWork}
 		return nil
@@ -262,7 +268,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 		return nil, err
 	}
 	pv.Method = string(spec.Permutation)
-	pv.Value, pv.Log10 = tail(mc.P, math.Log10(mc.P)).Value, math.Log10(mc.P)
+	pv.Value, pv.Log10 = tail(mc.P, stats.Log10(mc.P)).Value, stats.Log10(mc.P)
 	pv.MonteCarlo = &results.MonteCarlo{
 		Resamples:   strconv.FormatInt(mc.Resamples, 10),
 		Exceedances: strconv.FormatInt(mc.Exceed, 10),

@@ -44,21 +44,19 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 	case spec.Dunn, spec.Conover:
 		var cmp []stats.Comparison
 		var err error
-		if ph.Method == spec.Dunn {
+		pm := "normal"
+		switch ph.Method {
+		case spec.Dunn:
 			out.Statistic = "z"
 			cmp, err = stats.DunnTest(r, pairs)
-		} else {
-			out.Statistic = "t"
+		case spec.Conover:
+			out.Statistic, pm = "t", "t"
 			cmp, err = stats.ConoverImanTest(r, pairs)
 		}
 		if err != nil {
 			return nil, err
 		}
 		for i, c := range cmp {
-			pm := "normal"
-			if ph.Method == spec.Conover {
-				pm = "t"
-			}
 			out.Pairs[i] = results.Pair{MeanRankDiff: c.MeanDiff, Statistic: c.Statistic, PMethod: pm, P: c.P}
 			raw[i] = c.P
 		}

@@ -1,6 +1,7 @@
 package runner
 
 import (
+	"bytes"
 	"context"
 	"crypto/rand"
 	"encoding/hex"
@@ -14,6 +15,7 @@ import (
 	"time"
 
 	"rankplan/runner/audit"
+	"rankplan/runner/report"
 	"rankplan/runner/results"
 	"rankplan/spec"
 	"rankplan/stats"
@@ -29,6 +31,9 @@ const (
 	LockCopyFile   = "lock.json"
 	SignatureFile  = "signature.json"
 	ProvenanceFile = "provenance.intoto.json"
+	ReportFile     = "report.html"
+	SummaryFile    = "summary.md"
+	PairsFile      = "pairs.csv"
 )
 
 // RunOptions are the inputs of [Run] besides the plan.
@@ -175,7 +180,7 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 		excl = append(excl, map[string]any{
 			"analysis": in.Analysis.ID, "outcome": in.Analysis.Outcome, "n": len(in.Values),
 			"rows_per_group": counts, "excluded": in.Excluded,
-			"rule": "missing policy " + string(p.Data.Missing.Policy) + "; each row counted once, first reason of: missing-group, group-not-included, missing-outcome",
+			"rule": "missing policy " + string(p.Data.Missing.Policy) + "; each row counted once, first reason of: missing-group, group-not-included, outside-subset, missing-outcome",
 		})
 	}
 	if _, err := log.Append("exclusions.applied", map[string]any{"analyses": excl}); err != nil {
@@ -239,6 +244,23 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 			d["results_digest"] = digest
 			d["results_digest_rule"] = "SHA-256 of the RFC 8785 canonical form of results.json (which holds no times, hosts or paths)"
 		}
+		if _, err := log.Append("output.written", d); err != nil {
+			return fail(err)
+		}
+	}
+	// The renderings for people come last, so that they can show the audit chain's head as
+	// it stands after every computed output was recorded.
+	meta := reportMeta(p, planPath, raw, canon, prep, lockInfo, devs, tool, log.Head(), log.Seq())
+	renders, err := renderings(res, meta, prep, opt.Out)
+	if err != nil {
+		return fail(err)
+	}
+	for _, o := range renders {
+		if err := writeFileAtomic(filepath.Join(tmp, o.name), o.b); err != nil {
+			return fail(err)
+		}
+		d := map[string]any{"file": o.name, "bytes": len(o.b), "sha256": audit.Digest(o.b),
+			"note": "a rendering of results.json for people; it shows the audit head at record " + strconv.FormatInt(meta.AuditSeq, 10)}
 		if _, err := log.Append("output.written", d); err != nil {
 			return fail(err)
 		}
@@ -413,4 +435,84 @@ func provenance(outputs []struct {
 		},
 	}
 	return EncodeJSON(st)
+}
+
+type namedBytes struct {
+	name string
+	b    []byte
+}
+
+// reportMeta collects what the renderings show beyond the results: fingerprints, lock
+// status, tool and stream identity, and the audit head so far.
+func reportMeta(p *spec.Plan, planPath string, raw, canon []byte, prep *Prepared, lockInfo map[string]any,
+	devs []Deviation, tool ToolInfo, head string, seq int64) report.Meta {
+	m := report.Meta{
+		PlanFile: planPath, PlanSHA256: audit.Digest(raw), PlanCanonicalSHA256: audit.Digest(canon),
+		DataFile: prep.DataPath, DataSHA256: "sha256:" + prep.Data.SHA256,
+		Tool: fmt.Sprintf("rankplan %s (revision %s, %s, %s/%s)", tool.Version, orUnknown(tool.Revision), tool.GoVersion, tool.GOOS, tool.GOARCH),
+		Seed: p.Seed.String(), RNG: "ChaCha8Rand (C2SP chacha8rand), scheme " + stream.Label,
+		AuditHead: head, AuditSeq: seq,
+	}
+	switch lockInfo["status"] {
+	case "matches":
+		m.Lock = fmt.Sprintf("locked: the plan matches its lock %v (locked %v)", lockInfo["lock_sha256"], lockInfo["locked_at"])
+	case "deviates":
+		m.Lock = fmt.Sprintf("locked, with deviations: the plan differs from its lock %v (locked %v)", lockInfo["lock_sha256"], lockInfo["locked_at"])
+	default:
+		m.Lock = "no lock: the plan was not locked before this run"
+	}
+	for _, d := range devs {
+		seen := "before the data were seen"
+		if d.DataSeen {
+			seen = "after the data were seen"
+		}
+		m.Deviations = append(m.Deviations, fmt.Sprintf("%s (changed: %s; %s)", d.Reason, strings.Join(d.Changed, ", "), seen))
+	}
+	return m
+}
+
+func orUnknown(s string) string {
+	if s == "" {
+		return "unknown"
+	}
+	return s
+}
+
+// maxPlotPoints bounds the points drawn per group in the report's plots: larger groups
+// are shown by evenly spaced order statistics, so a report of 10^7 rows stays small.
+const maxPlotPoints = 1000
+
+// renderings writes report.html, summary.md and pairs.csv from the results.
+func renderings(res *results.Results, meta report.Meta, prep *Prepared, dir string) ([]namedBytes, error) {
+	values := make([]report.AnalysisValues, len(prep.Analyses))
+	for i, in := range prep.Analyses {
+		values[i].ID = in.Analysis.ID
+		for _, g := range in.Sorted {
+			values[i].Groups = append(values[i].Groups, thin(g, maxPlotPoints))
+		}
+	}
+	var h, md, pc bytes.Buffer
+	if err := report.HTML(&h, res, meta, values); err != nil {
+		return nil, fmt.Errorf("write %s: %w", ReportFile, err)
+	}
+	if err := report.Markdown(&md, res, meta, dir); err != nil {
+		return nil, fmt.Errorf("write %s: %w", SummaryFile, err)
+	}
+	if err := report.PairsCSV(&pc, res); err != nil {
+		return nil, fmt.Errorf("write %s: %w", PairsFile, err)
+	}
+	return []namedBytes{{ReportFile, h.Bytes()}, {SummaryFile, md.Bytes()}, {PairsFile, pc.Bytes()}}, nil
+}
+
+// thin returns at most m evenly spaced order statistics of the sorted s (all of s when it
+// is short enough), always including the minimum and the maximum.
+func thin(s []float64, m int) []float64 {
+	if len(s) <= m {
+		return s
+	}
+	out := make([]float64, m)
+	for j := range out {
+		out[j] = s[int(int64(j)*int64(len(s)-1)/int64(m-1))]
+	}
+	return out
 }

@@ -103,6 +103,7 @@ type Data struct {
 	Decimal   string  `json:"decimal"`   // "." or ","; default "."
 	Group     string  `json:"group"`
 	Outcome   string  `json:"outcome"`
+	Unit      string  `json:"unit,omitempty"` // the outcome's unit, for labels (e.g. "min")
 	Missing   Missing `json:"missing"`
 }
 
@@ -131,7 +132,8 @@ type Analysis struct {
 	ID         string      `json:"id"`
 	Title      string      `json:"title,omitempty"`
 	Test       Test        `json:"test"`
-	Outcome    string      `json:"outcome"` // default: the plan's data.outcome
+	Outcome    string      `json:"outcome"`        // default: the plan's data.outcome
+	Unit       string      `json:"unit,omitempty"` // the outcome's unit, for labels; default: data.unit
 	Subset     *Subset     `json:"subset,omitempty"`
 	PValue     PValue      `json:"pvalue"`
 	EffectSize EffectSize  `json:"effect_size"`
@@ -240,6 +242,9 @@ func (p *Plan) applyDefaults() {
 		a := &p.Analyses[i]
 		if a.Outcome == "" {
 			a.Outcome = p.Data.Outcome
+			if a.Unit == "" {
+				a.Unit = p.Data.Unit
+			}
 		}
 		if a.EffectSize.Level == 0 {
 			a.EffectSize.Level = DefaultEffectLevel

@@ -126,7 +126,7 @@ func adjustBonferroni(s, out []float64) {
 func adjustSidak(s, out []float64) {
 	fm := float64(len(s))
 	for i, x := range s {
-		out[i] = min(1, max(x, -math.Expm1(float64(fm*math.Log1p(-x)))))
+		out[i] = min(1, max(x, -expm1Portable(float64(fm*log1pPortable(-x)))))
 	}
 }
 

@@ -3,29 +3,35 @@ package stats
 import (
 	"fmt"
 	"math"
-
-	"gonum.org/v1/gonum/mathext"
 )
 
 // minNormal is the smallest positive normal float64, 2^-1022.
 const minNormal = 0x1p-1022
 
-// ChiSquareUpperTail returns p = P(X >= x) for X ~ chi-square(df), and log10p = log10 p.
+// ChiSquareUpperTail returns p = P(X >= x) for X ~ chi-square(df), and log10p = log10 p,
+// with the same bits on every architecture (see portable.go).
 //
-// The tail is the regularized upper incomplete gamma function,
+// The tail is the regularized upper incomplete gamma function Q(a, z), a = df/2, z = x/2,
+// evaluated directly as an upper tail, never as 1 − CDF. For integer df it is a finite
+// sum of positive terms (DLMF 8.4.10 and 8.4.11 with 8.4.6; common practice):
 //
-//	p = Q(df/2, x/2) = Γ(df/2, x/2) / Γ(df/2)
+//	df even, a = n:        Q = Σ_{j=0}^{n−1} t_j,                t_j = e^{−z} z^j / j!
+//	df odd,  a = n + 1/2:  Q = erfc(√z) + Σ_{j=0}^{n−1} u_j,     u_j = e^{−z} z^{j+1/2} / Γ(j + 3/2)
 //
-// evaluated directly as an upper tail, never as 1 - CDF. In the normal float64 range it
-// comes from gonum's mathext.GammaIncRegComp (a port of the Cephes igamc routine). When
-// p is 1/2 or more, log10p is computed from the lower tail P = 1 - p as log1p(-P)/ln 10,
-// so it keeps its relative accuracy as p approaches 1.
+// with t_j = t_{j−1}·z/j and u_j = u_{j−1}·z/(j + 1/2), so no digits cancel and the
+// relative error grows only with the number of terms (about n rounding errors). The terms
+// are Poisson-like probabilities, never above 1, and the sum stops once the terms past z
+// fall below 1e-18 of it. For z < 700, t_0 = e^{−z} comes from [expPortable] and erfc from
+// [NormalTwoSided]. For z >= 700, where e^{−z} underflows, the same sums are taken in log
+// space relative to their largest term j* (the last one, or the one nearest z), with
+// ln t_j* = −z + j*·ln z − ln Γ(j* + 1) and, for odd df, ln erfc(√z) = −z + ln erfcx(√z)
+// from the asymptotic series of erfcx (DLMF 7.12.1); p is then e^{ln Q} (0 or subnormal
+// when it underflows) and log10p = ln Q / ln 10 stays finite however small the tail is.
+// For df = 2 this gives p = e^{−x/2} and log10p = −x/(2 ln 10) to rounding.
 //
-// When p is below the smallest normal float64 (about 2.2e-308) or underflows, log10p
-// is computed in log space from the continued fraction for Γ(a, z) (DLMF §8.9; see
-// logUpperGammaCF), and p is exp(ln p) rounded to float64: a subnormal value or 0.
-// log10p is then finite however small the tail is; for df = 2, where p = exp(-x/2),
-// it equals -x/(2 ln 10) to rounding.
+// When p is 1/2 or more, log10p is computed from the lower tail P = 1 − p, summed as its
+// own series P = e^{−z} z^a Σ_{m>=0} z^m / Γ(a + m + 1) (DLMF 8.7.1), as log1p(−P)/ln 10,
+// so that it keeps its relative accuracy as p approaches 1.
 //
 // x = 0 gives p = 1 and log10p = 0. x < 0, NaN or ±Inf, or df < 1, is an error.
 func ChiSquareUpperTail(x float64, df int) (p, log10p float64, err error) {
@@ -39,86 +45,120 @@ func ChiSquareUpperTail(x float64, df int) (p, log10p float64, err error) {
 	case x == 0:
 		return 1, 0, nil
 	}
-	a := float64(df) / 2
 	z := x / 2
-	p = mathext.GammaIncRegComp(a, z)
-	if p >= 0.5 {
-		lower := mathext.GammaIncReg(a, z)
-		return p, math.Log1p(-lower) / math.Ln10, nil
+	if z >= 700 {
+		lnq := logChiSquareTail(z, df)
+		if lnq > -0.5 {
+			// p >= 0.6: only very large df get here.
+			q := expPortable(lnq)
+			return min(q, 1), log1pPortable(-lowerGammaSeries(float64(df)/2, z)) / math.Ln10, nil
+		}
+		return expPortable(lnq), lnq / math.Ln10, nil
 	}
-	if p >= minNormal {
-		return p, math.Log10(p), nil
+	q := chiSquareTailSum(z, df)
+	if q >= 0.5 {
+		return min(q, 1), log1pPortable(-lowerGammaSeries(float64(df)/2, z)) / math.Ln10, nil
 	}
-	lnq, err := logUpperGammaCF(a, z)
-	if err != nil {
-		return 0, 0, fmt.Errorf("chi-square tail at x = %v, df = %d: %w", x, df, err)
-	}
-	return math.Exp(lnq), lnq / math.Ln10, nil
+	return q, Log10(q), nil
 }
 
-// cfMaxIter bounds the continued-fraction iterations of logUpperGammaCF. Far in the
-// upper tail (z well above a) the fraction converges in a handful of terms; the bound
-// only matters for z close to a, where p is far from underflow and this path is not
-// used by ChiSquareUpperTail.
-const cfMaxIter = 1 << 20
+// chiSquareTailSum is Q(df/2, z) for z < 700 by the finite sums of [ChiSquareUpperTail].
+func chiSquareTailSum(z float64, df int) float64 {
+	n := df / 2
+	var q, term, j0 float64
+	if df%2 == 0 {
+		term = expPortable(-z) // t_0
+	} else {
+		const twoOverSqrtPi = 1.1283791670955125739 // 2/√π = 1/Γ(3/2)
+		q = NormalTwoSided(math.Sqrt(float64(2 * z)))
+		term = float64(float64(expPortable(-z)*math.Sqrt(z)) * twoOverSqrtPi) // u_0
+		j0 = 0.5
+	}
+	for j := 0; j < n; j++ {
+		if j > 0 {
+			term = float64(term*z) / float64(float64(j)+j0)
+		}
+		q += term
+		if float64(j) > z && term < float64(1e-18*q) {
+			break
+		}
+	}
+	return q
+}
 
-// logUpperGammaCF returns ln Q(a, z), the log of the regularized upper incomplete gamma
-// function, for a > 0 and z > 0, without ever forming Q itself:
-//
-//	ln Q(a, z) = a ln z - z - ln Γ(a) - ln F,
-//	F = b_1 + a_2/(b_2 + a_3/(b_3 + ...)),  b_i = z + 2i - 1 - a,  a_{i+1} = -i (i - a),
-//
-// that is Γ(a, z) = e^{-z} z^a / F. F is the even contraction of the continued fraction
-// for Γ(a, z) in DLMF §8.9 (eq. 8.9.2; gonum cites the same equation for its Cephes
-// port). It is evaluated front to back with the modified Lentz method (Lentz 1976,
-// Applied Optics 15:668-671; Thompson & Barnett 1986, J. Comput. Phys. 64:490-509;
-// both citations recalled from memory), stopping when a step changes F by a relative
-// 1e-15 or less. When a is an integer or half-integer the fraction terminates and the
-// result is exact up to rounding (for a = 1, F = z and ln Q = -z).
-//
-// Accuracy: the fraction itself converges to full precision, but the sum
-// a ln z - z - ln Γ(a) has terms of size about a ln z, so ln Q carries an absolute
-// rounding error of a few ε·(a ln z + z). Where ChiSquareUpperTail uses this path
-// (|ln Q| > 708) that is a relative error in ln Q within 1e-12 for df up to 2·10^6
-// (tested against mpmath 1.2.1), growing to about 2e-9 at df = 2·10^9 (a one-off
-// comparison with mpmath 1.2.1, not part of the tests).
-//
-// It returns an error if the fraction does not converge within cfMaxIter steps or F is
-// not positive; neither happens for z > a + 1, the only region ChiSquareUpperTail uses.
-func logUpperGammaCF(a, z float64) (float64, error) {
-	const (
-		tiny = 1e-300
-		tol  = 1e-15
-	)
-	b := z + 1 - a
-	f := b
-	if f == 0 {
-		f = tiny
+// logChiSquareTail is ln Q(df/2, z) for large z, summing the terms of [ChiSquareUpperTail]
+// relative to the largest one so that nothing underflows.
+func logChiSquareTail(z float64, df int) float64 {
+	n := df / 2
+	off := 0.0 // 0 for t_j (even df), 1/2 for u_j (odd df)
+	if df%2 == 1 {
+		off = 0.5
 	}
-	c := f
-	d := 0.0
-	for i := 1; i <= cfMaxIter; i++ {
-		fi := float64(i)
-		an := float64(-fi * float64(fi-a))
-		b += 2
-		d = b + float64(an*d)
-		if d == 0 {
-			d = tiny
-		}
-		c = b + an/c
-		if c == 0 {
-			c = tiny
-		}
-		d = 1 / d
-		delta := float64(c * d)
-		f = float64(f * delta)
-		if math.Abs(delta-1) <= tol {
-			if !(f > 0) || math.IsInf(f, 0) {
-				return 0, fmt.Errorf("continued fraction for Q(%v, %v) gave a non-positive value %v", a, z, f)
-			}
-			lg, _ := math.Lgamma(a)
-			return float64(a*math.Log(z)) - z - lg - math.Log(f), nil
+	// ln of the odd-df erfc term, or −Inf when there is none.
+	lnE := math.Inf(-1)
+	if df%2 == 1 {
+		lnE = -z + logErfcx(math.Sqrt(z))
+	}
+	if n == 0 {
+		return lnE
+	}
+	// The terms rise while j + off < z: the largest is at j* = min(n−1, ⌊z − off⌋).
+	js := n - 1
+	if float64(js)+off > z {
+		js = int(z - off)
+	}
+	lnMax := logGammaDensity(z, float64(js)+off+1)
+	sum := 1.0
+	r := 1.0
+	for j := js + 1; j < n; j++ { // forward: r_j = r_{j−1}·z/(j + off) <= 1
+		r = float64(r*z) / float64(float64(j)+off)
+		sum += r
+		if r < float64(1e-18*sum) {
+			break
 		}
 	}
-	return 0, fmt.Errorf("continued fraction for Q(%v, %v) did not converge in %d steps", a, z, cfMaxIter)
+	r = 1.0
+	for j := js; j > 0; j-- { // backward: r_{j−1} = r_j·(j + off)/z <= 1
+		r = float64(r*float64(float64(j)+off)) / z
+		sum += r
+		if r < float64(1e-18*sum) {
+			break
+		}
+	}
+	if d := lnE - lnMax; d > -745 {
+		sum += expPortable(d)
+	}
+	return lnMax + logPortable(sum)
+}
+
+// logErfcx returns ln(e^{y²} erfc(y)) for y >= 26 from the asymptotic series
+// erfcx(y) = 1/(y√π) Σ_{m>=0} (−1)^m (2m − 1)!! / (2y²)^m (DLMF 7.12.1); at y >= 26 its
+// terms fall by a factor of at least 1300 each, and eight of them reach full precision.
+func logErfcx(y float64) float64 {
+	const halfLogPi = 0.57236494292470008707 // ln(π)/2
+	w := 1 / float64(2*float64(y*y))
+	sum, term := 0.0, 1.0
+	for m := 1; m <= 8; m++ {
+		term = -float64(term*float64(2*m-1)) * w
+		sum += term
+	}
+	return log1pPortable(sum) - logPortable(y) - halfLogPi
+}
+
+// lowerGammaSeries is the regularized lower incomplete gamma function
+//
+//	P(a, z) = e^{−z} z^a Σ_{m>=0} z^m / Γ(a + m + 1)   (DLMF 8.7.1)
+//
+// used where P <= 1/2, so z is below about a + 1 and the terms soon fall; the prefactor
+// e^{−z} z^a / Γ(a + 1) comes from [logGammaDensity].
+func lowerGammaSeries(a, z float64) float64 {
+	sum, term := 1.0, 1.0
+	for m := 1; m < 1_000_000; m++ {
+		term = float64(term*z) / float64(a+float64(m))
+		sum += term
+		if term < float64(1e-17*sum) {
+			break
+		}
+	}
+	return float64(expPortable(logGammaDensity(z, a+1)) * sum)
 }

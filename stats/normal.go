@@ -14,7 +14,7 @@ import "math"
 //
 //	x² < 1.5:  Q = 1 − e^{−z} z^{1/2} / Γ(3/2) · Σ_{n≥0} z^n / ((3/2)(5/2)···(1/2+n))   (series)
 //	x² ≥ 1.5:  Q = e^{−z} z^{1/2} / Γ(1/2) / F,  F the continued fraction of DLMF 8.9.2 by
-//	           modified Lentz (as in logUpperGammaCF)
+//	           modified Lentz
 //
 // with z = x², Γ(1/2) = √π and Γ(3/2) = √π/2 (Numerical Recipes, Press et al. 2007, §6.2,
 // recalled from memory). Its relative difference from math.Erfc is below 1e-14 + 2e-16·x²
@@ -72,4 +72,24 @@ func NormalTwoSided(z float64) float64 {
 		}
 	}
 	return float64(pre*h) / sqrtPi
+}
+
+// normalCritical returns the z > 0 with 2Φ(−z) = p, 0 < p < 1: the two-sided critical value
+// of the standard normal (z = 1.959964 at p = 0.05). It inverts [NormalTwoSided] by
+// bisection on [0, 40] until the bracket cannot shrink in float64, so its bits are the same
+// on every architecture, and it is as accurate as NormalTwoSided.
+func normalCritical(p float64) float64 {
+	lo, hi := 0.0, 40.0
+	for range 200 {
+		mid := lo + float64(hi-lo)/2
+		if mid == lo || mid == hi {
+			break
+		}
+		if NormalTwoSided(mid) > p {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return lo + float64(hi-lo)/2
 }

@@ -5,8 +5,6 @@ import (
 	"fmt"
 	"math"
 	"slices"
-
-	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // PairEffect holds the effect sizes of sample x against sample y.
@@ -136,8 +134,8 @@ func HodgesLehmannShift(x, y []float64, level float64) (HodgesLehmann, error) {
 			out.Coverage = 1
 		}
 	} else {
-		z := distuv.UnitNormal.Quantile(1 - tail)
-		c := math.Floor(float64(mn)/2 - z*math.Sqrt(float64(mn)*float64(m+n+1)/12))
+		z := normalCritical(float64(2 * tail))
+		c := math.Floor(float64(mn)/2 - float64(z*math.Sqrt(float64(float64(mn)*float64(m+n+1))/12)))
 		out.C = max(int64(c), -1)
 		out.Coverage = math.NaN()
 	}

@@ -32,6 +32,11 @@ func TestMain(m *testing.M) {
 //	validate-results FILE     require FILE to match the results schema
 //	cmp-run FILE              compare the last stdout of `rankplan run` with FILE, the audit
 //	                          head (which holds the run's time) masked as sha256:<head>
+//	cmp-summary GOT WANT      compare a run's summary.md with WANT, the audit head masked
+//
+// summaryHead matches the audit head in summary.md.
+var summaryHead = regexp.MustCompile("`sha256:[0-9a-f]{64}` at record")
+
 func TestScripts(t *testing.T) {
 	testscript.Run(t, testscript.Params{
 		Dir:                 "testdata/script",
@@ -66,6 +71,15 @@ func TestScripts(t *testing.T) {
 				got, want := maskHead(ts.ReadFile("stdout")), ts.ReadFile(args[0])
 				if got != want {
 					ts.Fatalf("stdout and %s differ:\n--- stdout (head masked)\n%s\n--- %s\n%s", args[0], got, args[0], want)
+				}
+			},
+			"cmp-summary": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) != 2 {
+					ts.Fatalf("usage: cmp-summary GOT WANT")
+				}
+				got := summaryHead.ReplaceAllString(ts.ReadFile(args[0]), "`sha256:<head>` at record")
+				if want := ts.ReadFile(args[1]); got != want {
+					ts.Fatalf("%s and %s differ:\n--- %s (head masked)\n%s\n--- %s\n%s", args[0], args[1], args[0], got, args[1], want)
 				}
 			},
 			"validate-results": func(ts *testscript.TestScript, neg bool, args []string) {

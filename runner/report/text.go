@@ -325,6 +325,8 @@ func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st
 var postHocNames = map[string]string{
 	"dunn": "Dunn z-tests on the joint ranks", "conover": "Conover-Iman t-tests on the joint ranks",
 	"rank-sum": "pairwise Wilcoxon-Mann-Whitney rank-sum tests",
+	"nemenyi":  "Nemenyi comparisons of mean joint ranks (studentized range)",
+	"dscf":     "Dwass-Steel-Critchlow-Fligner comparisons with pairwise ranking (studentized range)",
 }
 
 func writePostHoc(ew *errWriter, ph *results.PostHoc, st Style) {
@@ -332,7 +334,14 @@ func writePostHoc(ew *errWriter, ph *results.PostHoc, st Style) {
 	if ph.Family == "many-to-one" {
 		family = "each group against " + strconv.Quote(ph.Control)
 	}
-	ew.printf("  post-hoc: %s, %s, adjustment %s\n", postHocNames[ph.Method], family, ph.Adjust)
+	if ph.Simultaneous != "" {
+		ew.printf("  post-hoc: %s, %s, simultaneous (no adjustment needed)\n", postHocNames[ph.Method], family)
+	} else {
+		ew.printf("  post-hoc: %s, %s, adjustment %s\n", postHocNames[ph.Method], family, ph.Adjust)
+	}
+	if ph.Note != "" {
+		ew.printf("    note: %s\n", ph.Note)
+	}
 	if !ph.Ran {
 		ew.printf("    %s\n", ph.Why)
 		return

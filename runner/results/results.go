@@ -51,6 +51,7 @@ type Analysis struct {
 	Title    string      `json:"title,omitempty"`
 	Test     string      `json:"test"`
 	Outcome  string      `json:"outcome"`
+	Unit     string      `json:"unit,omitempty"` // the outcome's unit from the plan, for labels
 	Subset   *Subset     `json:"subset,omitempty"`
 	N        int         `json:"n"`
 	Groups   []Group     `json:"groups"`
@@ -77,14 +78,19 @@ type Subset struct {
 
 // PostHoc is the pairwise follow-up of an analysis.
 type PostHoc struct {
-	Method  string `json:"method"` // dunn, conover or rank-sum
+	Method  string `json:"method"` // dunn, conover, dscf, nemenyi or rank-sum
 	Adjust  string `json:"adjust"`
 	Family  string `json:"family"` // all-pairs or many-to-one
 	Control string `json:"control,omitempty"`
 	When    string `json:"when"` // significant or always
 	Ran     bool   `json:"ran"`
 	Why     string `json:"why"`
-	// Statistic names the pairs' statistic: z (Dunn), t (Conover-Iman) or U (rank-sum).
+	// Simultaneous says, for DSCF and Nemenyi, why the p-values need no adjustment.
+	Simultaneous string `json:"simultaneous,omitempty"`
+	// Note labels the family's design where the procedure's properties depend on it.
+	Note string `json:"note,omitempty"`
+	// Statistic names the pairs' statistic: z (Dunn), t (Conover-Iman), q (Nemenyi), W*
+	// (DSCF) or U (rank-sum).
 	Statistic string `json:"statistic,omitempty"`
 	Pairs     []Pair `json:"pairs,omitempty"`
 	// Letters is the compact letter display (all-pairs families): groups sharing a letter
@@ -98,7 +104,7 @@ type Pair struct {
 	Groups         [2]string `json:"groups"`
 	MeanRankDiff   float64   `json:"mean_rank_diff"` // of the joint ranks (Dunn, Conover) or of the pair's own ranks (rank-sum)
 	Statistic      float64   `json:"statistic"`
-	PMethod        string    `json:"p_method"` // normal, t, exact or normal-continuity
+	PMethod        string    `json:"p_method"` // normal, t, studentized-range, exact or normal-continuity
 	P              float64   `json:"p"`
 	PAdjusted      float64   `json:"p_adjusted"`
 	Reject         bool      `json:"reject"`
@@ -134,6 +140,9 @@ type Group struct {
 	Max      float64 `json:"max"`
 	RankSum  float64 `json:"rank_sum"`
 	MeanRank float64 `json:"mean_rank"`
+	// MeanRankInterval is the mean rank ± z·SE under random labelling, at the effect-size
+	// level ([stats.MeanRankInterval]): descriptive, for the mean-rank plot.
+	MeanRankInterval *Interval `json:"mean_rank_interval,omitempty"`
 }
 
 // Exclusion counts the rows left out of an analysis for one group and reason.

@@ -1,0 +1,52 @@
+package report
+
+import (
+	"encoding/csv"
+	"io"
+	"strconv"
+
+	"rankplan/runner/results"
+)
+
+// pairsHeader is the header of pairs.csv, one column per field of a pairwise comparison.
+var pairsHeader = []string{
+	"analysis", "outcome", "method", "adjust", "family", "group1", "group2",
+	"mean_rank_diff", "statistic_name", "statistic", "p_method", "p", "p_adjusted", "reject",
+	"cliffs_delta", "vargha_delaney_a", "hl_shift", "hl_low", "hl_high", "hl_level",
+}
+
+// PairsCSV writes pairs.csv: the pairwise comparisons of every analysis whose comparisons
+// ran, one row per pair, as a tidy RFC 4180 table for spreadsheets. Numbers are written
+// with every digit (the shortest text that reads back to the same double), so the table
+// holds exactly what results.json holds; reject is true or false. An analysis without
+// comparisons has no rows; a run without any has only the header.
+func PairsCSV(w io.Writer, res *results.Results) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(pairsHeader); err != nil {
+		return err
+	}
+	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+	for _, a := range res.Analyses {
+		ph := a.PostHoc
+		if ph == nil || !ph.Ran {
+			continue
+		}
+		adjust := ph.Adjust
+		if ph.Simultaneous != "" {
+			adjust = "simultaneous"
+		}
+		for _, p := range ph.Pairs {
+			hl := p.HodgesLehmann
+			row := []string{
+				a.ID, a.Outcome, ph.Method, adjust, ph.Family, p.Groups[0], p.Groups[1],
+				f(p.MeanRankDiff), ph.Statistic, f(p.Statistic), p.PMethod, f(p.P), f(p.PAdjusted), strconv.FormatBool(p.Reject),
+				f(p.CliffsDelta), f(p.VarghaDelaneyA), f(hl.Shift), f(hl.Interval.Low), f(hl.Interval.High), f(hl.Interval.Level),
+			}
+			if err := cw.Write(row); err != nil {
+				return err
+			}
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
