@@ -42,7 +42,7 @@ func chromium(t *testing.T) string {
 // TestReportInChromium runs every example, opens its report.html offline, and checks that
 // the page loads with no failed or non-file requests, that every headline number marked
 // with data-key and data-value equals results.json, and that a screenshot can be taken
-// (kept under testdata/screenshots for review; pixels are not asserted).
+// (a PNG per example under testdata/screenshots for review; pixels are not asserted).
 func TestReportInChromium(t *testing.T) {
 	exe := chromium(t)
 	plans, err := filepath.Glob("../../../examples/*/plan.yaml")
@@ -104,7 +104,7 @@ func TestReportInChromium(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			shot, err := chromedp.Run(ctx, chromedp.FullScreenshot(80))
+			shot, err := chromedp.Run(ctx, chromedp.FullScreenshot(100))
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -140,7 +140,7 @@ func TestReportInChromium(t *testing.T) {
 			if len(shot) < 1000 {
 				t.Fatalf("screenshot of %d bytes", len(shot))
 			}
-			path := filepath.Join("testdata", "screenshots", name+".jpg")
+			path := filepath.Join("testdata", "screenshots", name+".png")
 			if *updateShots {
 				os.MkdirAll(filepath.Dir(path), 0o755)
 				if err := os.WriteFile(path, shot, 0o644); err != nil {
