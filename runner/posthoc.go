@@ -3,6 +3,7 @@ package runner
 import (
 	"fmt"
 	"slices"
+	"strings"
 
 	"rankplan/runner/results"
 	"rankplan/spec"
@@ -23,6 +24,16 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 		out.Family, out.Control = "many-to-one", ph.Control
 		pairs = stats.ManyToOne(k, slices.Index(in.Groups, ph.Control))
 	}
+	switch ph.Method {
+	case spec.Nemenyi:
+		out.Simultaneous = fmt.Sprintf("simultaneous by construction: each p is P(Q >= q) for the studentized range of k = %d means with infinite degrees of freedom, which holds the family-wise error rate over all pairs at alpha; no adjustment is applied", k)
+		out.Note = nemenyiNote(r.Counts)
+	case spec.DSCF:
+		out.Simultaneous = fmt.Sprintf("simultaneous by construction: each pair is ranked on its own and W* is referred to the studentized range of k = %d means with infinite degrees of freedom, which holds the family-wise error rate over all pairs at alpha (asymptotically); no adjustment is applied", k)
+	}
+	if out.Simultaneous != "" && out.Family == "many-to-one" {
+		out.Note = strings.TrimSpace(out.Note + " Many-to-one comparisons are referred to the all-pairs studentized range, so they are conservative.")
+	}
 	switch {
 	case ph.When == "always":
 		out.Ran, out.Why = true, "posthoc.when is always: the comparisons run whatever the omnibus result"
@@ -41,7 +52,7 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 	raw := make([]float64, len(pairs))
 	out.Pairs = make([]results.Pair, len(pairs))
 	switch ph.Method {
-	case spec.Dunn, spec.Conover:
+	case spec.Dunn, spec.Conover, spec.Nemenyi, spec.DSCF:
 		var cmp []stats.Comparison
 		var err error
 		pm := "normal"
@@ -52,6 +63,12 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 		case spec.Conover:
 			out.Statistic, pm = "t", "t"
 			cmp, err = stats.ConoverImanTest(r, pairs)
+		case spec.Nemenyi:
+			out.Statistic, pm = "q", "studentized-range"
+			cmp, err = stats.NemenyiTest(r, pairs)
+		case spec.DSCF:
+			out.Statistic, pm = "W*", "studentized-range"
+			cmp, err = stats.DSCFTest(r, pairs)
 		}
 		if err != nil {
 			return nil, err
@@ -123,4 +140,15 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 		}
 	}
 	return out, nil
+}
+
+// nemenyiNote labels a Nemenyi family by its design: the procedure is derived for equal
+// group sizes; with unequal sizes the Tukey-Kramer-type form is used, which is conservative.
+func nemenyiNote(counts []int) string {
+	for _, c := range counts[1:] {
+		if c != counts[0] {
+			return "unequal group sizes: Nemenyi's procedure is derived for equal sizes; this is its Tukey-Kramer-type extension, which is conservative here"
+		}
+	}
+	return fmt.Sprintf("equal group sizes (n = %d each), as Nemenyi's procedure assumes", counts[0])
 }

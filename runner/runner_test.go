@@ -276,9 +276,9 @@ func TestDraft(t *testing.T) {
 		}
 	}
 	_, err = Draft(DraftOptions{DataPath: data, Group: "arm", Outcome: "score", Delimiter: "auto", Decimal: "auto",
-		Alpha: 0.05, PValue: spec.Exact, PostHoc: spec.DSCF, Adjust: spec.NoAdjustment})
-	if err == nil || !strings.Contains(err.Error(), "not implemented yet") {
-		t.Errorf("draft with an unimplemented method: %v", err)
+		Alpha: 0.05, PValue: spec.Exact, PostHoc: spec.DSCF, Adjust: spec.Holm})
+	if err == nil || !strings.Contains(err.Error(), "simultaneous by construction") {
+		t.Errorf("draft of DSCF with an adjustment: %v", err)
 	}
 }
 
@@ -474,5 +474,48 @@ func TestPostHoc(t *testing.T) {
 	ph3 := runAll(t, p2).Analyses[0].PostHoc
 	if !ph3.Ran || len(ph3.Pairs) != 3 || ph3.Pairs[0].PMethod != "exact" {
 		t.Errorf("always, rank-sum: %+v", ph3)
+	}
+}
+
+// TestSimultaneousPostHoc runs Nemenyi and DSCF from a plan on PlantGrowth (Dobson 1983;
+// METHODS.md §3.3-3.4, values verified there with scipy 1.10.1): the p-values come from
+// the studentized range, need no adjustment, and the results say so.
+func TestSimultaneousPostHoc(t *testing.T) {
+	csv := "g,y\n"
+	for i, g := range [][]float64{
+		{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14},
+		{4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69},
+		{6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26}} {
+		for _, v := range g {
+			csv += fmt.Sprintf("%s,%v\n", []string{"ctrl", "trt1", "trt2"}[i], v)
+		}
+	}
+	for _, tc := range []struct {
+		method spec.PostHoc
+		stat   string
+		p      []float64
+	}{
+		{spec.Nemenyi, "q", []float64{0.503088, 0.209259, 0.0138549}},
+		{spec.DSCF, "W*", []float64{0.382106, 0.141586, 0.0274497}},
+	} {
+		p := methodPlan(t, "{method: asymptotic}", "{resamples: 0}", csv)
+		p.Analyses[0].PostHoc = spec.PostHocPlan{Method: tc.method, Adjust: spec.NoAdjustment, When: "always"}
+		ph := runAll(t, p).Analyses[0].PostHoc
+		if ph.Statistic != tc.stat || !strings.Contains(ph.Simultaneous, "simultaneous by construction") || len(ph.Pairs) != 3 {
+			t.Fatalf("%s: %+v", tc.method, ph)
+		}
+		for i, pr := range ph.Pairs {
+			if math.Abs(pr.P-tc.p[i]) > 5e-7 || pr.PAdjusted != pr.P || pr.PMethod != "studentized-range" || pr.Reject != (pr.P <= 0.05) {
+				t.Errorf("%s pair %v: %+v, want p %v", tc.method, pr.Groups, pr, tc.p[i])
+			}
+		}
+		if tc.method == spec.Nemenyi && !strings.Contains(ph.Note, "equal group sizes (n = 10 each)") {
+			t.Errorf("nemenyi note %q", ph.Note)
+		}
+	}
+	p := methodPlan(t, "{method: asymptotic}", "{resamples: 0}", tiedToy+"A,9\n")
+	p.Analyses[0].PostHoc = spec.PostHocPlan{Method: spec.Nemenyi, Adjust: spec.NoAdjustment, When: "always"}
+	if ph := runAll(t, p).Analyses[0].PostHoc; !strings.HasPrefix(ph.Note, "unequal group sizes") {
+		t.Errorf("unequal sizes note %q", ph.Note)
 	}
 }

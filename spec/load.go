@@ -164,8 +164,8 @@ func (p *Plan) check() ErrorList {
 			if ph.When != "" {
 				add(at+".posthoc.when", "applies only with a post-hoc method; set posthoc.method")
 			}
-		} else if ph.Method == DSCF || ph.Method == Nemenyi {
-			add(at+".posthoc.method", "%q is %s; use \"dunn\", \"conover\" or \"rank-sum\"", ph.Method, notImplemented)
+		} else if (ph.Method == DSCF || ph.Method == Nemenyi) && ph.Adjust != NoAdjustment {
+			add(at+".posthoc.adjust", "%q is simultaneous by construction (its p-values come from the studentized range over all k groups), so it takes no adjustment; remove posthoc.adjust or set it to none", ph.Method)
 		}
 		if s := a.Subset; s != nil && s.Column == p.Data.Group {
 			add(at+".subset.column", "the subset column must differ from the group column %q; choose groups with groups.include", p.Data.Group)
