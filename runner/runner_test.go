@@ -421,15 +421,7 @@ func TestMethodInvariance(t *testing.T) {
 // effect sizes of METHODS.md §5, and letters consistent with the decisions; gating skips
 // the comparisons when the omnibus test does not reject.
 func TestPostHoc(t *testing.T) {
-	csv := "g,y\n"
-	for i, g := range [][]float64{
-		{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14},
-		{4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69},
-		{6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26}} {
-		for _, v := range g {
-			csv += fmt.Sprintf("%s,%v\n", []string{"ctrl", "trt1", "trt2"}[i], v)
-		}
-	}
+	csv := plantGrowthCSV()
 	dir := t.TempDir()
 	os.WriteFile(filepath.Join(dir, "data.csv"), []byte(csv), 0o644)
 	src := planHead + "alpha: 0.05\nseed: 1\nanalyses:\n  - id: a\n    test: kruskal-wallis\n    pvalue: {method: asymptotic}\n" +
@@ -481,15 +473,7 @@ func TestPostHoc(t *testing.T) {
 // METHODS.md §3.3-3.4, values verified there with scipy 1.10.1): the p-values come from
 // the studentized range, need no adjustment, and the results say so.
 func TestSimultaneousPostHoc(t *testing.T) {
-	csv := "g,y\n"
-	for i, g := range [][]float64{
-		{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14},
-		{4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69},
-		{6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26}} {
-		for _, v := range g {
-			csv += fmt.Sprintf("%s,%v\n", []string{"ctrl", "trt1", "trt2"}[i], v)
-		}
-	}
+	csv := plantGrowthCSV()
 	for _, tc := range []struct {
 		method spec.PostHoc
 		stat   string
@@ -518,4 +502,18 @@ func TestSimultaneousPostHoc(t *testing.T) {
 	if ph := runAll(t, p).Analyses[0].PostHoc; !strings.HasPrefix(ph.Note, "unequal group sizes") {
 		t.Errorf("unequal sizes note %q", ph.Note)
 	}
+}
+
+// plantGrowthCSV is the PlantGrowth data (Dobson 1983; METHODS.md §8.2) as a data file.
+func plantGrowthCSV() string {
+	csv := "g,y\n"
+	for i, g := range [][]float64{
+		{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14},
+		{4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69},
+		{6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26}} {
+		for _, v := range g {
+			csv += fmt.Sprintf("%s,%v\n", []string{"ctrl", "trt1", "trt2"}[i], v)
+		}
+	}
+	return csv
 }
