@@ -346,3 +346,35 @@ func TestIncompleteName(t *testing.T) {
 		t.Errorf("outcome %s", r.Outcome)
 	}
 }
+
+// TestVerifyMarkdown checks the Markdown form of a verify report: the outcome heading, one
+// table row per check with cell text escaped (a "|" in a detail must not end the cell), and
+// a failed check marked in bold.
+func TestVerifyMarkdown(t *testing.T) {
+	r := &VerifyReport{Dir: "out/run", Outcome: ClassIntegrity, Records: 3, Head: "sha256:ab", Checks: []Check{
+		{Name: "audit log", Verdict: Pass, File: AuditFile, Detail: "3 records"},
+		{Name: "outputs", Verdict: Fail, Class: ClassIntegrity, File: "pairs.csv", Detail: "a|b *changed*"},
+		{Name: "signature", Verdict: Skip, Detail: "the run is not signed"},
+	}}
+	var b strings.Builder
+	if err := r.WriteMarkdown(&b); err != nil {
+		t.Fatal(err)
+	}
+	want := "### Verify status: **not verified** (integrity)\n\n" +
+		"`rankplan verify out/run`\n\n" +
+		"| check | verdict | file | detail |\n|---|---|---|---|\n" +
+		"| audit log | pass | audit.jsonl | 3 records |\n" +
+		"| outputs | **fail** | pairs.csv | a\\|b \\*changed\\* |\n" +
+		"| signature | skip |  | the run is not signed |\n" +
+		"\nAudit head seen: `sha256:ab` (record 3).\n" +
+		"\nA skipped check is not a pass.\n"
+	if got := b.String(); got != want {
+		t.Errorf("WriteMarkdown:\n%s\nwant:\n%s", got, want)
+	}
+	r.Outcome, r.Checks = Verified, r.Checks[:1]
+	b.Reset()
+	r.WriteMarkdown(&b)
+	if !strings.HasPrefix(b.String(), "### Verify status: verified\n") || strings.Contains(b.String(), "skipped") {
+		t.Errorf("verified report without skips:\n%s", b.String())
+	}
+}

@@ -15,6 +15,7 @@ import (
 	"strings"
 
 	"rankplan/runner/audit"
+	"rankplan/runner/report"
 	"rankplan/runner/results"
 	"rankplan/spec"
 )
@@ -475,4 +476,41 @@ func (t *textWriter) printf(format string, args ...any) {
 	if t.err == nil {
 		_, t.err = fmt.Fprintf(t.w, format, args...)
 	}
+}
+
+// WriteMarkdown writes the report as a Markdown section for CI step summaries and pull
+// requests, to follow the run's summary.md: a heading with the outcome, a table with one
+// row per check, and the head the checks saw. A skipped check is named as such, never as
+// a pass.
+func (r *VerifyReport) WriteMarkdown(w io.Writer) error {
+	ew := &textWriter{w: w}
+	skipped := 0
+	for _, c := range r.Checks {
+		if c.Verdict == Skip {
+			skipped++
+		}
+	}
+	switch {
+	case r.Outcome != Verified:
+		ew.printf("### Verify status: **not verified** (%s)\n\n", report.MarkdownText(r.Outcome))
+	case skipped > 0:
+		ew.printf("### Verify status: verified, with %d check(s) skipped\n\n", skipped)
+	default:
+		ew.printf("### Verify status: verified\n\n")
+	}
+	ew.printf("`rankplan verify %s`\n\n| check | verdict | file | detail |\n|---|---|---|---|\n", strings.ReplaceAll(r.Dir, "`", "'"))
+	for _, c := range r.Checks {
+		v := c.Verdict
+		if v == Fail {
+			v = "**fail**"
+		}
+		ew.printf("| %s | %s | %s | %s |\n", report.MarkdownText(c.Name), v, report.MarkdownText(c.File), report.MarkdownText(c.Detail))
+	}
+	if r.Head != "" {
+		ew.printf("\nAudit head seen: `%s` (record %d).\n", r.Head, r.Records)
+	}
+	if skipped > 0 {
+		ew.printf("\nA skipped check is not a pass.\n")
+	}
+	return ew.err
 }

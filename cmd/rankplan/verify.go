@@ -28,6 +28,7 @@ func newVerifyCmd(u *ui) *cobra.Command {
 	var (
 		o       runner.VerifyOptions
 		jsonOut bool
+		mdOut   bool
 	)
 	c := &cobra.Command{
 		Use:   "verify DIR",
@@ -53,13 +54,20 @@ Exit codes:
   5  the run is incomplete (killed or failed)
   6  with --data: a conclusion at alpha changed
 
+With --markdown the verdicts are printed as a Markdown section to follow the run's
+summary.md in a CI step summary or a pull request, for example
+  rankplan verify out/run --markdown >> "$GITHUB_STEP_SUMMARY"
+
 With --quiet nothing is printed when the run verifies; otherwise one line per failed
 check goes to standard error. When standard error is a terminal, a progress line shows
 the rerun (not with --json or --quiet).`,
 		Args: exactArgs(1, "one run folder"),
 		RunE: func(c *cobra.Command, args []string) error {
+			if jsonOut && mdOut {
+				return usageErrorf("verify: --json and --markdown cannot be used together")
+			}
 			ctx := c.Context()
-			bar := u.progressBar(quiet(c), jsonOut)
+			bar := u.progressBar(quiet(c), jsonOut || mdOut)
 			if bar != nil {
 				ctx = runner.WithProgress(ctx, bar.update)
 				defer bar.finish()
@@ -69,7 +77,11 @@ the rerun (not with --json or --quiet).`,
 			if err != nil {
 				return err
 			}
-			if quiet(c) && !jsonOut {
+			if mdOut {
+				if err := rep.WriteMarkdown(c.OutOrStdout()); err != nil {
+					return err
+				}
+			} else if quiet(c) && !jsonOut {
 				if rep.Outcome != runner.Verified {
 					var failed []string
 					for _, ch := range rep.Checks {
@@ -108,5 +120,6 @@ the rerun (not with --json or --quiet).`,
 	f.StringVar(&o.Data, "data", "", "rerun on this data file and report changed conclusions (drift check)")
 	f.IntVar(&o.Workers, "workers", 0, "goroutines for resampling (0: one per core)")
 	f.BoolVar(&jsonOut, "json", false, "print the verdicts as JSON")
+	f.BoolVar(&mdOut, "markdown", false, "print the verdicts as a Markdown section (for CI step summaries)")
 	return c
 }

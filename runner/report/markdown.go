@@ -75,7 +75,7 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 	ew.printf("| tool | %s |\n", mdText(meta.Tool))
 	ew.printf("| seed, generator | %s, %s |\n", mdText(meta.Seed), mdText(meta.RNG))
 	ew.printf("| audit chain | `%s` at record %d, when this summary was written; the final head is in `audit.head` |\n", meta.AuditHead, meta.AuditSeq)
-	ew.printf("\nVerify status: not checked yet. Check and rerun this run with `rankplan verify %s`; with `--head` and the head kept outside the run folder it also proves the log was not rewritten.\n", dir)
+	ew.printf("\nVerify status: not verified yet; a run cannot vouch for itself. `rankplan verify %s --markdown` checks the folder, reruns the plan and prints its verdicts as Markdown to add below this summary; with `--head` and a copy of the head kept outside the run folder it also proves that the log was not cut short.\n", dir)
 	ew.printf("\n_%s_\n", Caution)
 	return ew.err
 }
@@ -87,8 +87,10 @@ func orNone(s []string) string {
 	return strings.Join(s, ", ")
 }
 
-// mdText makes text safe inside a Markdown table cell or paragraph: the characters that
-// would start markup or end a cell are escaped, and line ends become spaces.
+// MarkdownText makes text safe inside a Markdown table cell or paragraph: the characters
+// that would start markup or end a cell are escaped, and line ends become spaces.
+func MarkdownText(s string) string { return mdText(s) }
+
 func mdText(s string) string {
 	var b strings.Builder
 	for _, r := range s {
