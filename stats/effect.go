@@ -1,8 +1,8 @@
 package stats
 
 import (
-	"cmp"
 	"fmt"
+	"math"
 	"runtime"
 	"slices"
 	"sync"
@@ -93,6 +93,10 @@ func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error)
 	if !(opt.Level > 0 && opt.Level < 1) {
 		return Bootstrap{}, fmt.Errorf("bootstrap: level must lie in (0, 1), got %v", opt.Level)
 	}
+	index, err := valueIndex(r)
+	if err != nil {
+		return Bootstrap{}, err
+	}
 	m := opt.Resamples
 	hs := make([]float64, m)
 	degenerate := make([]bool, m)
@@ -110,7 +114,7 @@ func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error)
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			w := newBootWorker(r)
+			w := newBootWorker(r, index)
 			for j := range next {
 				s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
 				end := min((j+1)*BootstrapBlockSize, m)
@@ -139,49 +143,90 @@ func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error)
 	return out, nil
 }
 
+// valueIndex returns, for each value of r.Sorted (groups in order, one slice of length N
+// sharing the groups' order), the index of its tie block in r.Blocks: the position of its
+// value among the distinct values of the pooled sample, ascending. Values that compare
+// equal (-0 and +0 among them) share a block, as in [Rank]. It takes one sort of a copy of
+// the values, O(N log N), and is computed once for all resamples.
+func valueIndex(r *Ranking) ([]int32, error) {
+	if len(r.Blocks) > math.MaxInt32 {
+		return nil, fmt.Errorf("bootstrap: %d distinct values are more than the index can hold", len(r.Blocks))
+	}
+	distinct := make([]float64, 0, r.N)
+	for _, vals := range r.Sorted {
+		distinct = append(distinct, vals...)
+	}
+	slices.Sort(distinct)
+	distinct = slices.CompactFunc(distinct, func(a, b float64) bool { return a == b })
+	if len(distinct) != len(r.Blocks) {
+		return nil, fmt.Errorf("bootstrap: the ranking has %d tie blocks but its values %d distinct values", len(r.Blocks), len(distinct))
+	}
+	idx := make([]int32, 0, r.N)
+	for _, vals := range r.Sorted {
+		u := 0
+		for _, v := range vals {
+			for distinct[u] < v {
+				u++
+			}
+			idx = append(idx, int32(u))
+		}
+	}
+	return idx, nil
+}
+
 // bootWorker holds one goroutine's scratch buffers, so that a resample allocates nothing.
 type bootWorker struct {
 	r        *Ranking
-	pairs    []bootPair
+	index    []int32 // valueIndex(r), shared and read-only
+	draws    []int32 // the block index of each drawn value, groups in order
+	count    []int64 // per distinct value: how often it was drawn, then its doubled midrank
 	rankSum2 []int64
 	blocks   []Block
 }
 
-type bootPair struct {
-	v float64
-	g int32
+func newBootWorker(r *Ranking, index []int32) *bootWorker {
+	return &bootWorker{r: r, index: index, draws: make([]int32, r.N), count: make([]int64, len(r.Blocks)),
+		rankSum2: make([]int64, r.K), blocks: make([]Block, 0, len(r.Blocks))}
 }
 
-func newBootWorker(r *Ranking) *bootWorker {
-	return &bootWorker{r: r, pairs: make([]bootPair, r.N), rankSum2: make([]int64, r.K), blocks: make([]Block, 0, r.N)}
-}
-
+// resample draws one bootstrap resample and returns its tie-corrected H*. A drawn value is
+// one of the pooled sample's distinct values, so the resample is ranked by counting how
+// often each distinct value was drawn (O(N + m) for m distinct values, no comparison
+// sort): a value drawn t times after b smaller draws has the doubled midrank 2b + t + 1,
+// the same integers, tie blocks and H* as sorting the resample would give.
 func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool) {
 	r := w.r
-	p := w.pairs[:0]
-	for i, vals := range r.Sorted {
-		n := uint64(len(vals))
-		for range vals {
-			p = append(p, bootPair{vals[s.Below(n)], int32(i)})
+	clear(w.count)
+	off := 0
+	for _, vals := range r.Sorted {
+		n := len(vals)
+		idx, dr := w.index[off:off+n], w.draws[off:off+n]
+		for j := range dr {
+			u := idx[s.Below(uint64(n))]
+			dr[j] = u
+			w.count[u]++
 		}
+		off += n
 	}
-	slices.SortFunc(p, func(a, b bootPair) int { return cmp.Compare(a.v, b.v) })
-	clear(w.rankSum2)
 	w.blocks = w.blocks[:0]
 	var below int64
-	for i := 0; i < len(p); {
-		j := i + 1
-		for j < len(p) && p[j].v == p[i].v {
-			j++
+	for u, t := range w.count {
+		if t == 0 {
+			continue
 		}
-		t := int64(j - i)
 		d := 2*below + t + 1
-		for _, q := range p[i:j] {
-			w.rankSum2[q.g] += d
-		}
+		w.count[u] = d
 		w.blocks = append(w.blocks, Block{Rank2: d, Size: int(t)})
 		below += t
-		i = j
+	}
+	off = 0
+	for i, vals := range r.Sorted {
+		var sum int64
+		for _, u := range w.draws[off : off+len(vals)] {
+			sum += w.count[u]
+		}
+		w.rankSum2[i] = sum
+		off += len(vals)
 	}
 	_, hStar, c := tieCorrectedH(r.N, r.Counts, w.rankSum2, w.blocks)
 	if !(c > 0) {

@@ -5,6 +5,8 @@ import (
 	"math"
 	"os"
 	"testing"
+
+	"rankplan/stats/stream"
 )
 
 // PlantGrowth (Dobson 1983): H* = 7.988229, epsilon-squared 0.275456 and eta-squared(H)
@@ -136,6 +138,52 @@ func BenchmarkKruskalWallisBootstrap(b *testing.B) {
 	for b.Loop() {
 		if _, err := KruskalWallisBootstrap(r, BootstrapOptions{Seed: 1, AnalysisID: "x", Resamples: 2000, Level: 0.95}); err != nil {
 			b.Fatal(err)
+		}
+	}
+}
+
+// TestBootstrapCountingRanks checks the counting ranks of a bootstrap resample against
+// ranking the same drawn values from scratch with [Rank]: the same draws (one Below(n_i)
+// per value, groups in order) must give the same bits of H*, with ties, -0 beside +0, all
+// values distinct, and every value tied.
+func TestBootstrapCountingRanks(t *testing.T) {
+	sets := map[string][][]float64{
+		"ties":     {{1, 2, 2, 3, 5, 5, 5}, {2, 3, 3, 4, 8}, {0.5, 1, 5, 9, 9, 9, 9, 10}},
+		"zeros":    {{math.Copysign(0, -1), 0, 1, 2}, {0, 0, math.Copysign(0, -1), -1}, {3, -2, 0}},
+		"distinct": {{1.5, 2.25, 3, 8}, {4, 5.5, 6, 7, 9}, {0.5, 10, 11}},
+		"all-tied": {{4, 4}, {4, 4, 4}},
+	}
+	for name, groups := range sets {
+		r := bootRanking(t, groups)
+		index, err := valueIndex(r)
+		if err != nil {
+			t.Fatal(err)
+		}
+		w := newBootWorker(r, index)
+		key := stream.Key(BootstrapPurpose, 7, name, 0)
+		s, ref := stream.New(key), stream.New(key)
+		for b := 0; b < 200; b++ {
+			got, gotDeg := w.resample(s)
+			var rg []int32
+			var rv []float64
+			for i, vals := range r.Sorted {
+				for range vals {
+					rg = append(rg, int32(i))
+					rv = append(rv, vals[ref.Below(uint64(len(vals)))])
+				}
+			}
+			rr, err := Rank(rg, rv, r.K)
+			if err != nil {
+				t.Fatal(err)
+			}
+			_, want, c := tieCorrectedH(rr.N, rr.Counts, rr.RankSum2, rr.Blocks)
+			wantDeg := !(c > 0)
+			if wantDeg {
+				want = 0
+			}
+			if math.Float64bits(got) != math.Float64bits(want) || gotDeg != wantDeg {
+				t.Fatalf("%s resample %d: H* = %v (degenerate %v), ranking the drawn values gives %v (%v)", name, b, got, gotDeg, want, wantDeg)
+			}
 		}
 	}
 }
