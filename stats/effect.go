@@ -175,38 +175,71 @@ func valueIndex(r *Ranking) ([]int32, error) {
 }
 
 // bootWorker holds one goroutine's scratch buffers, so that a resample allocates nothing.
+//
+// A resample is ranked in one of two ways that give the same integers: with few distinct
+// values (K·m <= N) it counts draws per group and distinct value and sums per group from
+// those counts, O(N + K·m); otherwise it keeps each draw's block index and sums over the
+// draws, O(N + m).
 type bootWorker struct {
 	r        *Ranking
 	index    []int32 // valueIndex(r), shared and read-only
-	draws    []int32 // the block index of each drawn value, groups in order
+	byGroup  bool    // count per group and distinct value (K·m <= N)
+	draws    []int32 // !byGroup: the block index of each drawn value, groups in order
 	count    []int64 // per distinct value: how often it was drawn, then its doubled midrank
+	perGroup []int32 // byGroup: perGroup[i*m+u], how often group i drew distinct value u
 	rankSum2 []int64
 	blocks   []Block
 }
 
 func newBootWorker(r *Ranking, index []int32) *bootWorker {
-	return &bootWorker{r: r, index: index, draws: make([]int32, r.N), count: make([]int64, len(r.Blocks)),
-		rankSum2: make([]int64, r.K), blocks: make([]Block, 0, len(r.Blocks))}
+	m := len(r.Blocks)
+	w := &bootWorker{r: r, index: index, byGroup: int64(r.K)*int64(m) <= int64(r.N),
+		count: make([]int64, m), rankSum2: make([]int64, r.K), blocks: make([]Block, 0, m)}
+	if w.byGroup {
+		w.perGroup = make([]int32, r.K*m)
+	} else {
+		w.draws = make([]int32, r.N)
+	}
+	return w
 }
 
 // resample draws one bootstrap resample and returns its tie-corrected H*. A drawn value is
 // one of the pooled sample's distinct values, so the resample is ranked by counting how
-// often each distinct value was drawn (O(N + m) for m distinct values, no comparison
-// sort): a value drawn t times after b smaller draws has the doubled midrank 2b + t + 1,
-// the same integers, tie blocks and H* as sorting the resample would give.
+// often each distinct value was drawn (no comparison sort): a value drawn t times after b
+// smaller draws has the doubled midrank 2b + t + 1, the same integers, tie blocks and H*
+// as sorting the resample would give.
 func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool) {
 	r := w.r
+	m := len(w.count)
 	clear(w.count)
+	if w.byGroup {
+		clear(w.perGroup)
+	}
 	off := 0
-	for _, vals := range r.Sorted {
+	for i, vals := range r.Sorted {
 		n := len(vals)
-		idx, dr := w.index[off:off+n], w.draws[off:off+n]
-		for j := range dr {
-			u := idx[s.Below(uint64(n))]
-			dr[j] = u
-			w.count[u]++
+		idx := w.index[off : off+n]
+		if w.byGroup {
+			cnt := w.perGroup[i*m : (i+1)*m]
+			for range n {
+				cnt[idx[s.Below(uint64(n))]]++
+			}
+		} else {
+			dr := w.draws[off : off+n]
+			for j := range dr {
+				u := idx[s.Below(uint64(n))]
+				dr[j] = u
+				w.count[u]++
+			}
 		}
 		off += n
+	}
+	if w.byGroup {
+		for i := range r.K {
+			for u, c := range w.perGroup[i*m : (i+1)*m] {
+				w.count[u] += int64(c)
+			}
+		}
 	}
 	w.blocks = w.blocks[:0]
 	var below int64
@@ -219,14 +252,24 @@ func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool)
 		w.blocks = append(w.blocks, Block{Rank2: d, Size: int(t)})
 		below += t
 	}
-	off = 0
-	for i, vals := range r.Sorted {
-		var sum int64
-		for _, u := range w.draws[off : off+len(vals)] {
-			sum += w.count[u]
+	if w.byGroup {
+		for i := range r.K {
+			var sum int64
+			for u, c := range w.perGroup[i*m : (i+1)*m] {
+				sum += int64(c) * w.count[u]
+			}
+			w.rankSum2[i] = sum
 		}
-		w.rankSum2[i] = sum
-		off += len(vals)
+	} else {
+		off = 0
+		for i, vals := range r.Sorted {
+			var sum int64
+			for _, u := range w.draws[off : off+len(vals)] {
+				sum += w.count[u]
+			}
+			w.rankSum2[i] = sum
+			off += len(vals)
+		}
 	}
 	_, hStar, c := tieCorrectedH(r.N, r.Counts, w.rankSum2, w.blocks)
 	if !(c > 0) {

@@ -2,6 +2,7 @@ package stats
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"testing"
@@ -142,48 +143,62 @@ func BenchmarkKruskalWallisBootstrap(b *testing.B) {
 	}
 }
 
-// TestBootstrapCountingRanks checks the counting ranks of a bootstrap resample against
-// ranking the same drawn values from scratch with [Rank]: the same draws (one Below(n_i)
-// per value, groups in order) must give the same bits of H*, with ties, -0 beside +0, all
-// values distinct, and every value tied.
+// TestBootstrapCountingRanks checks the counting ranks of a bootstrap resample, both ways
+// (per draw and per group), against ranking the same drawn values from scratch with
+// [Rank]: the same draws (one Below(n_i) per value, groups in order) must give the same
+// bits of H*, with ties, -0 beside +0, all values distinct, and every value tied.
 func TestBootstrapCountingRanks(t *testing.T) {
 	sets := map[string][][]float64{
 		"ties":     {{1, 2, 2, 3, 5, 5, 5}, {2, 3, 3, 4, 8}, {0.5, 1, 5, 9, 9, 9, 9, 10}},
 		"zeros":    {{math.Copysign(0, -1), 0, 1, 2}, {0, 0, math.Copysign(0, -1), -1}, {3, -2, 0}},
 		"distinct": {{1.5, 2.25, 3, 8}, {4, 5.5, 6, 7, 9}, {0.5, 10, 11}},
 		"all-tied": {{4, 4}, {4, 4, 4}},
+		"grades":   {{1, 2, 2, 3, 3, 3, 4, 5, 5, 1, 2, 3}, {3, 4, 4, 5, 5, 5, 2, 3, 4, 4}, {1, 1, 2, 2, 3, 1, 2, 1, 1}},
 	}
-	for name, groups := range sets {
-		r := bootRanking(t, groups)
-		index, err := valueIndex(r)
+	for _, byGroup := range []bool{false, true} {
+		for name, groups := range sets {
+			t.Run(fmt.Sprintf("%s/byGroup=%v", name, byGroup), func(t *testing.T) { checkCountingRanks(t, name, groups, byGroup) })
+		}
+	}
+}
+
+func checkCountingRanks(t *testing.T, name string, groups [][]float64, byGroup bool) {
+	r := bootRanking(t, groups)
+	index, err := valueIndex(r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := newBootWorker(r, index)
+	if w.byGroup != (int64(r.K)*int64(len(r.Blocks)) <= int64(r.N)) {
+		t.Errorf("%s: byGroup = %v with K = %d, m = %d, N = %d", name, w.byGroup, r.K, len(r.Blocks), r.N)
+	}
+	// Force the path under test.
+	w.byGroup = byGroup
+	w.perGroup = make([]int32, r.K*len(r.Blocks))
+	w.draws = make([]int32, r.N)
+	key := stream.Key(BootstrapPurpose, 7, name, 0)
+	s, ref := stream.New(key), stream.New(key)
+	for b := 0; b < 200; b++ {
+		got, gotDeg := w.resample(s)
+		var rg []int32
+		var rv []float64
+		for i, vals := range r.Sorted {
+			for range vals {
+				rg = append(rg, int32(i))
+				rv = append(rv, vals[ref.Below(uint64(len(vals)))])
+			}
+		}
+		rr, err := Rank(rg, rv, r.K)
 		if err != nil {
 			t.Fatal(err)
 		}
-		w := newBootWorker(r, index)
-		key := stream.Key(BootstrapPurpose, 7, name, 0)
-		s, ref := stream.New(key), stream.New(key)
-		for b := 0; b < 200; b++ {
-			got, gotDeg := w.resample(s)
-			var rg []int32
-			var rv []float64
-			for i, vals := range r.Sorted {
-				for range vals {
-					rg = append(rg, int32(i))
-					rv = append(rv, vals[ref.Below(uint64(len(vals)))])
-				}
-			}
-			rr, err := Rank(rg, rv, r.K)
-			if err != nil {
-				t.Fatal(err)
-			}
-			_, want, c := tieCorrectedH(rr.N, rr.Counts, rr.RankSum2, rr.Blocks)
-			wantDeg := !(c > 0)
-			if wantDeg {
-				want = 0
-			}
-			if math.Float64bits(got) != math.Float64bits(want) || gotDeg != wantDeg {
-				t.Fatalf("%s resample %d: H* = %v (degenerate %v), ranking the drawn values gives %v (%v)", name, b, got, gotDeg, want, wantDeg)
-			}
+		_, want, c := tieCorrectedH(rr.N, rr.Counts, rr.RankSum2, rr.Blocks)
+		wantDeg := !(c > 0)
+		if wantDeg {
+			want = 0
+		}
+		if math.Float64bits(got) != math.Float64bits(want) || gotDeg != wantDeg {
+			t.Fatalf("%s resample %d: H* = %v (degenerate %v), ranking the drawn values gives %v (%v)", name, b, got, gotDeg, want, wantDeg)
 		}
 	}
 }
