@@ -119,6 +119,7 @@ type htmlAnalysis struct {
 	Heat       template.HTML
 	HeatLegend []legendSwatch
 	Diag       []diagRow
+	Spread     *spreadNote
 	TieShare   float64
 	RankMid    float64
 	PostHocSay string
@@ -130,21 +131,70 @@ type htmlAnalysis struct {
 type diagRow struct {
 	Name                  string
 	IQR, Min, Max, Median float64
+	Skew                  *float64 // quartile skewness; nil when IQR = 0
+}
+
+// spreadNote compares the groups' IQRs: the narrowest and the widest, and their ratio.
+type spreadNote struct {
+	Narrow, Wide diagRow
+	Ratio        float64 // Wide.IQR / Narrow.IQR; 0 when the narrowest IQR is 0
 }
 
 type legendSwatch struct {
 	Label, Color string
 }
 
+// QuartileSkewness is Bowley's quartile coefficient of skewness of the middle half,
+//
+//	(Q3 + Q1 − 2·median) / (Q3 − Q1),
+//
+// between −1 and 1: 0 when the median sits midway between the quartiles, positive when the
+// upper quarter of the middle half is the longer (common practice; Bowley 1901, Elements
+// of Statistics, recalled from memory). It is undefined (NaN) when Q3 = Q1.
+func QuartileSkewness(q1, median, q3 float64) float64 {
+	if !(q3 > q1) {
+		return math.NaN()
+	}
+	return (q3 + q1 - 2*median) / (q3 - q1)
+}
+
+// spreadOf finds the narrowest and the widest IQR among the groups (the first one of each
+// in group order); it returns nil for fewer than two groups.
+func spreadOf(rows []diagRow) *spreadNote {
+	if len(rows) < 2 {
+		return nil
+	}
+	n := spreadNote{Narrow: rows[0], Wide: rows[0]}
+	for _, r := range rows[1:] {
+		if r.IQR < n.Narrow.IQR {
+			n.Narrow = r
+		}
+		if r.IQR > n.Wide.IQR {
+			n.Wide = r
+		}
+	}
+	if n.Narrow.IQR > 0 {
+		n.Ratio = n.Wide.IQR / n.Narrow.IQR
+	}
+	return &n
+}
+
 // analysisView prepares one analysis for the template: its plots and the arithmetic on
-// results that the page shows (IQR = Q3 − Q1, tie share = tied values / N).
+// results that the page shows (IQR = Q3 − Q1, tie share = tied values / N, quartile
+// skewness, the ratio of the widest IQR to the narrowest).
 func analysisView(i int, a *results.Analysis, vals [][]float64) (htmlAnalysis, error) {
 	v := htmlAnalysis{Analysis: a, Anchor: "analysis-" + strconv.Itoa(i+1), HasValues: vals != nil}
 	v.RankMid = float64(a.N+1) / 2
 	for _, g := range a.Groups {
-		v.Diag = append(v.Diag, diagRow{Name: g.Name, IQR: g.Q3 - g.Q1, Min: g.Min, Max: g.Max, Median: g.Median})
+		d := diagRow{Name: g.Name, IQR: g.Q3 - g.Q1, Min: g.Min, Max: g.Max, Median: g.Median}
+		if d.IQR > 0 {
+			sk := QuartileSkewness(g.Q1, g.Median, g.Q3)
+			d.Skew = &sk
+		}
+		v.Diag = append(v.Diag, d)
 		v.Points = max(v.Points, g.N)
 	}
+	v.Spread = spreadOf(v.Diag)
 	if kw := a.KruskalWallis; kw != nil && a.N > 0 {
 		v.TieShare = float64(kw.TiedValues) / float64(a.N)
 	}
@@ -285,6 +335,7 @@ table { border-collapse: collapse; margin: .4em 0 1em; }
 th, td { border: 1px solid #bbb; padding: .2em .55em; text-align: left; vertical-align: top; }
 th { background: #eef3f8; }
 td.r, th.r { text-align: right; }
+td.r { white-space: nowrap; }
 dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: .2em 1em; margin: .4em 0 1em; }
 dl.facts dt { font-weight: bold; }
 dl.facts dd { margin: 0; }
@@ -292,6 +343,8 @@ dl.facts dd { margin: 0; }
 .note { color: #333; font-size: .95em; }
 .caution { border: 1px solid #D55E00; padding: .5em 1em; }
 figure { margin: 1em 0; }
+nav.contents ol { margin: .3em 0 1em; padding-left: 1.6em; }
+nav.contents a { color: #005a8c; }
 figcaption { font-size: .92em; color: #333; max-width: 44rem; }
 svg.plot { display: block; width: 100%; max-width: 34rem; height: auto; }
 .swatch { display: inline-block; width: 1.1em; height: .9em; border: 1px solid #999; vertical-align: middle;
@@ -315,7 +368,16 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <h1>{{.Res.Plan.Title}}</h1>
 <p class="planid">Plan <code>{{.Res.Plan.ID}}</code> · significance level α = {{num .Res.Plan.Alpha}} · {{len .Analyses}} analys{{if eq (len .Analyses) 1}}is{{else}}es{{end}}</p>
 </header>
-<main>
+{{if gt (len .Analyses) 1}}<nav class="contents" aria-label="Contents">
+<h2>Contents</h2>
+<ol>
+<li><a href="#provenance">Plan, data and lock</a></li>
+{{range .Analyses}}<li><a href="#{{.Anchor}}">Analysis <code>{{.ID}}</code>{{if .Title}}: {{.Title}}{{end}}</a></li>
+{{end}}{{if .Res.Multiplicity}}<li><a href="#multiplicity">Multiplicity across analyses</a></li>
+{{end}}<li><a href="#reading">Reading these results</a></li>
+</ol>
+</nav>
+{{end}}<main>
 <section id="provenance">
 <h2>Plan, data and lock</h2>
 <dl class="facts">
@@ -409,11 +471,13 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <section class="diagnostics">
 <h3>Diagnostics</h3>
 <table>
-<thead><tr><th>group</th><th class="r">median</th><th class="r">IQR (Q3 − Q1)</th><th>min – max</th></tr></thead>
+<thead><tr><th>group</th><th class="r">median</th><th class="r">IQR (Q3 − Q1)</th><th class="r">quartile skewness</th><th>min – max</th></tr></thead>
 <tbody>
-{{range .Diag}}<tr><td>{{.Name}}</td><td class="r">{{num .Median}}</td><td class="r">{{num .IQR}}</td><td>{{num .Min}} – {{num .Max}}</td></tr>
+{{range .Diag}}<tr><td>{{.Name}}</td><td class="r">{{num .Median}}</td><td class="r">{{num .IQR}}</td><td class="r">{{with .Skew}}{{num .}}{{else}}—{{end}}</td><td>{{num .Min}} – {{num .Max}}</td></tr>
 {{end}}</tbody>
 </table>
+<p class="note">Quartile skewness is (Q3 + Q1 − 2·median)/(Q3 − Q1), from −1 to 1: 0 when the median sits midway between the quartiles, positive when the upper part of the middle half is longer; “—” when Q1 = Q3.</p>
+{{with .Spread}}<p>Spread: the IQR runs from {{num .Narrow.IQR}} ({{.Narrow.Name}}) to {{num .Wide.IQR}} ({{.Wide.Name}}){{if gt .Ratio 0.0}}, a ratio of {{num .Ratio}}{{else}}; in a group with IQR 0 the middle half of the values share one value{{end}}.</p>{{end}}
 {{with .KruskalWallis}}<p>Ties: {{.TiedValues}} of {{$a.N}} observations share their value with another (tie share {{num $a.TieShare}}), in {{.TieBlocks}} tie block{{if ne .TieBlocks 1}}s{{end}}.</p>{{end}}
 <p class="note">Compare the spreads and shapes above and in the box plot before reading a difference as a difference in medians (see “Reading these results”).</p>
 </section>

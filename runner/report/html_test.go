@@ -153,13 +153,21 @@ func TestHTMLStructure(t *testing.T) {
 			}
 			doc := parse(t, page)
 			var title, lang, charset string
-			var h2 []string
+			var h2, hrefs []string
+			ids := map[string]bool{}
 			svgs, footers := 0, 0
 			walk(doc, func(n *html.Node) {
 				if n.Type != html.ElementNode {
 					return
 				}
+				if id, ok := attr(n, "id"); ok {
+					ids[id] = true
+				}
 				switch n.DataAtom {
+				case atom.A:
+					if h, ok := attr(n, "href"); ok {
+						hrefs = append(hrefs, h)
+					}
 				case atom.Title:
 					title = textOf(n)
 				case atom.Html:
@@ -182,7 +190,11 @@ func TestHTMLStructure(t *testing.T) {
 			if lang != "en" || charset != "utf-8" || footers != 1 {
 				t.Errorf("lang %q, charset %q, %d footers", lang, charset, footers)
 			}
-			want := []string{"Plan, data and lock"}
+			var want []string
+			if len(res.Analyses) > 1 {
+				want = append(want, "Contents")
+			}
+			want = append(want, "Plan, data and lock")
 			wantSVG := 0
 			for i := range res.Analyses {
 				a := &res.Analyses[i]
@@ -198,6 +210,15 @@ func TestHTMLStructure(t *testing.T) {
 			want = append(want, "Reading these results")
 			if !slices.Equal(h2, want) {
 				t.Errorf("h2 headings\n got %q\nwant %q", h2, want)
+			}
+			// The contents (pages of more than one analysis) link to every h2 below it.
+			if wantLinks := len(want) - 1; len(res.Analyses) > 1 && len(hrefs) != wantLinks {
+				t.Errorf("%d links %q, want %d: one per section of the contents", len(hrefs), hrefs, wantLinks)
+			}
+			for _, h := range hrefs {
+				if !strings.HasPrefix(h, "#") || !ids[h[1:]] {
+					t.Errorf("link %q does not point at an element of the page", h)
+				}
 			}
 			if svgs != wantSVG {
 				t.Errorf("%d <svg> elements, want %d (box and mean-rank plot per analysis, heatmap where pairs ran)", svgs, wantSVG)
@@ -765,5 +786,40 @@ func TestHTMLProvenanceAndLabels(t *testing.T) {
 	// One jittered point per observation (47) in the box plot.
 	if n := bytes.Count(box, []byte("<path")); n < 47 {
 		t.Errorf("box plot has %d paths, fewer than the 47 observations", n)
+	}
+}
+
+// TestQuartileSkewness checks Bowley's coefficient on hand-worked quartiles: a median
+// midway between the quartiles gives 0, a median at a quartile gives ±1, and Q1 = Q3 has
+// no value.
+func TestQuartileSkewness(t *testing.T) {
+	for _, tc := range []struct{ q1, m, q3, want float64 }{
+		{5, 5.75, 6.5, 0},
+		{1, 1, 2.25, 1},
+		{2, 4, 4, -1},
+		{12.375, 14.75, 15.625, -0.4615384615384615}, // (15.625 + 12.375 − 29.5)/3.25 = −1.5/3.25
+	} {
+		if got := QuartileSkewness(tc.q1, tc.m, tc.q3); math.Abs(got-tc.want) > 1e-15 {
+			t.Errorf("QuartileSkewness(%v, %v, %v) = %v, want %v", tc.q1, tc.m, tc.q3, got, tc.want)
+		}
+	}
+	if got := QuartileSkewness(3, 3, 3); !math.IsNaN(got) {
+		t.Errorf("Q1 = Q3: got %v, want NaN", got)
+	}
+}
+
+// TestHTMLSpread checks the diagnostics' spread line on the dissolution fixture, whose
+// IQRs (Q3 − Q1 from results.json) are 3.25, 4.5, 3.5 and 1.875: the narrowest is L4's,
+// the widest L2's, and 4.5 / 1.875 = 2.4.
+func TestHTMLSpread(t *testing.T) {
+	res, vals := loadFixture(t, "dissolution")
+	page := string(render(t, res, Meta{}, vals))
+	for _, want := range []string{
+		"Spread: the IQR runs from 1.875 (L4) to 4.5 (L2), a ratio of 2.4.",
+		`<td class="r">-0.461538</td>`,
+	} {
+		if !strings.Contains(page, want) {
+			t.Errorf("page lacks %q", want)
+		}
 	}
 }

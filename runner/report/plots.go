@@ -10,6 +10,7 @@ import (
 	"math/rand/v2"
 	"regexp"
 	"strconv"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -130,10 +131,27 @@ func groupTicks(groups []results.Group) plot.ConstantTicks {
 
 // axisLabel is the outcome with its unit, e.g. "minutes (min)".
 func axisLabel(a *results.Analysis) string {
-	if a.Unit == "" {
+	switch {
+	case a.Unit == "":
 		return a.Outcome
+	case strings.ContainsAny(a.Unit, "()"):
+		return a.Outcome + " [" + a.Unit + "]" // "score [points (0-10)]", not nested parentheses
 	}
 	return a.Outcome + " (" + a.Unit + ")"
+}
+
+// plainTicks are gonum/plot's default ticks with each label in its shortest form, the
+// same on every axis ("25", never "25.00").
+type plainTicks struct{}
+
+func (plainTicks) Ticks(lo, hi float64) []plot.Tick {
+	ts := plot.DefaultTicks{}.Ticks(lo, hi)
+	for i := range ts {
+		if ts[i].Label != "" {
+			ts[i].Label = strconv.FormatFloat(ts[i].Value, 'g', 6, 64)
+		}
+	}
+	return ts
 }
 
 // newPlot makes a plot with the report's fonts and no title (the figure caption says it).
@@ -226,6 +244,7 @@ func boxPlotSVG(a *results.Analysis, values [][]float64) ([]byte, error) {
 	p.Y.Min, p.Y.Max = span(lo, hi)
 	p.X.Min, p.X.Max = 0.4, float64(len(a.Groups))+0.6
 	p.X.Tick.Marker = groupTicks(a.Groups)
+	p.Y.Tick.Marker = plainTicks{}
 	p.Y.Label.Text = axisLabel(a)
 	p.X.Label.Text = "group"
 	p.Add(boxPlotter{a: a, values: values, seed: jitterSeed(a.ID)})
@@ -280,6 +299,7 @@ func meanRankPlotSVG(a *results.Analysis) ([]byte, error) {
 	p.Y.Min, p.Y.Max = span(lo, hi)
 	p.X.Min, p.X.Max = 0.4, float64(len(a.Groups))+0.6
 	p.X.Tick.Marker = groupTicks(a.Groups)
+	p.Y.Tick.Marker = plainTicks{}
 	p.Y.Label.Text = "mean rank"
 	p.X.Label.Text = "group"
 	p.Add(meanRankPlotter{a: a})
