@@ -378,3 +378,29 @@ func TestVerifyMarkdown(t *testing.T) {
 		t.Errorf("verified report without skips:\n%s", b.String())
 	}
 }
+
+// TestRunLargeGroups runs a plan whose groups are larger than the points the report draws
+// (maxPlotPoints): the run must write its renderings from the thinned values, and the
+// report must say that it shows some of the observations.
+func TestRunLargeGroups(t *testing.T) {
+	var csv strings.Builder
+	csv.WriteString("g,y\n")
+	for i := range 3 * (maxPlotPoints + 201) {
+		fmt.Fprintf(&csv, "%c,%d\n", 'A'+i%3, (i*7919)%1000+i%3*40)
+	}
+	p := methodPlan(t, "{method: asymptotic}", "{resamples: 50}", csv.String())
+	rec, err := Run(context.Background(), p.File, RunOptions{Out: filepath.Join(t.TempDir(), "run"), Now: clock(), Getenv: noEnv})
+	if err != nil {
+		t.Fatal(err)
+	}
+	page, err := os.ReadFile(filepath.Join(rec.Dir, ReportFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(page), "groups with more than 400 observations show 400 of them") {
+		t.Errorf("%s does not say that it shows some of the observations", ReportFile)
+	}
+	if r := verify(t, rec.Dir, VerifyOptions{}); r.Outcome != Verified {
+		t.Errorf("verify: %s: %+v", r.Outcome, r.Checks)
+	}
+}

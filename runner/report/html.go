@@ -26,6 +26,8 @@ type Meta struct {
 }
 
 // AnalysisValues are the observations of one analysis per group (report order), for the plots only.
+// A large group may be thinned: Groups[i] then holds evenly spaced order statistics of the
+// group, at least two and always its minimum and maximum.
 type AnalysisValues struct {
 	ID     string
 	Groups [][]float64 // Groups[i] sorted ascending, same order as results Analysis.Groups
@@ -86,8 +88,12 @@ func checkValues(res *results.Results, values []AnalysisValues) (map[string][][]
 			return nil, fmt.Errorf("values for analysis %q: %d groups, the results have %d", v.ID, len(v.Groups), len(a.Groups))
 		}
 		for gi, g := range v.Groups {
-			if len(g) != a.Groups[gi].N {
-				return nil, fmt.Errorf("values for analysis %q group %q: %d observations, the results have %d", v.ID, a.Groups[gi].Name, len(g), a.Groups[gi].N)
+			rg := a.Groups[gi]
+			if len(g) > rg.N || len(g) < min(rg.N, 2) {
+				return nil, fmt.Errorf("values for analysis %q group %q: %d observations, the results have %d", v.ID, rg.Name, len(g), rg.N)
+			}
+			if len(g) < rg.N && (g[0] != rg.Min || g[len(g)-1] != rg.Max) {
+				return nil, fmt.Errorf("values for analysis %q group %q: %d of %d observations that do not include the minimum and the maximum", v.ID, rg.Name, len(g), rg.N)
 			}
 			for j, x := range g {
 				if math.IsNaN(x) || math.IsInf(x, 0) {

@@ -537,9 +537,17 @@ func TestHTMLRejectsBadInput(t *testing.T) {
 			return r, v
 		}, "2 groups, the results have 4"},
 		{"group size", func(r *results.Results, v []AnalysisValues) (*results.Results, []AnalysisValues) {
+			v[0].Groups[0] = append(v[0].Groups[0], v[0].Groups[0][11])
+			return r, v
+		}, `group "L1": 13 observations, the results have 12`},
+		{"one of many", func(r *results.Results, v []AnalysisValues) (*results.Results, []AnalysisValues) {
+			v[0].Groups[0] = v[0].Groups[0][:1]
+			return r, v
+		}, `group "L1": 1 observations, the results have 12`},
+		{"thinned without the extremes", func(r *results.Results, v []AnalysisValues) (*results.Results, []AnalysisValues) {
 			v[0].Groups[0] = v[0].Groups[0][:3]
 			return r, v
-		}, `group "L1": 3 observations, the results have 12`},
+		}, `group "L1": 3 of 12 observations that do not include the minimum and the maximum`},
 		{"NaN", func(r *results.Results, v []AnalysisValues) (*results.Results, []AnalysisValues) {
 			v[0].Groups[2][5] = math.NaN()
 			return r, v
@@ -821,5 +829,21 @@ func TestHTMLSpread(t *testing.T) {
 		if !strings.Contains(page, want) {
 			t.Errorf("page lacks %q", want)
 		}
+	}
+}
+
+// TestHTMLThinnedValues checks that a group given as a few evenly spaced order statistics
+// (as the runner passes for large groups) is drawn: the page has its plots and dots.
+func TestHTMLThinnedValues(t *testing.T) {
+	res, vals := loadFixture(t, "dissolution")
+	full := render(t, res, Meta{}, vals)
+	g := vals[0].Groups[0]
+	vals[0].Groups[0] = []float64{g[0], g[5], g[len(g)-1]}
+	thinned := render(t, res, Meta{}, vals)
+	if bytes.Equal(full, thinned) {
+		t.Fatal("thinning a group did not change its dots")
+	}
+	if got, want := strings.Count(string(thinned), "<svg"), strings.Count(string(full), "<svg"); got != want {
+		t.Errorf("%d plots with a thinned group, %d without", got, want)
 	}
 }
