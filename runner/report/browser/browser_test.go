@@ -15,7 +15,9 @@ import (
 	"testing"
 	"time"
 
+	"github.com/chromedp/cdproto/emulation"
 	"github.com/chromedp/cdproto/network"
+	"github.com/chromedp/cdproto/page"
 	"github.com/chromedp/chromedp"
 
 	"rankplan/runner"
@@ -140,6 +142,14 @@ func TestReportInChromium(t *testing.T) {
 			if len(shot) < 1000 {
 				t.Fatalf("screenshot of %d bytes", len(shot))
 			}
+			plots, err := chromedp.Run(ctx, chromedp.Evaluate[int](`Array.from(document.querySelectorAll("svg.plot")).filter(e => { const r = e.getBoundingClientRect(); return r.width > 100 && r.height > 100; }).length`))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if want := wantPlots(&res); plots != want {
+				t.Errorf("%d plots drawn at a visible size, want %d (box and mean-rank plot per analysis, heatmap where pairs ran)", plots, want)
+			}
+			checkPrint(ctx, t)
 			path := filepath.Join("testdata", "screenshots", name+".png")
 			if *updateShots {
 				os.MkdirAll(filepath.Dir(path), 0o755)
@@ -150,6 +160,66 @@ func TestReportInChromium(t *testing.T) {
 				t.Errorf("no committed screenshot %s for review (go test ./runner/report/browser -update-screenshots): %v", path, err)
 			}
 		})
+	}
+}
+
+// wantPlots is the number of plots the page must show: a box plot and a mean-rank plot
+// per analysis with data, and a heatmap of adjusted p-values where pairs were compared.
+func wantPlots(res *results.Results) int {
+	n := 0
+	for _, a := range res.Analyses {
+		if a.N > 0 {
+			n += 2
+		}
+		if ph := a.PostHoc; ph != nil && ph.Ran && len(ph.Pairs) > 0 {
+			n++
+		}
+	}
+	return n
+}
+
+// overflowJS lists the elements (at most 8) whose right edge lies beyond the page width;
+// the shapes inside an SVG are left to the SVG element itself.
+const overflowJS = `(() => {
+  const w = document.documentElement.clientWidth, out = [];
+  for (const e of document.querySelectorAll("body *")) {
+    if (e.closest("svg") && e.tagName.toLowerCase() !== "svg") continue;
+    const r = e.getBoundingClientRect();
+    if (r.width > 0 && r.right > w + 0.5) out.push(e.tagName.toLowerCase() + (e.id ? "#" + e.id : "") + ": right edge " + Math.round(r.right) + " px > " + w + " px, text " + JSON.stringify((e.textContent || "").slice(0, 40)));
+  }
+  return out.slice(0, 8);
+})()`
+
+// checkPrint checks that the report prints: in print media at the text width of A4
+// (210 mm less the report's 16 mm side margins, 178 mm = 672 CSS px at 96 px per inch, the
+// narrower of A4 and Letter) no element sticks out of the page, and Chromium prints the
+// page to PDF on A4 (8.27 × 11.69 in) and on Letter (8.5 × 11 in).
+func checkPrint(ctx context.Context, t *testing.T) {
+	t.Helper()
+	if _, err := chromedp.Call(ctx, emulation.SetEmulatedMedia, emulation.SetEmulatedMediaParams{Media: "print"}); err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.EmulateViewport(672, 950)); err != nil {
+		t.Fatal(err)
+	}
+	wide, err := chromedp.Run(ctx, chromedp.Evaluate[[]string](overflowJS))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, w := range wide {
+		t.Errorf("print at A4 width: %s", w)
+	}
+	for _, paper := range []struct {
+		name string
+		w, h float64
+	}{{"A4", 8.27, 11.69}, {"Letter", 8.5, 11}} {
+		pdf, err := chromedp.Call(ctx, page.PrintToPDF, page.PrintToPDFParams{PaperWidth: paper.w, PaperHeight: paper.h})
+		if err != nil {
+			t.Fatalf("print to PDF on %s: %v", paper.name, err)
+		}
+		if !strings.HasPrefix(string(pdf.Data), "%PDF-") || len(pdf.Data) < 10000 {
+			t.Errorf("print to PDF on %s: %d bytes, not a PDF of the report", paper.name, len(pdf.Data))
+		}
 	}
 }
 
