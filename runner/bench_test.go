@@ -77,21 +77,25 @@ func benchData(b *testing.B, rows int, extra string) string {
 
 const allPairs = "    posthoc: {method: dunn, adjust: holm, when: always}\n"
 
-// BenchmarkRunFolder measures what `rankplan run` does end to end on 10^7 rows: load,
+// BenchmarkRunFolder measures what `rankplan run` does end to end on 10^6 and 10^7 rows: load,
 // test, Dunn comparisons of all pairs with Hodges-Lehmann shifts, and the run folder with
 // its audit log, provenance and renderings (report.html, summary.md, pairs.csv).
 //
 //	go test ./runner -run XXX -bench 'RunFolder|Renderings' -benchtime=1x -benchmem
 func BenchmarkRunFolder(b *testing.B) {
-	path := benchData(b, 10_000_000, allPairs)
-	out := b.TempDir()
-	b.ReportAllocs()
-	i := 0
-	for b.Loop() {
-		i++
-		if _, err := Run(context.Background(), path, RunOptions{Out: filepath.Join(out, fmt.Sprint(i))}); err != nil {
-			b.Fatal(err)
-		}
+	for _, rows := range []int{1_000_000, 10_000_000} {
+		b.Run(fmt.Sprintf("rows=%d", rows), func(b *testing.B) {
+			path := benchData(b, rows, allPairs)
+			out := b.TempDir()
+			b.ReportAllocs()
+			i := 0
+			for b.Loop() {
+				i++
+				if _, err := Run(context.Background(), path, RunOptions{Out: filepath.Join(out, fmt.Sprint(i))}); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
 	}
 }
 

@@ -93,7 +93,7 @@ func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error)
 	if !(opt.Level > 0 && opt.Level < 1) {
 		return Bootstrap{}, fmt.Errorf("bootstrap: level must lie in (0, 1), got %v", opt.Level)
 	}
-	index, err := valueIndex(r)
+	bi, err := newBootIndex(r)
 	if err != nil {
 		return Bootstrap{}, err
 	}
@@ -114,7 +114,7 @@ func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error)
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			w := newBootWorker(r, index)
+			w := newBootWorker(r, bi)
 			for j := range next {
 				s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
 				end := min((j+1)*BootstrapBlockSize, m)
@@ -174,29 +174,85 @@ func valueIndex(r *Ranking) ([]int32, error) {
 	return idx, nil
 }
 
-// bootWorker holds one goroutine's scratch buffers, so that a resample allocates nothing.
+// bootIndex is what every resample of a ranking reads, built once and shared read-only.
 //
-// A resample is ranked in one of two ways that give the same integers: with few distinct
-// values (K·m <= N) it counts draws per group and distinct value and sums per group from
-// those counts, O(N + K·m); otherwise it keeps each draw's block index and sums over the
-// draws, O(N + m).
+// A resample is ranked in one of two ways that give the same integers. With few distinct
+// values (byGroup: K·m <= N) it counts the draws of each group per run of equal values,
+// finding a drawn position's run through a small table (runs), and sums per group from
+// those counts, O(N + Σ m_i) for m_i distinct values in group i; otherwise it keeps each
+// draw's block index (from index) and sums over the draws, O(N + m).
+type bootIndex struct {
+	index   []int32 // valueIndex(r)
+	byGroup bool
+	runs    []groupRuns // per group
+}
+
+// groupRuns describes the runs of equal values in one group's sorted values: run l holds
+// positions bounds[l] ≤ j < bounds[l+1] and its value is pooled block blocks[l]. coarse[b]
+// is the run holding position b << shift, so that the run of a position j is found from
+// coarse[j >> shift] in a few steps, reading only tables of about m_i entries (they stay
+// in cache where a table of all n_i positions would not).
+type groupRuns struct {
+	blocks []int32
+	bounds []int32 // len(blocks) + 1 entries; the last is n_i
+	coarse []int32
+	shift  uint
+}
+
+func newBootIndex(r *Ranking) (*bootIndex, error) {
+	index, err := valueIndex(r)
+	if err != nil {
+		return nil, err
+	}
+	bi := &bootIndex{index: index, byGroup: int64(r.K)*int64(len(r.Blocks)) <= int64(r.N), runs: make([]groupRuns, r.K)}
+	off := 0
+	for i, vals := range r.Sorted {
+		n := len(vals)
+		idx := index[off : off+n]
+		g := &bi.runs[i]
+		for j, u := range idx {
+			if j == 0 || u != idx[j-1] {
+				g.blocks = append(g.blocks, u)
+				g.bounds = append(g.bounds, int32(j))
+			}
+		}
+		g.bounds = append(g.bounds, int32(n))
+		// A bucket of 2^shift positions, at most the mean run length, holds few run ends.
+		for g.shift < 30 && 2<<g.shift*len(g.blocks) <= n {
+			g.shift++
+		}
+		g.coarse = make([]int32, (n-1)>>g.shift+1)
+		l := int32(0)
+		for b := range g.coarse {
+			for g.bounds[l+1] <= int32(b<<g.shift) {
+				l++
+			}
+			g.coarse[b] = l
+		}
+		off += n
+	}
+	return bi, nil
+}
+
+// bootWorker holds one goroutine's scratch buffers, so that a resample allocates nothing.
 type bootWorker struct {
 	r        *Ranking
-	index    []int32 // valueIndex(r), shared and read-only
-	byGroup  bool    // count per group and distinct value (K·m <= N)
-	draws    []int32 // !byGroup: the block index of each drawn value, groups in order
-	count    []int64 // per distinct value: how often it was drawn, then its doubled midrank
-	perGroup []int32 // byGroup: perGroup[i*m+u], how often group i drew distinct value u
+	bi       *bootIndex
+	draws    []int32   // !byGroup: the block index of each drawn value, groups in order
+	count    []int64   // per distinct value: how often it was drawn, then its doubled midrank
+	runCount [][]int32 // byGroup: runCount[i][l], how often group i drew from its run l
 	rankSum2 []int64
 	blocks   []Block
 }
 
-func newBootWorker(r *Ranking, index []int32) *bootWorker {
+func newBootWorker(r *Ranking, bi *bootIndex) *bootWorker {
 	m := len(r.Blocks)
-	w := &bootWorker{r: r, index: index, byGroup: int64(r.K)*int64(m) <= int64(r.N),
-		count: make([]int64, m), rankSum2: make([]int64, r.K), blocks: make([]Block, 0, m)}
-	if w.byGroup {
-		w.perGroup = make([]int32, r.K*m)
+	w := &bootWorker{r: r, bi: bi, count: make([]int64, m), rankSum2: make([]int64, r.K), blocks: make([]Block, 0, m)}
+	if bi.byGroup {
+		w.runCount = make([][]int32, r.K)
+		for i, g := range bi.runs {
+			w.runCount[i] = make([]int32, len(g.blocks))
+		}
 	} else {
 		w.draws = make([]int32, r.N)
 	}
@@ -209,36 +265,36 @@ func newBootWorker(r *Ranking, index []int32) *bootWorker {
 // smaller draws has the doubled midrank 2b + t + 1, the same integers, tie blocks and H*
 // as sorting the resample would give.
 func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool) {
-	r := w.r
-	m := len(w.count)
+	r, bi := w.r, w.bi
 	clear(w.count)
-	if w.byGroup {
-		clear(w.perGroup)
-	}
-	off := 0
-	for i, vals := range r.Sorted {
-		n := len(vals)
-		idx := w.index[off : off+n]
-		if w.byGroup {
-			cnt := w.perGroup[i*m : (i+1)*m]
+	if bi.byGroup {
+		for i, vals := range r.Sorted {
+			n := uint64(len(vals))
+			g, cnt := &bi.runs[i], w.runCount[i]
+			clear(cnt)
 			for range n {
-				cnt[idx[s.Below(uint64(n))]]++
+				j := int32(s.Below(n))
+				l := g.coarse[j>>g.shift]
+				for g.bounds[l+1] <= j {
+					l++
+				}
+				cnt[l]++
 			}
-		} else {
-			dr := w.draws[off : off+n]
+			for l, c := range cnt {
+				w.count[g.blocks[l]] += int64(c)
+			}
+		}
+	} else {
+		off := 0
+		for _, vals := range r.Sorted {
+			n := len(vals)
+			idx, dr := bi.index[off:off+n], w.draws[off:off+n]
 			for j := range dr {
 				u := idx[s.Below(uint64(n))]
 				dr[j] = u
 				w.count[u]++
 			}
-		}
-		off += n
-	}
-	if w.byGroup {
-		for i := range r.K {
-			for u, c := range w.perGroup[i*m : (i+1)*m] {
-				w.count[u] += int64(c)
-			}
+			off += n
 		}
 	}
 	w.blocks = w.blocks[:0]
@@ -252,16 +308,16 @@ func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool)
 		w.blocks = append(w.blocks, Block{Rank2: d, Size: int(t)})
 		below += t
 	}
-	if w.byGroup {
-		for i := range r.K {
+	if bi.byGroup {
+		for i, g := range bi.runs {
 			var sum int64
-			for u, c := range w.perGroup[i*m : (i+1)*m] {
-				sum += int64(c) * w.count[u]
+			for l, c := range w.runCount[i] {
+				sum += int64(c) * w.count[g.blocks[l]]
 			}
 			w.rankSum2[i] = sum
 		}
 	} else {
-		off = 0
+		off := 0
 		for i, vals := range r.Sorted {
 			var sum int64
 			for _, u := range w.draws[off : off+len(vals)] {

@@ -149,11 +149,17 @@ func BenchmarkKruskalWallisBootstrap(b *testing.B) {
 // bits of H*, with ties, -0 beside +0, all values distinct, and every value tied.
 func TestBootstrapCountingRanks(t *testing.T) {
 	sets := map[string][][]float64{
-		"ties":     {{1, 2, 2, 3, 5, 5, 5}, {2, 3, 3, 4, 8}, {0.5, 1, 5, 9, 9, 9, 9, 10}},
-		"zeros":    {{math.Copysign(0, -1), 0, 1, 2}, {0, 0, math.Copysign(0, -1), -1}, {3, -2, 0}},
-		"distinct": {{1.5, 2.25, 3, 8}, {4, 5.5, 6, 7, 9}, {0.5, 10, 11}},
-		"all-tied": {{4, 4}, {4, 4, 4}},
-		"grades":   {{1, 2, 2, 3, 3, 3, 4, 5, 5, 1, 2, 3}, {3, 4, 4, 5, 5, 5, 2, 3, 4, 4}, {1, 1, 2, 2, 3, 1, 2, 1, 1}},
+		"ties":      {{1, 2, 2, 3, 5, 5, 5}, {2, 3, 3, 4, 8}, {0.5, 1, 5, 9, 9, 9, 9, 10}},
+		"zeros":     {{math.Copysign(0, -1), 0, 1, 2}, {0, 0, math.Copysign(0, -1), -1}, {3, -2, 0}},
+		"distinct":  {{1.5, 2.25, 3, 8}, {4, 5.5, 6, 7, 9}, {0.5, 10, 11}},
+		"all-tied":  {{4, 4}, {4, 4, 4}},
+		"grades":    {{1, 2, 2, 3, 3, 3, 4, 5, 5, 1, 2, 3}, {3, 4, 4, 5, 5, 5, 2, 3, 4, 4}, {1, 1, 2, 2, 3, 1, 2, 1, 1}},
+		"long runs": make([][]float64, 3),
+	}
+	for i := range sets["long runs"] {
+		for j := range 300 + 37*i {
+			sets["long runs"][i] = append(sets["long runs"][i], float64((j*7+i)%6))
+		}
 	}
 	for _, byGroup := range []bool{false, true} {
 		for name, groups := range sets {
@@ -164,18 +170,31 @@ func TestBootstrapCountingRanks(t *testing.T) {
 
 func checkCountingRanks(t *testing.T, name string, groups [][]float64, byGroup bool) {
 	r := bootRanking(t, groups)
-	index, err := valueIndex(r)
+	bi, err := newBootIndex(r)
 	if err != nil {
 		t.Fatal(err)
 	}
-	w := newBootWorker(r, index)
-	if w.byGroup != (int64(r.K)*int64(len(r.Blocks)) <= int64(r.N)) {
-		t.Errorf("%s: byGroup = %v with K = %d, m = %d, N = %d", name, w.byGroup, r.K, len(r.Blocks), r.N)
+	if bi.byGroup != (int64(r.K)*int64(len(r.Blocks)) <= int64(r.N)) {
+		t.Errorf("%s: byGroup = %v with K = %d, m = %d, N = %d", name, bi.byGroup, r.K, len(r.Blocks), r.N)
+	}
+	// Every position's run, found through the coarse table, holds that position's value.
+	off := 0
+	for i, vals := range r.Sorted {
+		g := bi.runs[i]
+		for j := range vals {
+			l := g.coarse[j>>g.shift]
+			for g.bounds[l+1] <= int32(j) {
+				l++
+			}
+			if g.bounds[l] > int32(j) || g.blocks[l] != bi.index[off+j] {
+				t.Fatalf("%s group %d position %d: run %d (from %d, block %d), index says block %d", name, i, j, l, g.bounds[l], g.blocks[l], bi.index[off+j])
+			}
+		}
+		off += len(vals)
 	}
 	// Force the path under test.
-	w.byGroup = byGroup
-	w.perGroup = make([]int32, r.K*len(r.Blocks))
-	w.draws = make([]int32, r.N)
+	bi.byGroup = byGroup
+	w := newBootWorker(r, bi)
 	key := stream.Key(BootstrapPurpose, 7, name, 0)
 	s, ref := stream.New(key), stream.New(key)
 	for b := 0; b < 200; b++ {
