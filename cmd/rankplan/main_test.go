@@ -32,10 +32,14 @@ func TestMain(m *testing.M) {
 //	validate-results FILE     require FILE to match the results schema
 //	cmp-run FILE              compare the last stdout of `rankplan run` with FILE, the audit
 //	                          head (which holds the run's time) masked as sha256:<head>
-//	cmp-summary GOT WANT      compare a run's summary.md with WANT, the audit head masked
+//	cmp-summary GOT WANT      compare a run's summary.md with WANT, the audit head and the
+//	                          build (revision, Go release, platform) masked
 //
-// summaryHead matches the audit head in summary.md.
-var summaryHead = regexp.MustCompile("`sha256:[0-9a-f]{64}` at record")
+// summaryHead matches the audit head in summary.md, summaryBuild the build in its tool row.
+var (
+	summaryHead  = regexp.MustCompile("`sha256:[0-9a-f]{64}` at record")
+	summaryBuild = regexp.MustCompile(`(?m)^(\| tool \| rankplan \S+) \([^)]*\) \|$`)
+)
 
 func TestScripts(t *testing.T) {
 	testscript.Run(t, testscript.Params{
@@ -78,6 +82,7 @@ func TestScripts(t *testing.T) {
 					ts.Fatalf("usage: cmp-summary GOT WANT")
 				}
 				got := summaryHead.ReplaceAllString(ts.ReadFile(args[0]), "`sha256:<head>` at record")
+				got = summaryBuild.ReplaceAllString(got, "$1 (<build>) |")
 				if want := ts.ReadFile(args[1]); got != want {
 					ts.Fatalf("%s and %s differ:\n--- %s (head masked)\n%s\n--- %s\n%s", args[0], args[1], args[0], got, args[1], want)
 				}

@@ -255,7 +255,8 @@ type htmlValue struct {
 func full(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
 
 var htmlFuncs = template.FuncMap{
-	"key": func(parts ...string) string { return strings.Join(parts, ".") },
+	"unitSuffix": unitSuffix,
+	"key":        func(parts ...string) string { return strings.Join(parts, ".") },
 	"pairkey": func(id string, p results.Pair, field string) string {
 		return id + ".pair." + p.Groups[0] + "|" + p.Groups[1] + "." + field
 	},
@@ -409,7 +410,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <h2>Analysis <code>{{.ID}}</code>{{if .Title}}: {{.Title}}{{end}}</h2>
 <section class="data">
 <h3>Data</h3>
-<p>{{test .Test}} test of <code>{{.Outcome}}</code>{{if .Unit}} ({{.Unit}}){{end}} across {{len .Groups}} groups, N = {{template "val" (vi (key $id "n") .N)}}.{{with .Subset}} Rows restricted to those where <code>{{.Column}}</code> is {{range $i, $s := .Values}}{{if $i}} or {{end}}“{{$s}}”{{end}}.{{end}}</p>
+<p>{{test .Test}} test of <code>{{.Outcome}}</code>{{unitSuffix .Unit}} across {{len .Groups}} groups, N = {{template "val" (vi (key $id "n") .N)}}.{{with .Subset}} Rows restricted to those where <code>{{.Column}}</code> is {{range $i, $s := .Values}}{{if $i}} or {{end}}“{{$s}}”{{end}}.{{end}}</p>
 <table>
 <thead><tr><th>group</th><th class="r">n</th><th class="r">median</th><th class="r">Q1</th><th class="r">Q3</th><th class="r">rank sum</th><th class="r">mean rank</th></tr></thead>
 <tbody>
@@ -491,7 +492,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <h3>Figures</h3>
 {{if .Box}}<figure>
 {{.Box}}
-<figcaption>Box plot of {{.Outcome}}{{if .Unit}} ({{.Unit}}){{end}} by group: boxes from Q1 to Q3 with the median as a thick line, whiskers to the minimum and maximum (all from the results).{{if .HasValues}} Dots are the observations, spread sideways by a fixed pseudo-random jitter{{if gt .Points 400}}; groups with more than 400 observations show 400 of them, evenly spaced in rank, including the extremes{{end}}.{{else}} The observations were not given, so no dots are drawn.{{end}}</figcaption>
+<figcaption>Box plot of {{.Outcome}}{{unitSuffix .Unit}} by group: boxes from Q1 to Q3 with the median as a thick line, whiskers to the minimum and maximum (all from the results).{{if .HasValues}} Dots are the observations, spread sideways by a fixed pseudo-random jitter{{if gt .Points 400}}; groups with more than 400 observations show 400 of them, evenly spaced in rank, including the extremes{{end}}.{{else}} The observations were not given, so no dots are drawn.{{end}}</figcaption>
 </figure>
 <figure>
 {{.Ranks}}

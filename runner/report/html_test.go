@@ -847,3 +847,11 @@ func TestHTMLThinnedValues(t *testing.T) {
 		t.Errorf("%d plots with a thinned group, %d without", got, want)
 	}
 }
+
+func TestUnitSuffix(t *testing.T) {
+	for unit, want := range map[string]string{"": "", "min": " (min)", "points (0-10)": " [points (0-10)]"} {
+		if got := unitSuffix(unit); got != want {
+			t.Errorf("unitSuffix(%q) = %q, want %q", unit, got, want)
+		}
+	}
+}

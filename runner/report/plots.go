@@ -130,14 +130,18 @@ func groupTicks(groups []results.Group) plot.ConstantTicks {
 }
 
 // axisLabel is the outcome with its unit, e.g. "minutes (min)".
-func axisLabel(a *results.Analysis) string {
+func axisLabel(a *results.Analysis) string { return a.Outcome + unitSuffix(a.Unit) }
+
+// unitSuffix is the unit as it follows an outcome's name: " (min)", or " [points (0-10)]"
+// for a unit that has parentheses of its own, and "" without a unit.
+func unitSuffix(unit string) string {
 	switch {
-	case a.Unit == "":
-		return a.Outcome
-	case strings.ContainsAny(a.Unit, "()"):
-		return a.Outcome + " [" + a.Unit + "]" // "score [points (0-10)]", not nested parentheses
+	case unit == "":
+		return ""
+	case strings.ContainsAny(unit, "()"):
+		return " [" + unit + "]"
 	}
-	return a.Outcome + " (" + a.Unit + ")"
+	return " (" + unit + ")"
 }
 
 // plainTicks are gonum/plot's default ticks with each label in its shortest form, the
