@@ -87,6 +87,7 @@ success.`,
 				fmt.Fprintf(w, "deviation from the locked plan (data seen: %v): %s; changed: %v\n", d.DataSeen, d.Reason, d.Changed)
 			}
 			fmt.Fprintf(w, "results: %s\n", filepath.Join(o.Out, runner.ResultsFile))
+			fmt.Fprintf(w, "report: %s (beside it %s and %s)\n", filepath.Join(o.Out, runner.ReportFile), runner.SummaryFile, runner.PairsFile)
 			if rec.Signature != nil {
 				fmt.Fprintf(w, "signed: %s by %q (%s)\n", filepath.Join(o.Out, runner.SignatureFile), rec.Signature.Signer, rec.Signature.Meaning)
 			}
