@@ -35,7 +35,6 @@ func TestMain(m *testing.M) {
 //	                          run's time) as sha256:<head>, and the build (revision, Go
 //	                          release, platform) in summary.md's tool row as <build>; then
 //	                          the builtin cmp compares DST, and -update rewrites the archive
-//
 func TestScripts(t *testing.T) {
 	testscript.Run(t, testscript.Params{
 		Dir:                 "testdata/script",
