@@ -155,6 +155,9 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 			RankSum:  float64(r.RankSum2[j]) / 2,
 			MeanRank: float64(r.RankSum2[j]) / float64(2*r.Counts[j]),
 		}
+		if sk, ok := stats.QuartileSkewness(q1, med, q3); ok {
+			out.Groups[j].QuartileSkewness = &sk
+		}
 		if lo, hi, err := stats.MeanRankInterval(r, j, a.EffectSize.Level); err == nil {
 			out.Groups[j].MeanRankInterval = &results.Interval{Level: a.EffectSize.Level, Low: lo, High: hi}
 		}

@@ -97,3 +97,28 @@ func withinULPs(got, want float64, n int) bool {
 	}
 	return got == want
 }
+
+// TestQuartileSkewness checks Bowley's coefficient on hand-worked quartiles (the formula is
+// common practice): a median midway between the quartiles gives 0, a median at a quartile
+// gives ±1, and Q1 = Q3 has no value. The fourth case is group L1 of examples/dissolution
+// (quartiles 12.375, 14.75, 15.625 in its results): (0.875 − 2.375)/3.25 = −6/13.
+func TestQuartileSkewness(t *testing.T) {
+	for _, tc := range []struct{ q1, m, q3, want float64 }{
+		{5, 5.75, 6.5, 0},
+		{1, 1, 2.25, 1},
+		{2, 4, 4, -1},
+		{12.375, 14.75, 15.625, -6.0 / 13},
+		{-math.MaxFloat64, 0, math.MaxFloat64, 0},
+		{-math.MaxFloat64, -math.MaxFloat64, math.MaxFloat64, 1},
+	} {
+		got, ok := QuartileSkewness(tc.q1, tc.m, tc.q3)
+		if !ok || math.Abs(got-tc.want) > 1e-15 {
+			t.Errorf("QuartileSkewness(%v, %v, %v) = %v, %v; want %v", tc.q1, tc.m, tc.q3, got, ok, tc.want)
+		}
+	}
+	for _, q := range [][3]float64{{3, 3, 3}, {4, 3, 2}, {1, math.NaN(), 2}} {
+		if got, ok := QuartileSkewness(q[0], q[1], q[2]); ok {
+			t.Errorf("QuartileSkewness(%v) = %v, want no value", q, got)
+		}
+	}
+}

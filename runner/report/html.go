@@ -35,9 +35,10 @@ type AnalysisValues struct {
 
 // HTML writes report.html: one self-contained page (inline style and inline SVG plots, no
 // script, no external reference) that renders the results of a run for people, on screen
-// and on paper. It computes no statistic: every number is read from res, and values (one
-// entry per analysis, by id; an analysis without one gets its plots without points) only
-// place the observations in the box plots. Headline numbers carry data-key and
+// and on paper. It computes no statistic: every number is read from res (apart from the
+// differences and ratios shown beside the numbers they come from: IQR, tie share, the
+// ratio of the IQRs), and values (one entry per analysis, by id; an analysis without one
+// gets its plots without points) only place the observations in the box plots. Headline numbers carry data-key and
 // data-value attributes (every digit, strconv 'g' −1) so that a program can find them.
 // It does not change res or values.
 func HTML(w io.Writer, res *results.Results, meta Meta, values []AnalysisValues) error {
@@ -137,7 +138,7 @@ type htmlAnalysis struct {
 type diagRow struct {
 	Name                  string
 	IQR, Min, Max, Median float64
-	Skew                  *float64 // quartile skewness; nil when IQR = 0
+	Skew                  *float64 // results' quartile skewness; nil when Q1 = Q3
 }
 
 // spreadNote compares the groups' IQRs: the narrowest and the widest, and their ratio.
@@ -148,20 +149,6 @@ type spreadNote struct {
 
 type legendSwatch struct {
 	Label, Color string
-}
-
-// QuartileSkewness is Bowley's quartile coefficient of skewness of the middle half,
-//
-//	(Q3 + Q1 − 2·median) / (Q3 − Q1),
-//
-// between −1 and 1: 0 when the median sits midway between the quartiles, positive when the
-// upper quarter of the middle half is the longer (common practice; Bowley 1901, Elements
-// of Statistics, recalled from memory). It is undefined (NaN) when Q3 = Q1.
-func QuartileSkewness(q1, median, q3 float64) float64 {
-	if !(q3 > q1) {
-		return math.NaN()
-	}
-	return (q3 + q1 - 2*median) / (q3 - q1)
 }
 
 // spreadOf finds the narrowest and the widest IQR among the groups (the first one of each
@@ -186,18 +173,13 @@ func spreadOf(rows []diagRow) *spreadNote {
 }
 
 // analysisView prepares one analysis for the template: its plots and the arithmetic on
-// results that the page shows (IQR = Q3 − Q1, tie share = tied values / N, quartile
-// skewness, the ratio of the widest IQR to the narrowest).
+// results that the page shows beside the numbers it comes from (IQR = Q3 − Q1, tie
+// share = tied values / N, the ratio of the widest IQR to the narrowest).
 func analysisView(i int, a *results.Analysis, vals [][]float64) (htmlAnalysis, error) {
 	v := htmlAnalysis{Analysis: a, Anchor: "analysis-" + strconv.Itoa(i+1), HasValues: vals != nil}
 	v.RankMid = float64(a.N+1) / 2
 	for _, g := range a.Groups {
-		d := diagRow{Name: g.Name, IQR: g.Q3 - g.Q1, Min: g.Min, Max: g.Max, Median: g.Median}
-		if d.IQR > 0 {
-			sk := QuartileSkewness(g.Q1, g.Median, g.Q3)
-			d.Skew = &sk
-		}
-		v.Diag = append(v.Diag, d)
+		v.Diag = append(v.Diag, diagRow{Name: g.Name, IQR: g.Q3 - g.Q1, Min: g.Min, Max: g.Max, Median: g.Median, Skew: g.QuartileSkewness})
 		v.Points = max(v.Points, g.N)
 	}
 	v.Spread = spreadOf(v.Diag)

@@ -24,6 +24,8 @@ var updateHTML = flag.Bool("update-html", false, "rewrite the HTML report golden
 
 // The fixtures are results.json of `rankplan run examples/NAME/plan.yaml` (invented demo
 // data) and the observations of those examples, written by testdata/html/make_values.py.
+// The symptom-scores fixture comes from that plan with `posthoc: {method: dscf, when:
+// significant}` added to its analysis, so that a simultaneous procedure is rendered too.
 var htmlFixtures = []string{"cream-trial", "dissolution", "pilot-bolts", "symptom-scores"}
 
 // goldenMeta is invented provenance for the golden page.
@@ -794,25 +796,6 @@ func TestHTMLProvenanceAndLabels(t *testing.T) {
 	// One jittered point per observation (47) in the box plot.
 	if n := bytes.Count(box, []byte("<path")); n < 47 {
 		t.Errorf("box plot has %d paths, fewer than the 47 observations", n)
-	}
-}
-
-// TestQuartileSkewness checks Bowley's coefficient on hand-worked quartiles: a median
-// midway between the quartiles gives 0, a median at a quartile gives ±1, and Q1 = Q3 has
-// no value.
-func TestQuartileSkewness(t *testing.T) {
-	for _, tc := range []struct{ q1, m, q3, want float64 }{
-		{5, 5.75, 6.5, 0},
-		{1, 1, 2.25, 1},
-		{2, 4, 4, -1},
-		{12.375, 14.75, 15.625, -0.4615384615384615}, // (15.625 + 12.375 − 29.5)/3.25 = −1.5/3.25
-	} {
-		if got := QuartileSkewness(tc.q1, tc.m, tc.q3); math.Abs(got-tc.want) > 1e-15 {
-			t.Errorf("QuartileSkewness(%v, %v, %v) = %v, want %v", tc.q1, tc.m, tc.q3, got, tc.want)
-		}
-	}
-	if got := QuartileSkewness(3, 3, 3); !math.IsNaN(got) {
-		t.Errorf("Q1 = Q3: got %v, want NaN", got)
 	}
 }
 

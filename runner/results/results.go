@@ -140,6 +140,9 @@ type Group struct {
 	Max      float64 `json:"max"`
 	RankSum  float64 `json:"rank_sum"`
 	MeanRank float64 `json:"mean_rank"`
+	// QuartileSkewness is Bowley's coefficient ([stats.QuartileSkewness]) of the group's
+	// quartiles; absent when Q1 = Q3.
+	QuartileSkewness *float64 `json:"quartile_skewness,omitempty"`
 	// MeanRankInterval is the mean rank ± z·SE under random labelling, at the effect-size
 	// level ([stats.MeanRankInterval]): descriptive, for the mean-rank plot.
 	MeanRankInterval *Interval `json:"mean_rank_interval,omitempty"`
