@@ -441,6 +441,17 @@ func outcome(checks []Check) string {
 	return Verified
 }
 
+// skipped counts the checks that were skipped.
+func (r *VerifyReport) skipped() int {
+	n := 0
+	for _, c := range r.Checks {
+		if c.Verdict == Skip {
+			n++
+		}
+	}
+	return n
+}
+
 // WriteText writes the report for people: one line per check, then the outcome.
 func (r *VerifyReport) WriteText(w io.Writer) error {
 	ew := &textWriter{w: w}
@@ -450,13 +461,7 @@ func (r *VerifyReport) WriteText(w io.Writer) error {
 	}
 	switch r.Outcome {
 	case Verified:
-		skipped := 0
-		for _, c := range r.Checks {
-			if c.Verdict == Skip {
-				skipped++
-			}
-		}
-		if skipped > 0 {
+		if skipped := r.skipped(); skipped > 0 {
 			ew.printf("verified, with %d check(s) skipped (a skipped check is not a pass)\n", skipped)
 		} else {
 			ew.printf("verified\n")
@@ -484,12 +489,7 @@ func (t *textWriter) printf(format string, args ...any) {
 // a pass.
 func (r *VerifyReport) WriteMarkdown(w io.Writer) error {
 	ew := &textWriter{w: w}
-	skipped := 0
-	for _, c := range r.Checks {
-		if c.Verdict == Skip {
-			skipped++
-		}
-	}
+	skipped := r.skipped()
 	switch {
 	case r.Outcome != Verified:
 		ew.printf("### Verify status: **not verified** (%s)\n\n", report.MarkdownText(r.Outcome))
