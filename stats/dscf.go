@@ -17,10 +17,14 @@ import (
 // MeanDiff = R̄_I − R̄_J (as in DunnTest), SE = sqrt(σ²_R (1/n_I + 1/n_J)/2) and
 // Statistic = MeanDiff/SE, the signed q: positive when group I tends to be larger. The
 // p-values are unadjusted: the studentized range already controls the family of all pairs.
-// It returns [ErrAllTied] when every value is tied.
+// It returns [ErrAllTied] when every value is tied, and an error wrapping
+// [ErrNotComputable] for more than 1000 groups.
 func NemenyiTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 	if err := checkPairs(r, pairs); err != nil {
 		return nil, fmt.Errorf("nemenyi: %w", err)
+	}
+	if r.K > srangeMaxK {
+		return nil, fmt.Errorf("nemenyi: %w: the studentized range is computed for at most %d groups, the analysis has %d", ErrNotComputable, srangeMaxK, r.K)
 	}
 	if err := checkSRange(r.K, math.Inf(1)); err != nil {
 		return nil, fmt.Errorf("nemenyi: %w", err)
@@ -63,11 +67,15 @@ func NemenyiTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 //
 // The pairwise ranks come from a linear merge of r.Sorted[I] and r.Sorted[J], O(n_I + n_J)
 // time per pair and no allocation per observation; rank sums are kept doubled in int64
-// (exact). It returns an error wrapping [ErrAllTied] when all observations of a pair are
-// tied.
+// (exact). A pair whose observations are all tied has no W*: its Comparison has
+// NotComputable set and NaN statistic and p. More than 1000 groups give an error wrapping
+// [ErrNotComputable] (the studentized range is not computed for more).
 func DSCFTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 	if err := checkPairs(r, pairs); err != nil {
 		return nil, fmt.Errorf("dscf: %w", err)
+	}
+	if r.K > srangeMaxK {
+		return nil, fmt.Errorf("dscf: %w: the studentized range is computed for at most %d groups, the analysis has %d", ErrNotComputable, srangeMaxK, r.K)
 	}
 	if err := checkSRange(r.K, math.Inf(1)); err != nil {
 		return nil, fmt.Errorf("dscf: %w", err)
@@ -83,12 +91,11 @@ func DSCFTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 		w2i, tie, blocks := pairRankSum2(xi, xj)
 		ni, nj := float64(len(xi)), float64(len(xj))
 		n := ni + nj
-		if blocks <= 1 {
-			return nil, fmt.Errorf("dscf: pair (%d, %d): %w", i, j, ErrAllTied)
-		}
 		v := float64(float64(ni*nj)/24) * (float64(n+1) - tie/float64(n*float64(n-1)))
-		if !(v > 0) {
-			return nil, fmt.Errorf("dscf: pair (%d, %d): %w", i, j, ErrAllTied)
+		if blocks <= 1 || !(v > 0) {
+			nan := math.NaN()
+			out[k] = Comparison{I: i, J: j, MeanDiff: 0, SE: nan, Statistic: nan, P: nan, NotComputable: PairAllTied}
+			continue
 		}
 		// d = W_I − n_I (n + 1)/2, from doubled ranks: (2W_I − n_I (n + 1))/2, exact in int64.
 		nI, nJ := int64(len(xi)), int64(len(xj))

@@ -113,13 +113,13 @@ func TestDSCFRankSumIdentity(t *testing.T) {
 		r := mustRank(t, groups)
 		pairs := AllPairs(k)
 		dscf, err := DSCFTest(r, pairs)
-		if errors.Is(err, ErrAllTied) {
-			continue
-		}
 		if err != nil {
 			t.Fatal(err)
 		}
 		for n, p := range pairs {
+			if dscf[n].NotComputable != "" {
+				continue
+			}
 			rs, err := RankSumTest(groups[p[0]], groups[p[1]], false, ExactBudget{MaxStates: 1, MaxWork: 1})
 			if err != nil {
 				t.Fatal(err)
@@ -168,15 +168,22 @@ func TestDSCFManyToOne(t *testing.T) {
 	}
 }
 
-// TestDSCFErrors checks errors for bad pairs and all-tied pairs, and that neither test
-// modifies the Ranking or the pairs.
+// TestDSCFErrors checks errors for bad pairs, that an all-tied pair is reported as not
+// computable while the other pairs are computed, and that neither test modifies the
+// Ranking or the pairs.
 func TestDSCFErrors(t *testing.T) {
 	r := mustRank(t, [][]float64{{1, 1, 1}, {1, 1}, {2, 3}})
-	if _, err := DSCFTest(r, [][2]int{{0, 1}}); !errors.Is(err, ErrAllTied) {
-		t.Errorf("all tied pair: %v", err)
+	cmp, err := DSCFTest(r, AllPairs(3))
+	if err != nil {
+		t.Fatalf("two groups constant at the same value: %v", err)
 	}
-	if _, err := DSCFTest(r, [][2]int{{0, 2}}); err != nil {
-		t.Errorf("untied pair: %v", err)
+	if cmp[0].NotComputable != PairAllTied || !math.IsNaN(cmp[0].P) || !math.IsNaN(cmp[0].Statistic) {
+		t.Errorf("all tied pair: %+v, want not computable with NaN p", cmp[0])
+	}
+	for _, c := range cmp[1:] {
+		if c.NotComputable != "" || !(c.P > 0 && c.P <= 1) {
+			t.Errorf("untied pair %d-%d: %+v", c.I, c.J, c)
+		}
 	}
 	for _, bad := range [][][2]int{{{0, 0}}, {{-1, 1}}, {{0, 3}}} {
 		if _, err := DSCFTest(r, bad); err == nil {
@@ -306,4 +313,21 @@ func ExampleNemenyiTest() {
 	// 0-1: q = -3.9586, p = 0.0142
 	// 0-2: q = -0.6611, p = 0.8865
 	// 1-2: q = +3.0264, p = 0.0819
+}
+
+// TestStudentizedRangeTooManyGroups: Nemenyi and DSCF with more groups than the studentized
+// range is computed for report ErrNotComputable (a property of the data), not a call error.
+func TestStudentizedRangeTooManyGroups(t *testing.T) {
+	groups := make([][]float64, srangeMaxK+1)
+	for i := range groups {
+		groups[i] = []float64{float64(i), float64(i) + 0.5}
+	}
+	r := mustRank(t, groups)
+	pairs := [][2]int{{0, 1}}
+	for name, f := range map[string]func(*Ranking, [][2]int) ([]Comparison, error){"nemenyi": NemenyiTest, "dscf": DSCFTest} {
+		_, err := f(r, pairs)
+		if !errors.Is(err, ErrNotComputable) {
+			t.Errorf("%s with k = %d: %v, want ErrNotComputable", name, r.K, err)
+		}
+	}
 }

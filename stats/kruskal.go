@@ -5,9 +5,16 @@ import (
 	"fmt"
 )
 
+// ErrNotComputable is wrapped by every error that reports a property of the data, not of
+// the call, that leaves a statistic undefined (all values tied, no within-group degrees of
+// freedom, more groups than a distribution is computed for). Callers test it with
+// errors.Is to report the statistic as not computable and go on with the rest.
+var ErrNotComputable = errors.New("not computable")
+
 // ErrAllTied is returned (wrapped or bare; test with errors.Is) when every observation
-// has the same value, so the tie correction is 0 and H is not computable.
-var ErrAllTied = errors.New("not computable: all observations are tied")
+// has the same value, so the tie correction is 0 and H is not computable. It wraps
+// [ErrNotComputable].
+var ErrAllTied = fmt.Errorf("%w: all observations are tied", ErrNotComputable)
 
 // KruskalWallis is the result of the Kruskal-Wallis H test with midranks and the tie
 // correction (Kruskal & Wallis 1952, JASA 47:583-621), with its asymptotic chi-square

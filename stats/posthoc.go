@@ -1,7 +1,6 @@
 package stats
 
 import (
-	"errors"
 	"fmt"
 	"math"
 )
@@ -13,7 +12,13 @@ type Comparison struct {
 	SE        float64 // its standard error under the procedure's variance
 	Statistic float64 // z (Dunn) or t (Conover-Iman): MeanDiff / SE
 	P         float64 // two-sided, unadjusted
+	// NotComputable, when not empty, says why this pair has no statistic (Statistic, SE
+	// and P are then NaN); the other pairs of the family are computed as usual.
+	NotComputable string
 }
+
+// PairAllTied is the reason a pair compared on its own ranks is not computable.
+const PairAllTied = "every observation of the two groups has the same value, so their ranks carry no information"
 
 // AllPairs lists the k(k−1)/2 pairs (i, j), i < j, in order.
 func AllPairs(k int) [][2]int {
@@ -92,7 +97,7 @@ func DunnTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 
 // ErrPerfectSeparation is returned by [ConoverImanTest] when the groups' ranks do not
 // overlap at all (H* = N − 1), so the within-group rank variance is zero.
-var ErrPerfectSeparation = errors.New("not computable: the groups are perfectly separated, so the within-group rank variance is 0")
+var ErrPerfectSeparation = fmt.Errorf("%w: the groups are perfectly separated, so the within-group rank variance is 0", ErrNotComputable)
 
 // ConoverImanTest compares groups pairwise with the t-test on the joint ranks of Conover &
 // Iman (1979, Los Alamos report LA-7677-MS; Conover, Practical Nonparametric Statistics;
@@ -113,7 +118,7 @@ func ConoverImanTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 		return nil, fmt.Errorf("conover-iman: %w", err)
 	}
 	if r.N <= r.K {
-		return nil, fmt.Errorf("conover-iman: N = %d observations in k = %d groups leave no within-group degrees of freedom", r.N, r.K)
+		return nil, fmt.Errorf("conover-iman: %w: N = %d observations in k = %d groups leave no within-group degrees of freedom", ErrNotComputable, r.N, r.K)
 	}
 	_, hStar, c := tieCorrectedH(r.N, r.Counts, r.RankSum2, r.Blocks)
 	if !(c > 0) {
