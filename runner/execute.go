@@ -125,7 +125,8 @@ func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results
 }
 
 // analyse runs the omnibus test of one analysis and its effect sizes, and returns the
-// ranking for the post-hoc comparisons (nil when the test is not computable).
+// ranking for the post-hoc comparisons and the plots (also when the test is not
+// computable; Execute runs post-hoc comparisons only for analyses whose status is ok).
 func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Options) (results.Analysis, *stats.Ranking, error) {
 	a := in.Analysis
 	out := results.Analysis{
@@ -167,7 +168,8 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 	if errors.Is(err, stats.ErrAllTied) {
 		out.Status = "not-computable"
 		out.Reason = "all observations are tied: every value is the same, so ranks carry no information"
-		return out, nil, nil
+		// The ranking still holds the groups' values, which the report's plots show.
+		return out, r, nil
 	}
 	if err != nil {
 		return out, nil, err

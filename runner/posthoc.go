@@ -1,6 +1,7 @@
 package runner
 
 import (
+	"errors"
 	"fmt"
 	"slices"
 	"strings"
@@ -26,10 +27,13 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 	}
 	switch ph.Method {
 	case spec.Nemenyi:
-		out.Simultaneous = fmt.Sprintf("simultaneous by construction: each p is P(Q >= q) for the studentized range of k = %d means with infinite degrees of freedom, which holds the family-wise error rate over all pairs at alpha; no adjustment is applied", k)
+		out.Simultaneous = fmt.Sprintf("simultaneous by construction: each p is P(Q >= q) for the studentized range of k = %d means with infinite degrees of freedom, which holds the family-wise error rate over all pairs at alpha asymptotically (large groups); no adjustment is applied", k)
 		out.Note = nemenyiNote(r.Counts)
 	case spec.DSCF:
-		out.Simultaneous = fmt.Sprintf("simultaneous by construction: each pair is ranked on its own and W* is referred to the studentized range of k = %d means with infinite degrees of freedom, which holds the family-wise error rate over all pairs at alpha (asymptotically); no adjustment is applied", k)
+		out.Simultaneous = fmt.Sprintf("simultaneous by construction: each pair is ranked on its own and W* is referred to the studentized range of k = %d means with infinite degrees of freedom, which holds the family-wise error rate over all pairs at alpha asymptotically (large groups); no adjustment is applied", k)
+		if !equalSizes(r.Counts) {
+			out.Note = "unequal group sizes: the pairs' W* are then not equally correlated, and the studentized range reference is an approximation that is least accurate when the groups are small and their sizes very different"
+		}
 	}
 	if out.Simultaneous != "" && out.Family == "many-to-one" {
 		out.Note = strings.TrimSpace(out.Note + " Many-to-one comparisons are referred to the all-pairs studentized range, so they are conservative.")
@@ -42,10 +46,10 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 	case omnibus.Reject:
 		out.Ran, out.Why = true, "the omnibus test rejected at alpha (posthoc.when: significant)"
 	case omnibus.PAdjusted != nil:
-		out.Why = "not run: the omnibus test did not reject at alpha under the plan's multiplicity rule (posthoc.when: significant)"
+		out.Why = "the omnibus test did not reject at alpha under the plan's multiplicity rule (posthoc.when: significant)"
 		return out, nil
 	default:
-		out.Why = "not run: the omnibus test did not reject at alpha (posthoc.when: significant)"
+		out.Why = "the omnibus test did not reject at alpha (posthoc.when: significant)"
 		return out, nil
 	}
 
@@ -67,32 +71,50 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 			out.Statistic, pm = "q", "studentized-range"
 			cmp, err = stats.NemenyiTest(r, pairs)
 		case spec.DSCF:
-			out.Statistic, pm = "W*", "studentized-range"
+			// stats.DSCFTest gives −W* of the cited sources (positive when the first group
+			// tends to be larger, as for the other procedures); the name says so.
+			out.Statistic, pm = "-W*", "studentized-range"
 			cmp, err = stats.DSCFTest(r, pairs)
+		}
+		if errors.Is(err, stats.ErrNotComputable) {
+			// A property of these data, not a failure: say so and go on with the run.
+			out.Ran, out.Pairs, out.NotComputable = false, nil, notComputableReason(err)
+			return out, nil
 		}
 		if err != nil {
 			return nil, err
 		}
 		for i, c := range cmp {
-			out.Pairs[i] = results.Pair{MeanRankDiff: c.MeanDiff, Statistic: c.Statistic, PMethod: pm, P: c.P}
+			out.Pairs[i] = results.Pair{MeanRankDiff: c.MeanDiff, PMethod: pm}
+			if c.NotComputable != "" {
+				out.Pairs[i].NotComputable = c.NotComputable
+				raw[i] = 1
+				continue
+			}
+			out.Pairs[i].Statistic, out.Pairs[i].P = ptr(c.Statistic), ptr(c.P)
 			raw[i] = c.P
 		}
 	case spec.RankSum:
 		out.Statistic = "U"
 		for i, pr := range pairs {
 			rs, err := stats.RankSumTest(r.Sorted[pr[0]], r.Sorted[pr[1]], true, stats.DefaultExactBudget)
+			if errors.Is(err, stats.ErrAllTied) {
+				out.Pairs[i] = results.Pair{PMethod: "normal-continuity", NotComputable: stats.PairAllTied}
+				raw[i] = 1
+				continue
+			}
 			if err != nil {
 				return nil, fmt.Errorf("rank-sum %s vs %s: %w", in.Groups[pr[0]], in.Groups[pr[1]], err)
 			}
 			m, n := float64(len(r.Sorted[pr[0]])), float64(len(r.Sorted[pr[1]]))
 			// The pair's own mean-rank difference: R̄_x − R̄_y = (U − mn/2)(m + n)/(mn).
-			pair := results.Pair{Statistic: rs.U, PMethod: "normal-continuity", P: rs.PNorm,
+			pair := results.Pair{Statistic: ptr(rs.U), PMethod: "normal-continuity", P: ptr(rs.PNorm),
 				MeanRankDiff: float64(float64(rs.U-float64(m*n)/2)*float64(m+n)) / float64(m*n)}
 			if rs.Exact {
-				pair.PMethod, pair.P = "exact", rs.PExact
+				pair.PMethod, pair.P = "exact", ptr(rs.PExact)
 			}
 			out.Pairs[i] = pair
-			raw[i] = pair.P
+			raw[i] = *pair.P
 		}
 	default:
 		return nil, fmt.Errorf("post-hoc method %q has no implementation", ph.Method)
@@ -115,7 +137,9 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 		}
 		pp := &out.Pairs[i]
 		pp.Groups = [2]string{in.Groups[pr[0]], in.Groups[pr[1]]}
-		pp.PAdjusted, pp.Reject = adj[i], rej[i]
+		if pp.NotComputable == "" {
+			pp.PAdjusted, pp.Reject = ptr(adj[i]), rej[i]
+		}
 		pp.CliffsDelta, pp.VarghaDelaneyA = e.CliffsDelta, e.VarghaDelaneyA
 		pp.HodgesLehmann = results.HLShift{Shift: hl.Shift, Interval: results.Interval{Level: level, Low: hl.Low, High: hl.High}}
 		if hl.ExactIndex {
@@ -129,7 +153,8 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 			diff[i] = make([]bool, k)
 		}
 		for i, pr := range pairs {
-			diff[pr[0]][pr[1]], diff[pr[1]][pr[0]] = rej[i], rej[i]
+			d := out.Pairs[i].Reject
+			diff[pr[0]][pr[1]], diff[pr[1]][pr[0]] = d, d
 		}
 		letters, err := stats.CompactLetters(diff)
 		if err != nil {
@@ -145,10 +170,31 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 // nemenyiNote labels a Nemenyi family by its design: the procedure is derived for equal
 // group sizes; with unequal sizes the Tukey-Kramer-type form is used, which is conservative.
 func nemenyiNote(counts []int) string {
-	for _, c := range counts[1:] {
-		if c != counts[0] {
-			return "unequal group sizes: Nemenyi's procedure is derived for equal sizes; this is its Tukey-Kramer-type extension, which is conservative here"
-		}
+	if !equalSizes(counts) {
+		return "unequal group sizes: Nemenyi's procedure is derived for equal sizes; this is its Tukey-Kramer-type extension, which is conservative here"
 	}
 	return fmt.Sprintf("equal group sizes (n = %d each), as Nemenyi's procedure assumes", counts[0])
+}
+
+// equalSizes reports whether every group has the same number of observations.
+func equalSizes(counts []int) bool {
+	for _, c := range counts[1:] {
+		if c != counts[0] {
+			return false
+		}
+	}
+	return true
+}
+
+// ptr returns a pointer to a copy of v.
+func ptr(v float64) *float64 { return &v }
+
+// notComputableReason is the reason of a stats error that wraps stats.ErrNotComputable,
+// without the procedure prefix and the words "not computable" (the results say that).
+func notComputableReason(err error) string {
+	msg := err.Error()
+	if _, after, ok := strings.Cut(msg, stats.ErrNotComputable.Error()+": "); ok {
+		return after
+	}
+	return msg
 }

@@ -438,8 +438,8 @@ func TestPostHoc(t *testing.T) {
 	wantZ := []float64{1.117725, -1.689290, -2.807015}
 	wantHolm := []float64{0.263684, 0.182328, 0.015001}
 	for i, pr := range ph.Pairs {
-		if math.Abs(pr.Statistic-wantZ[i]) > 5e-7 || math.Abs(pr.PAdjusted-wantHolm[i]) > 5e-7 {
-			t.Errorf("pair %v: z %v holm %v", pr.Groups, pr.Statistic, pr.PAdjusted)
+		if math.Abs(*pr.Statistic-wantZ[i]) > 5e-7 || math.Abs(*pr.PAdjusted-wantHolm[i]) > 5e-7 {
+			t.Errorf("pair %v: z %v holm %v", pr.Groups, *pr.Statistic, *pr.PAdjusted)
 		}
 	}
 	if ph.Pairs[2].Groups != [2]string{"trt1", "trt2"} || !ph.Pairs[2].Reject || ph.Pairs[0].Reject ||
@@ -480,7 +480,7 @@ func TestSimultaneousPostHoc(t *testing.T) {
 		p      []float64
 	}{
 		{spec.Nemenyi, "q", []float64{0.503088, 0.209259, 0.0138549}},
-		{spec.DSCF, "W*", []float64{0.382106, 0.141586, 0.0274497}},
+		{spec.DSCF, "-W*", []float64{0.382106, 0.141586, 0.0274497}},
 	} {
 		p := methodPlan(t, "{method: asymptotic}", "{resamples: 0}", csv)
 		p.Analyses[0].PostHoc = spec.PostHocPlan{Method: tc.method, Adjust: spec.NoAdjustment, When: "always"}
@@ -489,7 +489,7 @@ func TestSimultaneousPostHoc(t *testing.T) {
 			t.Fatalf("%s: %+v", tc.method, ph)
 		}
 		for i, pr := range ph.Pairs {
-			if math.Abs(pr.P-tc.p[i]) > 5e-7 || pr.PAdjusted != pr.P || pr.PMethod != "studentized-range" || pr.Reject != (pr.P <= 0.05) {
+			if math.Abs(*pr.P-tc.p[i]) > 5e-7 || *pr.PAdjusted != *pr.P || pr.PMethod != "studentized-range" || pr.Reject != (*pr.P <= 0.05) {
 				t.Errorf("%s pair %v: %+v, want p %v", tc.method, pr.Groups, pr, tc.p[i])
 			}
 		}

@@ -243,6 +243,12 @@ var htmlFuncs = template.FuncMap{
 		return id + ".pair." + p.Groups[0] + "|" + p.Groups[1] + "." + field
 	},
 	"v": func(key string, x float64) htmlValue { return htmlValue{Key: key, Full: full(x), Text: Num(x)} },
+	"vn": func(key string, x *float64) htmlValue {
+		if x == nil {
+			return htmlValue{Key: key, Text: "—"} // not computable: no data-value
+		}
+		return htmlValue{Key: key, Full: full(*x), Text: Num(*x)}
+	},
 	"vi": func(key string, n int) htmlValue {
 		s := strconv.Itoa(n)
 		return htmlValue{Key: key, Full: s, Text: s}
@@ -376,7 +382,8 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <dt>Data file</dt><dd><code>{{.Meta.DataFile}}</code></dd>
 <dt>Data SHA-256</dt><dd class="hash">{{if .Meta.DataSHA256}}{{.Meta.DataSHA256}}{{else}}sha256:{{.Res.Data.SHA256}}{{end}}</dd>
 <dt>Data read</dt><dd>{{.Res.Data.Rows}} data rows, {{.Res.Data.Bytes}} bytes{{if .Res.Data.HighPrecisionCells}}; {{.Res.Data.HighPrecisionCells}} cell(s) carry more than 15 significant digits and are compared as doubles, so such cells may tie{{end}}</dd>
-<dt>Lock</dt><dd>{{if .Meta.Lock}}{{.Meta.Lock}}{{else}}not stated{{end}}</dd>
+{{with .Res.Data.LookAlikeGroups}}<dt>Look-alike group labels</dt><dd class="warning">{{range .}}<p>Column <code>{{.Column}}</code> has labels that look alike but are different groups (labels are compared exactly as written): {{range $i, $l := .Shown}}{{if $i}}, {{end}}<code>{{$l}}</code>{{end}}; they differ by {{range $i, $d := .Differences}}{{if $i}}; {{end}}{{$d}}{{end}}. Check the data entry.</p>{{end}}</dd>
+{{end}}<dt>Lock</dt><dd>{{if .Meta.Lock}}{{.Meta.Lock}}{{else}}not stated{{end}}</dd>
 <dt>Deviations from the lock</dt><dd>{{if .Meta.Deviations}}<ul>{{range .Meta.Deviations}}<li>{{.}}</li>{{end}}</ul>{{else}}none{{end}}</dd>
 </dl>
 <h3>Conventions behind the numbers</h3>
@@ -416,7 +423,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 {{end}}{{with .PValue}}
 <dt>p-value</dt><dd>p = {{template "val" (vp (key $id "p") .Value .Log10)}}, {{method .Method}}{{if ne .Requested .Method}} (plan asked for {{.Requested}}){{end}}</dd>
 <dt>Why this method</dt><dd>{{.Reason}}</dd>
-{{with .MonteCarlo}}<dt>Monte Carlo</dt><dd>{{.Exceedances}} of {{.Resamples}} resamples reached the observed H; estimator {{.Estimator}}; standard error {{template "val" (v (key $id "mc_se") .SE)}}; {{pct .CI.Level}} Clopper-Pearson interval [{{template "val" (v (key $id "mc_ci_low") .CI.Low)}}, {{template "val" (v (key $id "mc_ci_high") .CI.High)}}]; statistic compared as {{.Comparison}}; random stream {{.Stream}}</dd>
+{{with .MonteCarlo}}<dt>Monte Carlo</dt><dd>{{if eq .Exceedances "0"}}No resample of {{.Resamples}} reached the observed H, so the p-value shown is the smallest these resamples can give, not an estimate (its standard error {{template "val" (v (key $id "mc_se") .SE)}} says nothing here); an exact p-value or more resamples would narrow the interval; estimator {{.Estimator}};{{else}}{{.Exceedances}} of {{.Resamples}} resamples reached the observed H; estimator {{.Estimator}}; standard error {{template "val" (v (key $id "mc_se") .SE)}};{{end}} {{pct .CI.Level}} Clopper-Pearson interval [{{template "val" (v (key $id "mc_ci_low") .CI.Low)}}, {{template "val" (v (key $id "mc_ci_high") .CI.High)}}]; statistic compared as {{.Comparison}}; random stream {{.Stream}}</dd>
 {{end}}{{with .Exact}}<dt>Exact distribution work</dt><dd>peak {{.PeakStates}} states (budget {{.BudgetStates}}), {{.Work}} units of work (budget {{.BudgetWork}})</dd>
 {{end}}{{end}}{{with .AsymptoticP}}<dt>Asymptotic p</dt><dd>{{template "val" (vp (key $id "p_asymptotic") .Value .Log10)}} (chi-square approximation{{with $a.KruskalWallis}} with {{.DF}} df{{end}}, always shown beside the p-value used){{end}}</dd>
 </dl>
@@ -438,13 +445,14 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 </section>{{end}}
 {{with .PostHoc}}<section class="pairs">
 <h3>Pairwise comparisons</h3>
-<p>Planned: {{$a.PostHocSay}}, {{$a.FamilySay}}; {{if .Simultaneous}}{{.Simultaneous}}{{else}}p-values adjusted by {{.Adjust}}{{end}}; run {{if eq .When "always"}}whatever the omnibus result{{else}}only if the omnibus test rejects{{end}}.</p>
+<p>Planned: {{$a.PostHocSay}}, {{$a.FamilySay}}; {{if .Simultaneous}}{{.Simultaneous}}{{else}}adjustment of the p-values: <code>{{.Adjust}}</code>{{end}}; run {{if eq .When "always"}}whatever the omnibus result{{else}}only if the omnibus test rejects{{end}}.</p>
 {{if .Note}}<p class="note">Note: {{.Note}}</p>{{end}}
-{{if .Ran}}{{$ph := .}}
+{{if .NotComputable}}<p class="decision">Not computable on these data: {{.NotComputable}}.</p>
+{{else if .Ran}}{{$ph := .}}
 <table>
 <thead><tr><th>groups</th><th class="r">Hodges-Lehmann shift</th><th>interval</th><th class="r">Cliff's δ</th><th class="r">{{.Statistic}}</th><th class="r">p</th><th class="r">{{if .Simultaneous}}simultaneous p{{else}}adjusted p{{end}}</th><th>decision</th></tr></thead>
 <tbody>
-{{range .Pairs}}<tr><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{pct .HodgesLehmann.Interval.Level}} [{{num .HodgesLehmann.Interval.Low}}, {{num .HodgesLehmann.Interval.High}}]{{with .HodgesLehmann.Coverage}}, exact coverage {{num .}}{{end}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (v (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (v (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (v (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
+{{range .Pairs}}<tr><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{pct .HodgesLehmann.Interval.Level}} [{{num .HodgesLehmann.Interval.Low}}, {{num .HodgesLehmann.Interval.High}}]{{with .HodgesLehmann.Coverage}}, exact coverage {{num .}}{{end}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (vn (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .NotComputable}}not computable: {{.NotComputable}}{{else if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
 {{end}}</tbody>
 </table>
 <p class="note">The shift estimates how far the first group's values lie above the second's (median of all pairwise differences, with its distribution-free interval); Cliff's δ is P(first &gt; second) − P(first &lt; second). p-values of the pairs from the {{$a.PairPMethods}}.</p>
@@ -455,7 +463,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 {{range .Letters}}<tr><td>{{.Group}}</td><td><code>{{.Letters}}</code></td></tr>
 {{end}}</tbody>
 </table>{{end}}
-{{else}}<p class="decision">Not run: {{.Why}}</p>{{end}}
+{{else}}<p class="decision">Not run: {{.Why}}.</p>{{end}}
 </section>{{end}}
 <section class="diagnostics">
 <h3>Diagnostics</h3>
@@ -499,7 +507,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 </section>{{end}}
 <section id="reading">
 <h2>Reading these results</h2>
-<p>The Kruskal-Wallis test asks whether the groups could all have come from one and the same distribution. A rejection says they did not: values in at least one group tend to run higher or lower than in another (one distribution stochastically dominates another). It does not say which groups differ — that is what the pairwise comparisons are for — nor by how much; the effect sizes and shifts speak to that. It reads as a difference in medians only when the groups' distributions have much the same shape and spread; the box plot and the diagnostics show whether that is plausible here. A p-value above α is not evidence that the groups are alike.</p>
+<p>The Kruskal-Wallis test asks whether the groups could all have come from one and the same distribution. A rejection says they did not: the distributions are not all the same. The test is built to detect values in some group tending to run higher or lower than in another (a probability other than ½ that a value from one group exceeds a value from another), and it is weak against differences in spread alone. It does not say which groups differ — that is what the pairwise comparisons are for — nor by how much; the effect sizes and shifts speak to that. It reads as a difference in medians only when the groups' distributions have much the same shape and spread; the box plot and the diagnostics show whether that is plausible here. A p-value above α is not evidence that the groups are alike.</p>
 <p class="caution">{{.Caution}}</p>
 </section>
 </main>

@@ -16,6 +16,14 @@ import (
 func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 	ew := &errWriter{w: w}
 	ew.printf("## rankplan: %s (`%s`)\n\n", mdText(res.Plan.Title), res.Plan.ID)
+	for _, la := range res.Data.LookAlikeGroups {
+		shown := make([]string, len(la.Shown))
+		for i, l := range la.Shown {
+			shown[i] = "`" + strings.ReplaceAll(l, "`", "'") + "`"
+		}
+		ew.printf("> **Warning:** column %s has labels that look alike but are different groups (compared exactly as written): %s; they differ by %s.\n\n",
+			mdText(la.Column), strings.Join(shown, ", "), mdText(strings.Join(la.Differences, "; ")))
+	}
 	ew.printf("| analysis | outcome | N | H | p | method | decision at alpha = %s |\n", Num(res.Plan.Alpha))
 	ew.printf("|---|---|---:|---:|---:|---|---|\n")
 	for _, a := range res.Analyses {
@@ -31,8 +39,12 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 		if a.Decision.PAdjusted != nil {
 			d += fmt.Sprintf(" (across analyses, adjusted p = %s)", Num(*a.Decision.PAdjusted))
 		}
+		pText := FormatP(a.PValue.Value, a.PValue.Log10)
+		if mc := a.PValue.MonteCarlo; mc != nil && mc.Exceedances == "0" {
+			pText += fmt.Sprintf(" (no resample of %s reached H; p at most %s)", mc.Resamples, Num(mc.CI.High))
+		}
 		ew.printf("| %s | %s | %d | %s | %s | %s | %s |\n", mdText(a.ID), outcome, a.N, Num(a.KruskalWallis.H),
-			mdText(FormatP(a.PValue.Value, a.PValue.Log10)), mdText(methodName(a.PValue.Method)), d)
+			mdText(pText), mdText(methodName(a.PValue.Method)), d)
 	}
 	for _, a := range res.Analyses {
 		ph := a.PostHoc
@@ -44,20 +56,34 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 			how = "simultaneous"
 		}
 		ew.printf("\n**%s**: %s, %s.", mdText(a.ID), mdText(postHocNames[ph.Method]), how)
-		if !ph.Ran {
-			ew.printf(" %s\n", mdText(ph.Why))
+		if ph.NotComputable != "" {
+			ew.printf(" Not computable: %s\n", mdText(ph.NotComputable))
 			continue
 		}
-		var differ, same []string
+		if !ph.Ran {
+			ew.printf(" Not run: %s.\n", mdText(ph.Why))
+			continue
+		}
+		pname := "adjusted p"
+		if ph.Simultaneous != "" {
+			pname = "simultaneous p"
+		}
+		var differ, same, none []string
 		for _, p := range ph.Pairs {
-			s := fmt.Sprintf("%s vs %s (adjusted p = %s)", mdText(p.Groups[0]), mdText(p.Groups[1]), Num(p.PAdjusted))
-			if p.Reject {
-				differ = append(differ, s)
-			} else {
-				same = append(same, s)
+			pair := mdText(p.Groups[0]) + " vs " + mdText(p.Groups[1])
+			switch {
+			case p.NotComputable != "":
+				none = append(none, fmt.Sprintf("%s (%s)", pair, mdText(p.NotComputable)))
+			case p.Reject:
+				differ = append(differ, fmt.Sprintf("%s (%s = %s)", pair, pname, Num(*p.PAdjusted)))
+			default:
+				same = append(same, fmt.Sprintf("%s (%s = %s)", pair, pname, Num(*p.PAdjusted)))
 			}
 		}
 		ew.printf("\n\n- differ: %s\n- no difference shown: %s\n", orNone(differ), orNone(same))
+		if len(none) > 0 {
+			ew.printf("- not computable: %s\n", strings.Join(none, "; "))
+		}
 	}
 	if m := res.Multiplicity; m != nil {
 		ew.printf("\n**Across analyses** (%s):\n\n", mdText(m.Rule))

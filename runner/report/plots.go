@@ -344,7 +344,7 @@ func (hp heatPlotter) Plot(c draw.Canvas, plt *plot.Plot) {
 }
 
 // heatmapSVG draws the matrix of adjusted p-values of the pairs that ran; both cells of a
-// pair show its value, the diagonal and pairs not compared stay blank.
+// pair show its value, the diagonal, pairs not compared and pairs not computable stay blank.
 func heatmapSVG(a *results.Analysis) ([]byte, error) {
 	ph := a.PostHoc
 	k := len(a.Groups)
@@ -359,8 +359,11 @@ func heatmapSVG(a *results.Analysis) ([]byte, error) {
 		if !ok1 || !ok2 {
 			return nil, fmt.Errorf("heatmap: pair %q vs %q names a group not in the analysis", pr.Groups[0], pr.Groups[1])
 		}
-		cell[[2]int{i, j}] = pr.PAdjusted
-		cell[[2]int{j, i}] = pr.PAdjusted
+		if pr.PAdjusted == nil {
+			continue // not computable: the cells stay blank
+		}
+		cell[[2]int{i, j}] = *pr.PAdjusted
+		cell[[2]int{j, i}] = *pr.PAdjusted
 	}
 	p := newPlot()
 	p.X.Min, p.X.Max = 0.5, float64(k)+0.5

@@ -25,6 +25,14 @@ func FormatP(value *float64, log10 float64) string {
 	return Num(*value)
 }
 
+// NumOr is Num(*x), or none when x is nil (a value that is not computable).
+func NumOr(x *float64, none string) string {
+	if x == nil {
+		return none
+	}
+	return Num(*x)
+}
+
 // Num writes a number with up to four significant digits after the point, as people read
 // tables; results.json keeps every digit.
 func Num(x float64) string {
@@ -128,13 +136,15 @@ func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) e
 	if res.Data.HighPrecisionCells > 0 {
 		ew.printf("note: %d cell(s) have more than 15 significant digits; values are compared as doubles, so such cells may tie\n", res.Data.HighPrecisionCells)
 	}
+	writeLookAlikes(ew, res.Data)
+	show := labelShower(res.Data)
 	for _, a := range res.Analyses {
 		ew.printf("\n%s: %s of %q%s, %d groups, N = %d\n", st.heading("analysis "+a.ID), testName(a.Test), a.Outcome, subsetText(a.Subset), len(a.Groups), a.N)
 		ew.printf("  excluded: %s\n", Exclusions(a.Excluded))
 		names := make([]string, 0, len(a.Groups)+1)
 		names = append(names, "group")
 		for _, g := range a.Groups {
-			names = append(names, g.Name)
+			names = append(names, show(g.Name))
 		}
 		names = leftColumn(names)
 		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
@@ -151,7 +161,10 @@ func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) e
 		ew.printf("  H = %s (tie-corrected; C = %s), df = %d\n", Num(kw.H), Num(kw.TieCorrection), kw.DF)
 		pv := a.PValue
 		ew.printf("  p = %s (%s; %s)\n", FormatP(pv.Value, pv.Log10), methodName(pv.Method), pv.Reason)
-		if mc := pv.MonteCarlo; mc != nil {
+		if mc := pv.MonteCarlo; mc != nil && mc.Exceedances == "0" {
+			ew.printf("      no resample of %s reached H: p = %s is the smallest value these resamples can give, not an estimate; the true p lies in [0, %s] (%s%% Clopper-Pearson); an exact p-value or more resamples would narrow it\n",
+				mc.Resamples, FormatP(pv.Value, pv.Log10), Num(mc.CI.High), Num(100*mc.CI.Level))
+		} else if mc != nil {
 			ew.printf("      %s of %s resamples reached H; Monte Carlo SE %s, %s%% interval [%s, %s]\n",
 				mc.Exceedances, mc.Resamples, Num(mc.SE), Num(100*mc.CI.Level), Num(mc.CI.Low), Num(mc.CI.High))
 		}
@@ -291,6 +304,8 @@ func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st
 	if pv.Data.HighPrecisionCells > 0 {
 		ew.printf("note: %d cell(s) have more than 15 significant digits; values are compared as doubles, so such cells may tie\n", pv.Data.HighPrecisionCells)
 	}
+	writeLookAlikes(ew, pv.Data)
+	show := labelShower(pv.Data)
 	for _, a := range pv.Analyses {
 		method := a.PValue
 		if a.Resamples != "" {
@@ -300,7 +315,7 @@ func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st
 		names := make([]string, 0, len(a.Groups)+1)
 		names = append(names, "group")
 		for _, g := range a.Groups {
-			names = append(names, g.Name)
+			names = append(names, show(g.Name))
 		}
 		names = leftColumn(names)
 		tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
@@ -342,8 +357,12 @@ func writePostHoc(ew *errWriter, ph *results.PostHoc, st Style) {
 	if ph.Note != "" {
 		ew.printf("    note: %s\n", ph.Note)
 	}
+	if ph.NotComputable != "" {
+		ew.printf("    not computable: %s\n", ph.NotComputable)
+		return
+	}
 	if !ph.Ran {
-		ew.printf("    %s\n", ph.Why)
+		ew.printf("    not run: %s\n", ph.Why)
 		return
 	}
 	pairs := make([]string, 0, len(ph.Pairs)+1)
@@ -351,20 +370,32 @@ func writePostHoc(ew *errWriter, ph *results.PostHoc, st Style) {
 	pairs, decisions = append(pairs, "pair"), append(decisions, "decision")
 	for _, p := range ph.Pairs {
 		d := "no difference shown"
-		if p.Reject {
+		switch {
+		case p.NotComputable != "":
+			d = "not computable"
+		case p.Reject:
 			d = "differ"
 		}
 		pairs, decisions = append(pairs, p.Groups[0]+" vs "+p.Groups[1]), append(decisions, d)
 	}
 	pairs, decisions = leftColumn(pairs), leftColumn(decisions)
 	tw := tabwriter.NewWriter(ew, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintf(tw, "  %s\t%s\tp\tadjusted p\t%s\tCliff's delta\tHL shift\tinterval\t\n", pairs[0], ph.Statistic, st.cell(decisions[0], false))
+	pname := "adjusted p"
+	if ph.Simultaneous != "" {
+		pname = "simultaneous p"
+	}
+	fmt.Fprintf(tw, "  %s\t%s\tp\t%s\t%s\tCliff's delta\tHL shift\tinterval\t\n", pairs[0], ph.Statistic, pname, st.cell(decisions[0], false))
 	for i, p := range ph.Pairs {
 		iv := p.HodgesLehmann.Interval
-		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t\n", pairs[i+1], Num(p.Statistic), Num(p.P),
-			Num(p.PAdjusted), st.cell(decisions[i+1], p.Reject), Num(p.CliffsDelta), Num(p.HodgesLehmann.Shift), Num(iv.Low), Num(iv.High))
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t\n", pairs[i+1], NumOr(p.Statistic, "-"), NumOr(p.P, "-"),
+			NumOr(p.PAdjusted, "-"), st.cell(decisions[i+1], p.Reject), Num(p.CliffsDelta), Num(p.HodgesLehmann.Shift), Num(iv.Low), Num(iv.High))
 	}
 	tw.Flush()
+	for _, p := range ph.Pairs {
+		if p.NotComputable != "" {
+			ew.printf("    %s vs %s not computable: %s\n", p.Groups[0], p.Groups[1], p.NotComputable)
+		}
+	}
 	if len(ph.Letters) > 0 {
 		parts := make([]string, len(ph.Letters))
 		for i, l := range ph.Letters {

@@ -65,7 +65,7 @@ func TestSummaryNotComputable(t *testing.T) {
 func layoutResults() *results.Results {
 	p, adj := 0.0123, 0.0246
 	pair := func(a, b string, reject bool) results.Pair {
-		return results.Pair{Groups: [2]string{a, b}, Statistic: -2.5, P: 0.01, PAdjusted: 0.03, Reject: reject,
+		return results.Pair{Groups: [2]string{a, b}, Statistic: ptr(-2.5), P: ptr(0.01), PAdjusted: ptr(0.03), Reject: reject,
 			CliffsDelta: -0.5, HodgesLehmann: results.HLShift{Shift: -1, Interval: results.Interval{Level: 0.95, Low: -2, High: 0}}}
 	}
 	return &results.Results{
@@ -229,3 +229,5 @@ func ExamplePreviewWith() {
 	//
 	// nothing was computed; run it with: rankplan run plan.yaml --out DIR
 }
+
+func ptr(v float64) *float64 { return &v }

@@ -35,6 +35,19 @@ type Data struct {
 	// compared as IEEE 754 doubles, so two such cells that differ only past the 15th digit
 	// may be read as tied.
 	HighPrecisionCells int `json:"high_precision_cells"`
+	// LookAlikeGroups lists sets of group labels that differ only in ways a reader cannot
+	// see (surrounding spaces, control characters, Unicode form, case). Labels are compared
+	// exactly as written, so each is its own group; this is a warning, not a merge.
+	LookAlikeGroups []LookAlike `json:"look_alike_groups,omitempty"`
+}
+
+// LookAlike is one set of distinct labels that look alike.
+type LookAlike struct {
+	Column string   `json:"column"`
+	Labels []string `json:"labels"` // exactly as in the data
+	// Shown writes each label visibly: quoted, with escapes and code points.
+	Shown       []string `json:"shown"`
+	Differences []string `json:"differences"` // how the later labels differ from the first
 }
 
 // Conventions states the definitions behind the numbers, so that a reader can recompute them.
@@ -85,12 +98,17 @@ type PostHoc struct {
 	When    string `json:"when"` // significant or always
 	Ran     bool   `json:"ran"`
 	Why     string `json:"why"`
+	// NotComputable, when not empty, says why the comparisons could not be computed on
+	// these data (e.g. every group internally constant for Conover-Iman); Ran is then
+	// false and there are no pairs. The rest of the run is unaffected.
+	NotComputable string `json:"not_computable,omitempty"`
 	// Simultaneous says, for DSCF and Nemenyi, why the p-values need no adjustment.
 	Simultaneous string `json:"simultaneous,omitempty"`
 	// Note labels the family's design where the procedure's properties depend on it.
 	Note string `json:"note,omitempty"`
-	// Statistic names the pairs' statistic: z (Dunn), t (Conover-Iman), q (Nemenyi), W*
-	// (DSCF) or U (rank-sum).
+	// Statistic names the pairs' statistic: z (Dunn), t (Conover-Iman), q (Nemenyi), -W*
+	// (DSCF: the W* of Critchlow & Fligner 1991 with its sign turned, so that, as for the
+	// others, it is positive when the first group tends to be larger) or U (rank-sum).
 	Statistic string `json:"statistic,omitempty"`
 	Pairs     []Pair `json:"pairs,omitempty"`
 	// Letters is the compact letter display (all-pairs families): groups sharing a letter
@@ -103,14 +121,18 @@ type Pair struct {
 	Group1, Group2 string    `json:"-"`
 	Groups         [2]string `json:"groups"`
 	MeanRankDiff   float64   `json:"mean_rank_diff"` // of the joint ranks (Dunn, Conover) or of the pair's own ranks (rank-sum)
-	Statistic      float64   `json:"statistic"`
-	PMethod        string    `json:"p_method"` // normal, t, studentized-range, exact or normal-continuity
-	P              float64   `json:"p"`
-	PAdjusted      float64   `json:"p_adjusted"`
-	Reject         bool      `json:"reject"`
-	CliffsDelta    float64   `json:"cliffs_delta"`
-	VarghaDelaneyA float64   `json:"vargha_delaney_a"`
-	HodgesLehmann  HLShift   `json:"hodges_lehmann"`
+	// Statistic, P and PAdjusted are null when the pair is not computable (NotComputable
+	// says why); such a pair enters the adjustment of the others with p = 1, so the family
+	// does not shrink, and is never rejected.
+	Statistic      *float64 `json:"statistic"`
+	PMethod        string   `json:"p_method"` // normal, t, studentized-range, exact or normal-continuity
+	P              *float64 `json:"p"`
+	PAdjusted      *float64 `json:"p_adjusted"`
+	Reject         bool     `json:"reject"`
+	NotComputable  string   `json:"not_computable,omitempty"`
+	CliffsDelta    float64  `json:"cliffs_delta"`
+	VarghaDelaneyA float64  `json:"vargha_delaney_a"`
+	HodgesLehmann  HLShift  `json:"hodges_lehmann"`
 }
 
 // HLShift is the Hodges-Lehmann shift of the first group against the second, with its

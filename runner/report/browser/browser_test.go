@@ -238,7 +238,9 @@ func headline(res *results.Results) map[string]float64 {
 		}
 		if ph := a.PostHoc; ph != nil && ph.Ran {
 			for _, p := range ph.Pairs {
-				m[a.ID+".pair."+p.Groups[0]+"|"+p.Groups[1]+".p_adjusted"] = p.PAdjusted
+				if p.PAdjusted != nil {
+					m[a.ID+".pair."+p.Groups[0]+"|"+p.Groups[1]+".p_adjusted"] = *p.PAdjusted
+				}
 			}
 		}
 	}
