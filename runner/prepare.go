@@ -130,6 +130,7 @@ func Prepare(p *spec.Plan) (*Prepared, error) {
 	if len(errs) > 0 {
 		return nil, inputErr(errs.Err())
 	}
+	prep.Data.LookAlikeGroups = LookAlikeGroups(p.Data.Group, t.Groups)
 	for i := range p.Analyses {
 		a := &p.Analyses[i]
 		if c := a.PostHoc.Control; c != "" && !slices.Contains(groups, c) {
@@ -230,7 +231,7 @@ func groupOrder(p *spec.Plan, path string, found []string) ([]string, spec.Error
 		for i, g := range list.names {
 			if !inData[g] {
 				errs = append(errs, p.Errorf(list.key+"."+strconv.Itoa(i),
-					"no rows of group %q in column %q of %s (groups found: %s)", g, p.Data.Group, path, strings.Join(quoteEach(sortedCopy(found)), ", ")))
+					"no rows of group %q in column %q of %s (groups found: %s)%s", g, p.Data.Group, path, strings.Join(quoteEach(sortedCopy(found)), ", "), lookAlikeHint(g, found)))
 			}
 		}
 	}
