@@ -177,15 +177,16 @@ var htmlTemplate = template.Must(template.New("selftest").Parse(`<!DOCTYPE html>
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>rankplan selftest: {{.Rep.Results.Summary.Outcome}}</title>
 <style>
-body { font: 14px/1.45 system-ui, sans-serif; margin: 2em auto; max-width: 72em; padding: 0 1em; color: #1a1a1a; }
+body { font: 14px/1.45 system-ui, sans-serif; margin: 2em auto; max-width: 84em; padding: 0 1em; color: #1a1a1a; }
 h1 { font-size: 1.5em; margin-bottom: 0.2em; }
 h2 { font-size: 1.15em; margin-top: 1.6em; }
 table { border-collapse: collapse; width: 100%; }
-th, td { border-bottom: 1px solid #ccc; padding: 0.3em 0.5em; text-align: left; vertical-align: top; }
-th { background: #f2f2f2; }
-td.num { font-family: ui-monospace, monospace; overflow-wrap: anywhere; }
+th, td { border-bottom: 1px solid #ccc; padding: 0.3em 0.5em; text-align: left; vertical-align: top; overflow-wrap: anywhere; }
+th { background: #f2f2f2; white-space: nowrap; overflow-wrap: normal; }
+td.case { min-width: 18ch; }
+td.num { font-family: ui-monospace, monospace; overflow-wrap: anywhere; min-width: 14ch; max-width: 24ch; }
 .meta th { width: 10em; background: none; }
-.verdict { font-weight: bold; }
+.verdict { font-weight: bold; overflow-wrap: normal; }
 tr.pass .verdict { color: #116611; }
 tr.fail { background: #fde8e8; }
 tr.fail .verdict { color: #a40000; }
@@ -220,7 +221,7 @@ tr.fail .verdict { color: #a40000; }
 <tr><th>result</th><th>case</th><th>expected</th><th>obtained</th><th>tolerance</th><th>source</th></tr>
 {{range .Rows}}<tr class="{{.O.Verdict}}" id="case-{{.O.ID}}" data-key="case" data-value="{{.O.ID}}">
 <td class="verdict">{{if eq .O.Verdict "pass"}}PASS{{else}}FAIL{{end}}</td>
-<td><b>{{.O.ID}}</b><br><span class="small">{{.O.Checks}}</span>{{if .O.Detail}}<br><b>{{.O.Detail}}</b>{{end}}</td>
+<td class="case"><b>{{.O.ID}}</b><br><span class="small">{{.O.Checks}}</span>{{if .O.Detail}}<br><b>{{.O.Detail}}</b>{{end}}</td>
 <td class="num">{{.Expected}}</td>
 <td class="num">{{.Obtained}}</td>
 <td>{{.Tol}}<br><span class="small">{{.O.Tolerance.Why}}</span></td>
