@@ -179,6 +179,8 @@ func (v *Value) UnmarshalJSON(b []byte) error {
 	*v = Value{}
 	b = bytes.TrimSpace(b)
 	switch {
+	case string(b) == "null":
+		return errors.New("a value must be a number, a list of numbers or a string, not null")
 	case len(b) > 0 && b[0] == '"':
 		var s string
 		if err := json.Unmarshal(b, &s); err != nil {

@@ -344,7 +344,8 @@ func TestSelftestParseCasesErrors(t *testing.T) {
 		{"bad id", `"a-b"`, `"A B"`, "lowercase"},
 		{"unknown computation", `"kw.h"`, `"kw.x"`, "unknown computation"},
 		{"no expected value", `"expected": 1,`, ``, "no expected value"},
-		{"expected null", `"expected": 1`, `"expected": {}`, "a value must be"},
+		{"expected an object", `"expected": 1`, `"expected": {}`, "a value must be"},
+		{"expected null", `"expected": 1`, `"expected": null`, "not null"},
 		{"negative tolerance", `"abs": 0.1`, `"abs": -0.1`, "not negative"},
 		{"two tolerances", `"abs": 0.1`, `"abs": 0.1, "rel": 0.1`, "not both"},
 		{"no reason", `"why": "w"`, `"why": ""`, "reason"},
@@ -360,6 +361,29 @@ func TestSelftestParseCasesErrors(t *testing.T) {
 	}
 	if _, err := ParseCases([]byte(wrap(good, good))); err == nil || !strings.Contains(err.Error(), "used twice") {
 		t.Errorf("duplicate id: %v", err)
+	}
+}
+
+// TestSelftestComputationsRefuseEmptyInput: every computation given no input returns an
+// error (a failed case), never a panic or a value.
+func TestSelftestComputationsRefuseEmptyInput(t *testing.T) {
+	set, _, err := Builtin()
+	if err != nil {
+		t.Fatal(err)
+	}
+	e := newEnv(context.Background(), set, 1)
+	defer e.close()
+	for name, f := range computations {
+		t.Run(name, func(t *testing.T) {
+			defer func() {
+				if r := recover(); r != nil {
+					t.Errorf("panic: %v", r)
+				}
+			}()
+			if v, err := f(e, &Case{ID: "empty", Compute: name}); err == nil {
+				t.Errorf("no error, value %s", v)
+			}
+		})
 	}
 }
 
