@@ -138,16 +138,9 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	}
 
 	tool := Tool()
-	exe, exeSize := "", int64(0)
-	if path, err := os.Executable(); err == nil {
-		exe, exeSize, _ = audit.DigestFile(path)
-	}
+	exe, exeSize := Executable()
 	if _, err := log.Append("run.started", map[string]any{
-		"tool": map[string]any{
-			"name": "rankplan", "version": tool.Version, "revision": tool.Revision, "modified": tool.Modified,
-			"executable_sha256": exe, "executable_bytes": exeSize,
-			"go": tool.GoVersion, "goos": tool.GOOS, "goarch": tool.GOARCH, "goamd64": goamd64(),
-		},
+		"tool":    tool.Record(exe, exeSize),
 		"command": opt.Args,
 		"workers": opt.Workers, "cpus": runtime.NumCPU(),
 		"note": "the plan and its data were validated before this record was written",

@@ -45,3 +45,13 @@ func (t ToolInfo) RevisionText() string {
 	}
 	return t.Revision
 }
+
+// Record is the build's identity as the audit log records it (in run.started and
+// selftest.started), with the executable's SHA-256 and size from [Executable].
+func (t ToolInfo) Record(exe string, exeSize int64) map[string]any {
+	return map[string]any{
+		"name": "rankplan", "version": t.Version, "revision": t.Revision, "modified": t.Modified,
+		"executable_sha256": exe, "executable_bytes": exeSize,
+		"go": t.GoVersion, "goos": t.GOOS, "goarch": t.GOARCH, "goamd64": goamd64(),
+	}
+}

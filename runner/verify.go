@@ -38,6 +38,33 @@ const (
 	Verified        = "verified"
 )
 
+// The records and the main file of a selftest folder (rankplan selftest --out), which
+// verify tells from a run folder by its first record.
+const (
+	ValidationFile   = "validation.json"
+	SelftestStarted  = "selftest.started"
+	SelftestFinished = "selftest.finished"
+	SelftestFailed   = "selftest.failed"
+)
+
+// folderKind is what verify expects of a kind of folder: the events that open and close
+// its log, the records that must come first, and the file whose results digest it records.
+type folderKind struct {
+	started, finished, failed string
+	sequence                  []string
+	sequenceOK                string
+	main                      string
+}
+
+var (
+	runFolder = &folderKind{"run.started", "run.finished", "run.failed",
+		[]string{"run.started", "plan.bound", "data.bound", "exclusions.applied"},
+		"the plan was bound before the data, the data before any result", ResultsFile}
+	selftestFolder = &folderKind{SelftestStarted, SelftestFinished, SelftestFailed,
+		[]string{SelftestStarted, "cases.bound"},
+		"the reference cases were bound before any result", ValidationFile}
+)
+
 // incompleteName matches the working folder of a run that was never moved into place.
 var incompleteName = regexp.MustCompile(`\.incomplete-[0-9a-f]{8}$`)
 
@@ -68,6 +95,10 @@ type VerifyOptions struct {
 	Data    string // drift mode: rerun the plan on this data file instead of the recorded one
 	Workers int
 	Getenv  func(string) string
+	// Selftest reruns the built-in reference cases of `rankplan selftest` and returns the
+	// digest of their results, for a selftest folder (the command line passes
+	// selftest.ResultsDigest); nil skips that rerun.
+	Selftest func(ctx context.Context) (string, error)
 }
 
 func (r *VerifyReport) add(name, verdict, class, file, format string, args ...any) {
@@ -123,6 +154,10 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		order = append(order, rec.Event)
 	}
 	last := chain.Records[len(chain.Records)-1]
+	kind := runFolder
+	if chain.Records[0].Event == SelftestStarted {
+		kind = selftestFolder
+	}
 	if incompleteName.MatchString(filepath.Base(filepath.Clean(dir))) {
 		// Run writes here first and renames the folder only after its last record and file:
 		// a folder still carrying the mark was stopped before that, however full its log.
@@ -130,21 +165,21 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 			filepath.Base(filepath.Clean(dir)))
 	}
 	switch last.Event {
-	case "run.finished":
-		r.add("complete", Pass, "", AuditFile, "the log ends with run.finished (record %d)", last.Seq)
-	case "run.failed":
+	case kind.finished:
+		r.add("complete", Pass, "", AuditFile, "the log ends with %s (record %d)", kind.finished, last.Seq)
+	case kind.failed:
 		var d struct{ Error string }
 		json.Unmarshal(last.Data, &d)
 		r.add("complete", Fail, ClassIncomplete, AuditFile, "the run failed and produced no results: %s", d.Error)
 	default:
-		r.add("complete", Fail, ClassIncomplete, AuditFile, "the log stops at record %d (%s) without run.finished: the run did not finish, or records were cut off", last.Seq, last.Event)
+		r.add("complete", Fail, ClassIncomplete, AuditFile, "the log stops at record %d (%s) without %s: the run did not finish, or records were cut off", last.Seq, last.Event, kind.finished)
 	}
-	want := []string{"run.started", "plan.bound", "data.bound", "exclusions.applied"}
+	want := kind.sequence
 	if n := min(len(order), len(want)); !slices.Equal(order[:n], want[:n]) {
 		r.add("sequence", Fail, ClassIntegrity, AuditFile, "the records do not start with %s", strings.Join(want, ", "))
 		return r, nil
 	}
-	r.add("sequence", Pass, "", AuditFile, "the plan was bound before the data, the data before any result")
+	r.add("sequence", Pass, "", AuditFile, "%s", kind.sequenceOK)
 
 	// The head: the folder's own head file, and a copy kept elsewhere.
 	headFile, err := os.ReadFile(filepath.Join(dir, HeadFile))
@@ -178,7 +213,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 			continue
 		}
 		known[d.File] = true
-		if d.File == ResultsFile {
+		if d.File == kind.main {
 			resultsDigest = d.ResultsDigest
 		}
 		got, _, err := audit.DigestFile(filepath.Join(dir, d.File))
@@ -191,8 +226,8 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 			r.add("outputs", Pass, "", d.File, "%s matches record %d", d.File, rec.Seq)
 		}
 	}
-	if !known[ResultsFile] && last.Event == "run.finished" {
-		r.add("outputs", Fail, ClassIntegrity, AuditFile, "no record of %s", ResultsFile)
+	if !known[kind.main] && last.Event == kind.finished {
+		r.add("outputs", Fail, ClassIntegrity, AuditFile, "no record of %s", kind.main)
 	}
 	if entries, err := os.ReadDir(dir); err == nil {
 		for _, e := range entries {
@@ -218,7 +253,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		}
 		return json.RawMessage("{}")
 	}
-	json.Unmarshal(firstData("run.started"), &started)
+	json.Unmarshal(firstData(kind.started), &started)
 	cur := Tool()
 	exe := ""
 	if path, err := os.Executable(); err == nil {
@@ -238,6 +273,10 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		r.add("tool", Pass, "", "", "the same rankplan build (version %s) ran it", cur.Version)
 	} else {
 		r.add("tool", Warn, "", "", "another rankplan build ran it: %s", strings.Join(diffs, "; "))
+	}
+	if kind == selftestFolder {
+		rerunSelftest(ctx, r, last, resultsDigest, opt.Selftest)
+		return r, nil
 	}
 
 	// Inputs: the plan (the copy in the folder is checked above as an output) and the data.
@@ -513,4 +552,36 @@ func (r *VerifyReport) WriteMarkdown(w io.Writer) error {
 		ew.printf("\nA skipped check is not a pass.\n")
 	}
 	return ew.err
+}
+
+// rerunSelftest reruns the reference cases of a selftest folder and compares the digest of
+// their results with the recorded one. A record of a failed qualification verifies when it
+// is authentic; a warning says that it failed.
+func rerunSelftest(ctx context.Context, r *VerifyReport, last audit.Record, recorded string, rerun func(context.Context) (string, error)) {
+	var fin struct {
+		Status         string
+		Passed, Failed int
+	}
+	json.Unmarshal(last.Data, &fin)
+	switch {
+	case failed(r.Checks, ClassIntegrity) || last.Event != SelftestFinished:
+		r.add("rerun", Skip, "", "", "not rerun: the record itself did not verify")
+		return
+	case rerun == nil:
+		r.add("rerun", Skip, "", "", "not rerun: no selftest cases at hand")
+		return
+	}
+	digest, err := rerun(ctx)
+	switch {
+	case err != nil:
+		r.add("rerun", Fail, ClassDiffer, "", "the reference cases do not run: %v", err)
+	case digest != recorded:
+		r.add("rerun", Fail, ClassDiffer, ValidationFile, "rerunning the reference cases gives results digest %s, recorded %s: "+
+			"this build computes other values, or has other cases, than the one that made the record", digest, recorded)
+	default:
+		r.add("rerun", Pass, "", ValidationFile, "rerunning the reference cases reproduces the results digest %s", digest)
+	}
+	if fin.Status != "pass" {
+		r.add("selftest", Warn, "", ValidationFile, "the recorded qualification did not pass: %d of %d cases failed", fin.Failed, fin.Passed+fin.Failed)
+	}
 }

@@ -40,16 +40,7 @@ func ValidateResults(b []byte) error {
 	if err != nil {
 		return err
 	}
-	dec := json.NewDecoder(bytes.NewReader(b))
-	dec.UseNumber()
-	var v any
-	if err := dec.Decode(&v); err != nil {
-		return fmt.Errorf("results are not JSON: %w", err)
-	}
-	if err := schema.Validate(v); err != nil {
-		return fmt.Errorf("results do not match %s: %w", schemas.ResultsID, err)
-	}
-	return nil
+	return schemas.Check(schema, schemas.ResultsID, "results", b)
 }
 
 // WriteRun creates the folder dir (its parent must exist; dir itself must not) and writes

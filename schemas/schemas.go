@@ -15,6 +15,8 @@ import (
 const (
 	PlanID    = "https://rankplan.invalid/schema/plan-v1.json"
 	ResultsID = "https://rankplan.invalid/schema/results-v1.json"
+	// ValidationID names the schema of validation.json, the record `rankplan selftest` writes.
+	ValidationID = "https://rankplan.invalid/schema/validation-v1.json"
 )
 
 var (
@@ -22,20 +24,24 @@ var (
 	planJSON []byte
 	//go:embed results.schema.json
 	resultsJSON []byte
+	//go:embed validation.schema.json
+	validationJSON []byte
 )
 
 // Names lists the schemas that [Source] knows, in the order `rankplan schema` documents them.
-var Names = []string{"plan", "results"}
+var Names = []string{"plan", "results", "validation"}
 
-// Source returns the JSON text of the named schema ("plan" or "results").
+// Source returns the JSON text of the named schema ("plan", "results" or "validation").
 func Source(name string) ([]byte, error) {
 	switch name {
 	case "plan":
 		return bytes.Clone(planJSON), nil
 	case "results":
 		return bytes.Clone(resultsJSON), nil
+	case "validation":
+		return bytes.Clone(validationJSON), nil
 	}
-	return nil, fmt.Errorf("no schema named %q (known: plan, results)", name)
+	return nil, fmt.Errorf("no schema named %q (known: plan, results, validation)", name)
 }
 
 type compiled struct {
@@ -45,7 +51,7 @@ type compiled struct {
 	err    error
 }
 
-var plan, results compiled
+var plan, results, validation compiled
 
 func (c *compiled) load(id string, src []byte) (*jsonschema.Schema, any, error) {
 	c.once.Do(func() {
@@ -78,3 +84,23 @@ func Plan() (*jsonschema.Schema, any, error) { return plan.load(PlanID, planJSON
 
 // Results returns the compiled results schema and its decoded JSON tree.
 func Results() (*jsonschema.Schema, any, error) { return results.load(ResultsID, resultsJSON) }
+
+// Validation returns the compiled schema of validation.json and its decoded JSON tree.
+func Validation() (*jsonschema.Schema, any, error) {
+	return validation.load(ValidationID, validationJSON)
+}
+
+// Check decodes the JSON text b, keeping numbers exact, and validates it against schema
+// (compiled under id); what names the document in the error.
+func Check(schema *jsonschema.Schema, id, what string, b []byte) error {
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.UseNumber()
+	var v any
+	if err := dec.Decode(&v); err != nil {
+		return fmt.Errorf("%s are not JSON: %w", what, err)
+	}
+	if err := schema.Validate(v); err != nil {
+		return fmt.Errorf("%s do not match %s: %w", what, id, err)
+	}
+	return nil
+}

@@ -10,6 +10,7 @@ func TestCompile(t *testing.T) {
 	for _, load := range []func() (any, any, error){
 		func() (any, any, error) { return Plan() },
 		func() (any, any, error) { return Results() },
+		func() (any, any, error) { return Validation() },
 	} {
 		s, tree, err := load()
 		if err != nil || s == nil || tree == nil {

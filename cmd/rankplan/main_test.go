@@ -13,6 +13,7 @@ import (
 	"github.com/rogpeppe/go-internal/testscript"
 
 	"rankplan/runner"
+	"rankplan/runner/selftest"
 )
 
 var update = flag.Bool("update", false, "rewrite the expected output in testdata/script/*.txtar")
@@ -20,7 +21,24 @@ var update = flag.Bool("update", false, "rewrite the expected output in testdata
 func TestMain(m *testing.M) {
 	testscript.Main(m, map[string]func(){
 		"rankplan": func() { os.Exit(Main(os.Args[1:], os.Stdout, os.Stderr)) },
+		// rankplan with one wrong case added to the selftest's built-in cases, to see the
+		// failure path without touching the real cases.
+		"rankplan-with-wrong-case": func() {
+			selftestAdded = []selftest.Case{wrongSelftestCase()}
+			os.Exit(Main(os.Args[1:], os.Stdout, os.Stderr))
+		},
 	})
+}
+
+// wrongSelftestCase is PlantGrowth's H* (7.988229, METHODS.md §1.1) with a deliberately
+// wrong expected value.
+func wrongSelftestCase() selftest.Case {
+	return selftest.Case{
+		ID: "injected-wrong-h", Checks: "H* of PlantGrowth against a deliberately wrong value",
+		Compute: "kw.h", Input: selftest.Input{Dataset: "plant-growth"}, Expected: selftest.NumberValue(7.9),
+		Tolerance: selftest.Tolerance{Abs: 5e-7, Why: "half a unit in the 6th decimal"},
+		Source:    selftest.Source{Reference: "a wrong value, for the tests of the failure path", Origin: "cmd/rankplan/main_test.go"},
+	}
 }
 
 // TestScripts runs the command-line scenarios in testdata/script. Each script runs in a
@@ -32,8 +50,10 @@ func TestMain(m *testing.M) {
 //	validate-results FILE     require FILE to match the results schema
 //	mask SRC DST              copy SRC (a file, or stdout) to DST with what changes from run
 //	                          to run or build to build masked: the audit head (it holds the
-//	                          run's time) as sha256:<head>, and the build (revision, Go
-//	                          release, platform) in summary.md's tool row as <build>; then
+//	                          run's time) as sha256:<head>, the build (revision, Go
+//	                          release, platform) in summary.md's tool row and in the
+//	                          selftest header (with the executable's hash) as <build>, and
+//	                          the selftest header's time and user as <time> and <user>; then
 //	                          the builtin cmp compares DST, and -update rewrites the archive
 func TestScripts(t *testing.T) {
 	testscript.Run(t, testscript.Params{
@@ -85,12 +105,21 @@ var (
 	headLine     = regexp.MustCompile(`(?m)^(audit head: )sha256:[0-9a-f]{64}`)
 	summaryHead  = regexp.MustCompile("`sha256:[0-9a-f]{64}` at record")
 	summaryBuild = regexp.MustCompile(`(?m)^(\| tool \| rankplan \S+) \([^)]*\) \|$`)
+	// The header of `rankplan selftest`: two-space indented labels, then the value.
+	selftestBuild = regexp.MustCompile(`(?m)^(  (?:revision|executable|go) +)\S.*$`)
+	selftestTime  = regexp.MustCompile(`(?m)^(  time +)\S+$`)
+	selftestUser  = regexp.MustCompile(`(?m)^(  user +)\S.*$`)
 )
 
-// mask replaces in run output and summary.md what depends on the time of the run (the
-// audit head) or on the build (the tool row's revision, Go release and platform).
+// mask replaces in run output, summary.md and the selftest report what depends on the time
+// of the run (the audit head; the selftest's time), on the build (the tool row's revision,
+// Go release and platform; the selftest's revision, executable and Go release) or on the
+// machine (the selftest's user and host).
 func mask(s string) string {
 	s = headLine.ReplaceAllString(s, "${1}sha256:<head>")
 	s = summaryHead.ReplaceAllString(s, "`sha256:<head>` at record")
+	s = selftestBuild.ReplaceAllString(s, "${1}<build>")
+	s = selftestTime.ReplaceAllString(s, "${1}<time>")
+	s = selftestUser.ReplaceAllString(s, "${1}<user>")
 	return summaryBuild.ReplaceAllString(s, "$1 (<build>) |")
 }

@@ -14,6 +14,7 @@ import (
 
 	"rankplan/runner"
 	"rankplan/runner/data"
+	"rankplan/runner/selftest"
 	"rankplan/spec"
 )
 
@@ -23,6 +24,7 @@ const (
 	exitError = 1 // the run failed for a reason other than its input (e.g. the output could not be written)
 	exitInput = 2 // usage error, invalid plan or unusable data
 	// 3 to 6 are verify's; see verify.go. 7 to 9 are reserved.
+	exitSelftest = 10 // selftest: a reference case did not reproduce its expected value
 )
 
 const exitCodesHelp = `Exit codes:
@@ -32,7 +34,8 @@ const exitCodesHelp = `Exit codes:
   3  verify: results or inputs differ
   4  verify: integrity failure (tampering, broken chain, bad signature)
   5  verify: the run is incomplete
-  6  verify --data: a conclusion at alpha changed`
+  6  verify --data: a conclusion at alpha changed
+  10 selftest: a reference case did not reproduce its expected value`
 
 // usageError is a mistake in the command line: wrong flags or arguments.
 type usageError struct{ err error }
@@ -77,11 +80,14 @@ func exitCode(err error) int {
 		ue *usageError
 		ie *runner.InputError
 		de *data.Error
+		se *selftest.FailedError
 	)
 	_, isPlan := spec.AsList(err)
 	switch {
 	case errors.As(err, &ue), errors.As(err, &ie), errors.As(err, &de), isPlan:
 		return exitInput
+	case errors.As(err, &se):
+		return exitSelftest
 	}
 	return exitError
 }
@@ -115,7 +121,7 @@ follows the lab's own procedures and software validation.
 	})
 	u := newUI(stdout, stderr, os.Getenv)
 	root.PersistentFlags().BoolP("quiet", "q", false, "print no summary on standard output (errors still go to standard error; exit codes are the same)")
-	root.AddCommand(newInitCmd(), newCheckCmd(u), newRunCmd(u), newVerifyCmd(u), newLockCmd(), newKeygenCmd(), newSchemaCmd(), newVersionCmd())
+	root.AddCommand(newInitCmd(), newCheckCmd(u), newRunCmd(u), newVerifyCmd(u), newLockCmd(), newKeygenCmd(), newSchemaCmd(), newSelftestCmd(), newVersionCmd())
 	// Cobra's completion command (bash, zsh, fish, powershell) stays enabled and listed.
 	return root
 }

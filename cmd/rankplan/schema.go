@@ -10,9 +10,9 @@ import (
 
 func newSchemaCmd() *cobra.Command {
 	return &cobra.Command{
-		Use:       "schema plan|results",
-		Short:     "Print the JSON Schema of plans or of results.json",
-		Args:      exactArgs(1, "plan or results"),
+		Use:       "schema plan|results|validation",
+		Short:     "Print the JSON Schema of plans, of results.json or of validation.json",
+		Args:      exactArgs(1, "plan, results or validation"),
 		ValidArgs: schemas.Names,
 		RunE: func(c *cobra.Command, args []string) error {
 			b, err := schemas.Source(args[0])

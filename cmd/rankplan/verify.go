@@ -8,6 +8,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"rankplan/runner"
+	"rankplan/runner/selftest"
 )
 
 // Exit codes of verify (3 to 9 are reserved for it).
@@ -41,6 +42,10 @@ match theirs, the tool version is the same (or the difference is shown), the sig
 verifies against a pinned --pubkey; then it reruns the plan from the recorded inputs and
 seed and compares the results digest, naming the first field that differs.
 
+A folder written by 'rankplan selftest --out' is recognised by its first record: it gets
+the same checks of its record and files, and its reference cases are rerun and compared by
+their results digest (a build that computes other values, or has other cases, differs).
+
 With --data FILE it reruns the plan on new data instead and says whether any conclusion at
 the plan's alpha changed (a drift check for CI).
 
@@ -63,6 +68,7 @@ check goes to standard error. When standard error is a terminal, a progress line
 the rerun (not with --json or --quiet).`,
 		Args: exactArgs(1, "one run folder"),
 		RunE: func(c *cobra.Command, args []string) error {
+			o.Selftest = selftest.ResultsDigest // for a folder written by selftest --out
 			if jsonOut && mdOut {
 				return usageErrorf("verify: --json and --markdown cannot be used together")
 			}
