@@ -30,8 +30,8 @@ func TestMain(m *testing.M) {
 	})
 }
 
-// wrongSelftestCase is PlantGrowth's H* (7.988229, METHODS.md §1.1) with a deliberately
-// wrong expected value.
+// wrongSelftestCase is PlantGrowth's H* (7.988229, scipy 1.10.1 stats.kruskal on Dobson's
+// 1983 data) with a deliberately wrong expected value.
 func wrongSelftestCase() selftest.Case {
 	return selftest.Case{
 		ID: "injected-wrong-h", Checks: "H* of PlantGrowth against a deliberately wrong value",

@@ -30,8 +30,9 @@ func clock() func() time.Time {
 
 func noEnv(string) string { return "" }
 
-// wrongCase is a case added by the tests only: PlantGrowth's H* (7.988229, METHODS.md §1.1)
-// with a deliberately wrong expected value, so that the failure path can be seen.
+// wrongCase is a case added by the tests only: PlantGrowth's H* (7.988229, scipy 1.10.1
+// stats.kruskal on Dobson's 1983 data) with a deliberately wrong expected value, so that the
+// failure path can be seen.
 func wrongCase() Case {
 	return Case{
 		ID: "injected-wrong-h", Checks: "H* of PlantGrowth against a deliberately wrong value <b>&</b>",
