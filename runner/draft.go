@@ -7,7 +7,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
-	"os"
+	"io"
 	"path/filepath"
 	"regexp"
 	"slices"
@@ -152,13 +152,14 @@ func delimByte(d string) byte {
 
 // sniffDelimiter picks the delimiter that occurs most often, outside quotes, in the first
 // line of the file; a comma wins ties and a line with none.
+// Only a regular file is read (see data.Open), and no more than one record's worth of it.
 func sniffDelimiter(path string) (string, error) {
-	f, err := os.Open(path)
+	f, _, err := data.Open(path, path)
 	if err != nil {
-		return "", fmt.Errorf("open data file: %w", err)
+		return "", err
 	}
 	defer f.Close()
-	line, err := bufio.NewReader(f).ReadString('\n')
+	line, err := bufio.NewReader(io.LimitReader(f, data.MaxRecordBytes)).ReadString('\n')
 	if err != nil && line == "" {
 		return "", &data.Error{File: path, Msg: "empty file"}
 	}

@@ -222,9 +222,8 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	a := in.Analysis
 	pv := &results.PValue{Requested: string(a.PValue.Method)}
 	budget := stats.DefaultExactBudget
-	budget.Progress = opt.progress(a.ID, TaskExact)
 	exact := func() error {
-		ex, err := stats.KruskalWallisExact(r, budget)
+		ex, err := in.exactP(r, opt.progress(a.ID, TaskExact))
 		if err != nil {
 			return err
 		}
@@ -241,8 +240,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	case spec.Exact:
 		if err := exact(); err != nil {
 			if errors.Is(err, stats.ErrExactBudget) {
-				return nil, &InputError{Err: spec.ErrorList{p.Errorf(fmt.Sprintf("analyses.%d.pvalue.method", index),
-					"the exact p-value of this design does not fit the work budget (%v); use method auto or permutation", err)}}
+				return nil, &InputError{Err: spec.ErrorList{exactRefused(p, index, err)}}
 			}
 			return nil, err
 		}

@@ -1,8 +1,6 @@
 package runner
 
 import (
-	"fmt"
-	"os"
 	"time"
 
 	"rankplan/runner/audit"
@@ -16,9 +14,9 @@ func LockPlan(planPath, out string, actor audit.Actor, now time.Time) (audit.Loc
 	if err := CheckNewFile(out); err != nil {
 		return audit.Lock{}, err
 	}
-	raw, err := os.ReadFile(planPath)
+	raw, err := spec.ReadFile(planPath)
 	if err != nil {
-		return audit.Lock{}, &InputError{Err: fmt.Errorf("read plan: %w", err)}
+		return audit.Lock{}, &InputError{Err: err}
 	}
 	p, err := spec.Parse(planPath, raw)
 	if err != nil {

@@ -14,6 +14,7 @@ import (
 	"strconv"
 	"strings"
 
+	"rankplan/internal/infile"
 	"rankplan/runner/data"
 	"rankplan/runner/results"
 	"rankplan/spec"
@@ -53,16 +54,21 @@ type Input struct {
 	// Sorted holds each group's values ascending once Execute has ranked them (nil before,
 	// and when the analysis is not computable): for the report's plots.
 	Sorted [][]float64
+
+	exact *exactOutcome // the exact p-value once computed (see exactP), or nil
 }
 
 // Prepare reads the plan's data file and makes every check that needs the data. Problems
 // with the plan's meaning come back as a [spec.ErrorList] positioned in the plan file, and
 // problems in the data file as a [*data.Error]; both are wrapped in an [InputError].
+// Only a regular file of at most data.MaxFileBytes is read: a named pipe, a device (also
+// behind a symbolic link) or a directory is refused at data.file before a byte is read.
+// The number of groups is checked against [MaxGroups] and [MaxPostHocGroups].
 func Prepare(p *spec.Plan) (*Prepared, error) {
 	path := p.DataPath()
-	src, err := os.Open(path)
+	src, _, err := infile.Open(path, data.MaxFileBytes)
 	if err != nil {
-		return nil, inputErr(spec.ErrorList{p.Errorf("data.file", "cannot open the data file %s: %v", path, unwrapPathError(err))})
+		return nil, inputErr(spec.ErrorList{p.Errorf("data.file", "cannot open the data file %s: %v", path, err)})
 	}
 	defer src.Close()
 
@@ -127,6 +133,9 @@ func Prepare(p *spec.Plan) (*Prepared, error) {
 		},
 	}
 	groups, errs := groupOrder(p, path, t.Groups)
+	if len(errs) == 0 {
+		errs = checkGroups(p, path, groups)
+	}
 	if len(errs) > 0 {
 		return nil, inputErr(errs.Err())
 	}

@@ -14,6 +14,7 @@ import (
 	"strings"
 	"time"
 
+	"rankplan/internal/infile"
 	"rankplan/runner/audit"
 	"rankplan/runner/report"
 	"rankplan/runner/results"
@@ -92,9 +93,12 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	if err := CheckNewFile(opt.Out); err != nil {
 		return nil, err
 	}
-	raw, err := os.ReadFile(planPath)
+	if parent := filepath.Dir(opt.Out); !isDir(parent) {
+		return nil, &InputError{Err: fmt.Errorf("--out %s: the folder %s does not exist; create it first, or name a folder inside an existing one", opt.Out, parent)}
+	}
+	raw, err := spec.ReadFile(planPath)
 	if err != nil {
-		return nil, &InputError{Err: fmt.Errorf("read plan: %w", err)}
+		return nil, &InputError{Err: err}
 	}
 	p, err := spec.Parse(planPath, raw)
 	if err != nil {
@@ -113,8 +117,14 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	if err != nil {
 		return nil, err
 	}
+	if err := prep.CheckWork(ctx); err != nil {
+		return nil, err
+	}
 	var signKey []byte
 	if opt.SignKey != "" {
+		if _, err := infile.ReadFile(opt.SignKey, MaxKeyBytes); err != nil {
+			return nil, &InputError{Err: fmt.Errorf("--sign %s: cannot open the key file: %w", opt.SignKey, err)}
+		}
 		k, err := audit.LoadPrivateKey(opt.SignKey)
 		if err != nil {
 			return nil, &InputError{Err: fmt.Errorf("--sign: %w", err)}
@@ -294,6 +304,12 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	return rec, nil
 }
 
+// isDir reports whether path names a directory (after following symbolic links).
+func isDir(path string) bool {
+	fi, err := os.Stat(path)
+	return err == nil && fi.IsDir()
+}
+
 // makeTemp creates the run's working folder beside out.
 func makeTemp(out string) (string, error) {
 	var b [4]byte
@@ -341,9 +357,9 @@ func checkLock(p *spec.Plan, canon []byte, opt RunOptions) (map[string]any, []De
 		}
 		return map[string]any{"status": "none"}, nil, nil, nil
 	}
-	lockBytes, err := os.ReadFile(opt.LockPath)
+	lockBytes, err := infile.ReadFile(opt.LockPath, MaxLockBytes)
 	if err != nil {
-		return nil, nil, nil, &InputError{Err: fmt.Errorf("--lock: %w", err)}
+		return nil, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: cannot open the lock file: %w", opt.LockPath, err)}
 	}
 	l, err := audit.ReadLock(opt.LockPath)
 	if err != nil {

@@ -285,19 +285,7 @@ func TestDraft(t *testing.T) {
 // methodPlan is a plan with one analysis of the given p-value block and effect-size block.
 func methodPlan(t *testing.T, pvalue, effect, csv string) *spec.Plan {
 	t.Helper()
-	dir := t.TempDir()
-	os.WriteFile(filepath.Join(dir, "data.csv"), []byte(csv), 0o644)
-	src := planHead + "alpha: 0.05\nseed: 11\nanalyses:\n  - id: a\n    test: kruskal-wallis\n    pvalue: " + pvalue + "\n"
-	if effect != "" {
-		src += "    effect_size: " + effect + "\n"
-	}
-	path := filepath.Join(dir, "plan.yaml")
-	os.WriteFile(path, []byte(src), 0o644)
-	p, err := spec.Load(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return p
+	return methodPlanWith(t, pvalue, effect, "", csv)
 }
 
 // tiedToy is the constructed tied example of METHODS.md §1.5: exact p = 47/1925.

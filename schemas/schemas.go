@@ -67,8 +67,12 @@ func (c *compiled) load(id string, src []byte) (*jsonschema.Schema, any, error) 
 			c.err = fmt.Errorf("schema %s: %w", id, err)
 			return
 		}
+		// Numbers stay json.Number, so that a bound such as 18446744073709551615 is
+		// shown in messages with its exact digits.
 		var tree any
-		if err := json.Unmarshal(src, &tree); err != nil {
+		dec := json.NewDecoder(bytes.NewReader(src))
+		dec.UseNumber()
+		if err := dec.Decode(&tree); err != nil {
 			c.err = fmt.Errorf("schema %s: %w", id, err)
 			return
 		}
@@ -77,9 +81,9 @@ func (c *compiled) load(id string, src []byte) (*jsonschema.Schema, any, error) 
 	return c.schema, c.tree, c.err
 }
 
-// Plan returns the compiled plan schema and its decoded JSON tree (for building messages
-// that name allowed keys and values). The embedded schema is tested to compile, so an
-// error here means a broken build.
+// Plan returns the compiled plan schema and its decoded JSON tree, numbers as
+// json.Number (for building messages that name allowed keys, values and bounds). The
+// embedded schema is tested to compile, so an error here means a broken build.
 func Plan() (*jsonschema.Schema, any, error) { return plan.load(PlanID, planJSON) }
 
 // Results returns the compiled results schema and its decoded JSON tree.

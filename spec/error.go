@@ -20,7 +20,11 @@ type Error struct {
 	Column int
 	Path   string
 	Msg    string
+	Err    error // the underlying cause, if any (e.g. fs.ErrNotExist); not shown in the text
 }
+
+// Unwrap returns the underlying cause, or nil.
+func (e *Error) Unwrap() error { return e.Err }
 
 func (e *Error) Error() string {
 	var b strings.Builder
@@ -48,13 +52,24 @@ func (l ErrorList) Error() string {
 	return strings.Join(parts, "\n")
 }
 
+// Unwrap returns the errors of the list, so that errors.Is and errors.As see each one.
+func (l ErrorList) Unwrap() []error {
+	out := make([]error, len(l))
+	for i, e := range l {
+		out[i] = e
+	}
+	return out
+}
+
 // Sort orders the list by line, column, key path and message, and drops exact repeats.
 func (l *ErrorList) Sort() {
 	slices.SortStableFunc(*l, func(a, b *Error) int {
 		return cmp.Or(cmp.Compare(a.Line, b.Line), cmp.Compare(a.Column, b.Column),
 			cmp.Compare(a.Path, b.Path), cmp.Compare(a.Msg, b.Msg))
 	})
-	*l = slices.CompactFunc(*l, func(a, b *Error) bool { return *a == *b })
+	*l = slices.CompactFunc(*l, func(a, b *Error) bool {
+		return a.Line == b.Line && a.Column == b.Column && a.Path == b.Path && a.Msg == b.Msg && a.File == b.File
+	})
 }
 
 // Err returns the sorted list as an error, or nil when it is empty.

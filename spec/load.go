@@ -3,8 +3,8 @@ package spec
 import (
 	"bytes"
 	"encoding/json"
+	"errors"
 	"fmt"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -13,11 +13,11 @@ import (
 )
 
 // Load reads and validates the plan file at path. Every problem found is reported at once
-// as an [ErrorList]; an unreadable file gives an ordinary wrapped error.
+// as an [ErrorList], and so is a file that cannot be read (see [ReadFile]).
 func Load(path string) (*Plan, error) {
-	src, err := os.ReadFile(path)
+	src, err := ReadFile(path)
 	if err != nil {
-		return nil, fmt.Errorf("read plan: %w", err)
+		return nil, err
 	}
 	p, err := Parse(path, src)
 	if err != nil {
@@ -47,9 +47,14 @@ func Parse(name string, src []byte) (*Plan, error) {
 	dec.DisallowUnknownFields()
 	p := &Plan{File: name, Dir: filepath.Dir(name), doc: doc}
 	if err := dec.Decode(p); err != nil {
-		// The schema admits only what Plan can hold, so this is a schema/type mismatch.
-		return nil, ErrorList{{File: name, Line: 1, Column: 1, Path: "(top level)",
-			Msg: "plan does not fit the plan types: " + err.Error()}}
+		// The schema admits only what Plan can hold, so this is a schema/type mismatch;
+		// it is reported at the value when the decoder names it.
+		var te *json.UnmarshalTypeError
+		var tokens []string
+		if errors.As(err, &te) && te.Field != "" {
+			tokens = strings.Split(te.Field, ".")
+		}
+		return nil, ErrorList{doc.errAt(tokens, false, "plan does not fit the plan types: %v", err)}
 	}
 	p.applyDefaults()
 	if errs := p.check(); len(errs) > 0 {

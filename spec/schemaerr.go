@@ -170,7 +170,7 @@ func describe(d *document, tree any, v *jsonschema.ValidationError) []located {
 		}
 		return at("expected a value %s; found %s", strings.Join(bounds, " and "), valueName(inst))
 	case "minLength":
-		if n, _ := s["minLength"].(float64); n == 1 {
+		if s["minLength"] == json.Number("1") {
 			return at("must not be empty")
 		}
 		return at("expected at least %v characters; found %s", s["minLength"], valueName(inst))
@@ -181,10 +181,16 @@ func describe(d *document, tree any, v *jsonschema.ValidationError) []located {
 		if l, ok := inst.([]any); ok {
 			n = len(l)
 		}
-		if m, _ := s["minItems"].(float64); m == 1 {
+		if s["minItems"] == json.Number("1") {
 			return at("expected at least one item; found none")
 		}
 		return at("expected at least %v items; found %d", s["minItems"], n)
+	case "maxItems":
+		n := 0
+		if l, ok := inst.([]any); ok {
+			n = len(l)
+		}
+		return at("expected at most %v items; found %d", s["maxItems"], n)
 	case "uniqueItems":
 		l, _ := inst.([]any)
 		for i := range l {

@@ -71,10 +71,19 @@ func TestSeed(t *testing.T) {
 		{`seed: "18446744073709551615"`, 1<<64 - 1, ""},
 		{"seed: 18446744073709551615", 1<<64 - 1, ""},
 		{"seed: 9007199254740993", 9007199254740993, ""}, // 2^53 + 1: kept exact
-		{`seed: "18446744073709551616"`, 0, "plan does not fit"},
-		{"seed: -1", 0, "seed: expected a value >= 0; found -1"},
-		{"seed: 1.5", 0, "seed: expected an integer or text; found 1.5"},
-		{`seed: "12a"`, 0, `seed: expected the seed of every random stream`},
+		{"seed: +5", 5, ""},
+		{`seed: "007"`, 7, ""},
+		// One wording, at the seed's position, whether the seed is a number or digits in
+		// quotes; 2^64 is read by yaml.v3 as a float and keeps its digits in the message.
+		{`seed: "18446744073709551616"`, 0, `plan.yaml:9:7: seed: ` + seedRange + `; found "18446744073709551616"`},
+		{"seed: 18446744073709551616", 0, "plan.yaml:9:7: seed: " + seedRange + "; found 18446744073709551616"},
+		{"seed: 000018446744073709551616", 0, "plan.yaml:9:7: seed: " + seedRange + "; found 18446744073709551616"},
+		{"seed: -1", 0, "plan.yaml:9:7: seed: " + seedRange + "; found -1"},
+		{"seed: -99999999999999999999", 0, "plan.yaml:9:7: seed: " + seedRange + "; found -99999999999999999999"},
+		{"seed: 1.5", 0, "plan.yaml:9:7: seed: " + seedRange + "; found 1.5"},
+		{"seed: 1e3", 1000, ""}, // an integral number, as the schema's integer type admits
+		{`seed: "12a"`, 0, `plan.yaml:9:7: seed: ` + seedRange + `; found "12a"`},
+		{"seed: true", 0, "plan.yaml:9:7: seed: expected an integer or text; found true; put it in quotes to make it text"},
 	} {
 		p, err := Parse("plan.yaml", []byte(edit(t, "seed: 42", tc.yaml)))
 		if tc.err == "" {
@@ -85,11 +94,13 @@ func TestSeed(t *testing.T) {
 			}
 			continue
 		}
-		if err == nil || !strings.Contains(err.Error(), tc.err) {
-			t.Errorf("%s: error %v, want it to contain %q", tc.yaml, err, tc.err)
+		if err == nil || err.Error() != tc.err {
+			t.Errorf("%s: error\n%v\nwant\n%s", tc.yaml, err, tc.err)
 		}
 	}
 }
+
+const seedRange = "expected an integer from 0 to 18446744073709551615 (64 bits), as a number or as digits in quotes"
 
 // TestParseErrors checks the position, key path and wording of each kind of plan error.
 func TestParseErrors(t *testing.T) {

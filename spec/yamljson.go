@@ -92,6 +92,12 @@ func parseYAML(file string, src []byte) (doc *document, err ErrorList) {
 				Msg: fmt.Sprintf("the YAML parser failed on this file: %v", r)}}
 		}
 	}()
+	if len(src) > MaxPlanBytes {
+		return nil, ErrorList{sizeError(file, src, int64(len(src)))}
+	}
+	if e := checkText(file, src); e != nil {
+		return nil, ErrorList{e}
+	}
 	dec := yaml.NewDecoder(bytes.NewReader(src))
 	var root yaml.Node
 	if err := dec.Decode(&root); err != nil {
@@ -114,7 +120,13 @@ func parseYAML(file string, src []byte) (doc *document, err ErrorList) {
 	if top.Kind == yaml.DocumentNode && len(top.Content) == 1 {
 		top = top.Content[0]
 	}
+	// Conversion keeps every value's key path, which costs the square of the depth:
+	// refuse deep nesting before converting anything.
+	if e := depthError(file, top, 1, nil, nil); e != nil {
+		return nil, ErrorList{e}
+	}
 	doc.value = doc.convert(top, nil, nil, &errs)
+	doc.checkSeed(&errs)
 	return doc, errs
 }
 
@@ -143,6 +155,9 @@ func syntaxError(file string, src []byte, err error) *Error {
 	if m := yamlLine.FindStringSubmatch(err.Error()); m != nil {
 		e.Line, _ = strconv.Atoi(m[1])
 		e.Msg = "not a valid YAML plan: " + m[2]
+		if strings.HasPrefix(m[2], "exceeded max depth") {
+			e.Msg = depthMsg
+		}
 		lines := strings.Split(string(src), "\n")
 		if strings.HasPrefix(m[2], "did not find expected") && e.Line < len(lines) {
 			e.Line++
@@ -246,6 +261,11 @@ func (d *document) convert(n *yaml.Node, key *yaml.Node, tokens []string, errs *
 			}
 			return fail("the integer %s is out of range", n.Value)
 		case "!!float":
+			if integerText.MatchString(n.Value) {
+				// An integer too large for 64 bits, which yaml.v3 resolves as a float:
+				// keep its digits, so that messages show them and range checks see them.
+				return json.Number(normalInteger(n.Value))
+			}
 			var f float64
 			if err := n.Decode(&f); err != nil {
 				return fail("cannot read %q as a number", n.Value)
@@ -260,6 +280,43 @@ func (d *document) convert(n *yaml.Node, key *yaml.Node, tokens []string, errs *
 		return fail("the YAML tag %s is not supported in plans", n.Tag)
 	}
 	return fail("unexpected YAML node")
+}
+
+var integerText = regexp.MustCompile(`^[-+]?[0-9]+$`)
+
+// normalInteger writes a decimal integer as a JSON number: no plus sign, no leading zeros.
+func normalInteger(s string) string {
+	neg := strings.HasPrefix(s, "-")
+	s = strings.TrimLeft(strings.TrimLeft(s, "+-"), "0")
+	if s == "" {
+		return "0"
+	}
+	if neg {
+		return "-" + s
+	}
+	return s
+}
+
+// checkSeed refuses a seed that is not an integer from 0 to 2^64 - 1, written as a number
+// or as digits in quotes, with one wording for both, before the schema and the typed
+// decoding see it.
+func (d *document) checkSeed(errs *ErrorList) {
+	top, _ := d.value.(map[string]any)
+	var text, found string
+	switch v := top["seed"].(type) {
+	case json.Number:
+		text, found = string(v), string(v)
+	case string:
+		text, found = v, strconv.Quote(v)
+	default:
+		return // absent, or of a type the schema describes
+	}
+	if _, err := strconv.ParseUint(text, 10, 64); err == nil {
+		return
+	}
+	tokens := []string{"seed"}
+	d.bad = append(d.bad, pathKey(tokens))
+	*errs = append(*errs, d.errAt(tokens, false, "expected an integer from 0 to %d (64 bits), as a number or as digits in quotes; found %s", uint64(math.MaxUint64), found))
 }
 
 // lookup finds the value and tokens for a JSON Schema instance location, whose tokens are

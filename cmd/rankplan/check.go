@@ -17,7 +17,9 @@ func newCheckCmd(u *ui) *cobra.Command {
 		Short: "Validate a plan and preview its data without running it",
 		Long: `check validates PLAN against the plan schema and its rules, reads the data file it
 names, and shows the groups, the observations per group and the rows that would be
-left out, without computing anything.
+left out. It applies every limit that run applies (README: Limits), so a plan that check
+accepts is not refused by run for its size; for an exact p-value that means computing it
+under the work budget, which takes a second at most. Nothing else is computed.
 
 Every problem is reported at once, each as FILE:LINE:COL: KEY: what was expected.
 
@@ -31,6 +33,9 @@ p-value method, groups and exclusions); with --quiet only problems are printed.`
 			}
 			prep, err := runner.Prepare(p)
 			if err != nil {
+				return err
+			}
+			if err := prep.CheckWork(c.Context()); err != nil {
 				return err
 			}
 			if jsonOut {

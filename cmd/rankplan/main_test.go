@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bufio"
 	"errors"
 	"flag"
 	"os"
@@ -8,6 +9,7 @@ import (
 	"path/filepath"
 	"regexp"
 	"strconv"
+	"strings"
 	"testing"
 
 	"github.com/rogpeppe/go-internal/testscript"
@@ -55,6 +57,11 @@ func wrongSelftestCase() selftest.Case {
 //	                          selftest header (with the executable's hash) as <build>, and
 //	                          the selftest header's time and user as <time> and <user>; then
 //	                          the builtin cmp compares DST, and -update rewrites the archive
+//	absent PATTERN...         require that no file matches any of the glob patterns (e.g.
+//	                          out*: a refused run leaves neither out nor out.incomplete-*)
+//	gen FILE COUNT TEXT       append TEXT to FILE COUNT times (creating it), with Go escapes
+//	                          such as \n read in TEXT and {i} replaced by the repetition
+//	                          number from 1: large or repetitive input without large archives
 func TestScripts(t *testing.T) {
 	testscript.Run(t, testscript.Params{
 		Dir:                 "testdata/script",
@@ -87,6 +94,40 @@ func TestScripts(t *testing.T) {
 					ts.Fatalf("usage: mask SRC DST")
 				}
 				ts.Check(os.WriteFile(ts.MkAbs(args[1]), []byte(mask(ts.ReadFile(args[0]))), 0o644))
+			},
+			"absent": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) == 0 {
+					ts.Fatalf("usage: absent PATTERN...")
+				}
+				for _, pat := range args {
+					m, err := filepath.Glob(ts.MkAbs(pat))
+					ts.Check(err)
+					if len(m) > 0 {
+						ts.Fatalf("%s matches %v", pat, m)
+					}
+				}
+			},
+			"gen": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) != 3 {
+					ts.Fatalf("usage: gen FILE COUNT TEXT")
+				}
+				n, err := strconv.Atoi(args[1])
+				ts.Check(err)
+				text, err := strconv.Unquote(`"` + strings.ReplaceAll(args[2], `"`, `\"`) + `"`)
+				ts.Check(err)
+				f, err := os.OpenFile(ts.MkAbs(args[0]), os.O_WRONLY|os.O_CREATE|os.O_APPEND, 0o644)
+				ts.Check(err)
+				w := bufio.NewWriter(f)
+				numbered := strings.Contains(text, "{i}")
+				for i := 1; i <= n; i++ {
+					if numbered {
+						w.WriteString(strings.ReplaceAll(text, "{i}", strconv.Itoa(i)))
+					} else {
+						w.WriteString(text)
+					}
+				}
+				ts.Check(w.Flush())
+				ts.Check(f.Close())
 			},
 			"validate-results": func(ts *testscript.TestScript, neg bool, args []string) {
 				if len(args) != 1 {

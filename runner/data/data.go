@@ -15,6 +15,8 @@ import (
 	"strings"
 	"unicode/utf8"
 	"unsafe"
+
+	"rankplan/internal/infile"
 )
 
 // Options says how to read a data file and which columns to take from it. There are
@@ -45,6 +47,44 @@ type Options struct {
 	// column that selects a subset of rows), none of them GroupColumn or an outcome
 	// column. Their cells are kept exactly as written: missing-value tokens do not apply.
 	LabelColumns []string
+	// Limits sets the limits on what a file may hold; a zero field means the package's
+	// limit of the same name (MaxRows, MaxCellBytes, MaxRecordBytes, MaxLabels).
+	Limits Limits
+}
+
+// Limits bound what a data file may hold, so that a mistaken or hostile file is refused
+// with its position before it exhausts memory or time. Every limit is checked while the
+// file is read; a zero field means the package's limit of the same name.
+type Limits struct {
+	Rows        int // data rows (the header and blank lines not counted)
+	CellBytes   int // bytes of one field, after unquoting
+	RecordBytes int // bytes of one record: its line, or its lines when a quoted field spans line ends
+	Labels      int // distinct values in the group column, and in each label column
+}
+
+// The limits of a data file. A file of MaxRows rows is twice the 10^7 rows the loader is
+// benchmarked on; MaxLabels leaves room for a group column with many more labels than
+// the groups an analysis takes (package runner allows 1000), while it bounds the memory
+// the labels take to MaxLabels × MaxCellBytes (160 MiB).
+const (
+	MaxFileBytes   = 4 << 30    // the data file's size: 4 GiB, checked before reading (LoadFile)
+	MaxRows        = 20_000_000 // data rows
+	MaxCellBytes   = 16 << 10   // one cell: 16 KiB
+	MaxRecordBytes = 1 << 20    // one record: 1 MiB
+	MaxLabels      = 10_000     // distinct labels in the group column or a label column
+)
+
+// resolve returns the limits in force: each field of l when it is positive, else the
+// package's limit. Labels are numbered in an int32, which bounds them too.
+func (l Limits) resolve() Limits {
+	pick := func(v, limit int) int {
+		if v > 0 {
+			return min(v, math.MaxInt32)
+		}
+		return limit
+	}
+	return Limits{Rows: pick(l.Rows, MaxRows), CellBytes: pick(l.CellBytes, MaxCellBytes),
+		RecordBytes: pick(l.RecordBytes, MaxRecordBytes), Labels: pick(l.Labels, MaxLabels)}
 }
 
 // Table is the loaded data, column-wise: row i is Group[i], Outcome[c][i], Line[i].
@@ -137,8 +177,9 @@ func load(r io.Reader, opt Options, size int64) (*Table, error) {
 	if err := skipBOM(br, opt.Name); err != nil {
 		return nil, err
 	}
-	l := &loader{opt: opt, p: newRecordReader(br, opt.Name, opt.Delimiter), ids: map[string]int32{},
-		hr: hr, br: br, expect: size}
+	lim := opt.Limits.resolve()
+	l := &loader{opt: opt, lim: lim, p: newRecordReader(br, opt.Name, opt.Delimiter, lim.CellBytes, lim.RecordBytes),
+		ids: map[string]int32{}, hr: hr, br: br, expect: size}
 	t, err := l.run()
 	if err != nil {
 		return nil, err
@@ -149,26 +190,36 @@ func load(r io.Reader, opt Options, size int64) (*Table, error) {
 }
 
 // LoadFile opens the file at path and loads it with [Load]. Options.Name defaults to
-// path.
+// path. Only a regular file (after following symbolic links) of at most [MaxFileBytes]
+// is read: a named pipe, a device or a directory is refused before anything is read from
+// it (see [Open]).
 func LoadFile(path string, opt Options) (*Table, error) {
 	if opt.Name == "" {
 		opt.Name = path
 	}
-	f, err := os.Open(path)
+	f, size, err := Open(path, opt.Name)
 	if err != nil {
-		return nil, fmt.Errorf("open data file: %w", err)
+		return nil, err
 	}
 	defer f.Close()
-	size := int64(-1)
-	if fi, err := f.Stat(); err == nil && fi.Mode().IsRegular() {
-		size = fi.Size()
-	}
 	return load(f, opt, size)
+}
+
+// Open opens the data file at path for reading when it is a regular file (after
+// following symbolic links) of at most [MaxFileBytes], and returns it with its size; it
+// never waits on a named pipe. A refusal is an [*Error] about the file named name,
+// whose message starts "cannot open the data file: ".
+func Open(path, name string) (*os.File, int64, error) {
+	f, size, err := infile.Open(path, MaxFileBytes)
+	if err != nil {
+		return nil, 0, &Error{File: name, Msg: "cannot open the data file: " + err.Error(), Err: err}
+	}
+	return f, size, nil
 }
 
 // Header reads only the header record from r (the first record that is not a blank
 // line, after an optional UTF-8 byte order mark) and returns its cells. Only
-// Options.Name and Options.Delimiter are used. It stops after the header, having read
+// Options.Name, Options.Delimiter and Options.Limits are used. It stops after the header, having read
 // ahead by at most one buffer of bytes, and hashes nothing.
 func Header(r io.Reader, opt Options) ([]string, error) {
 	if err := checkDelimiter(opt.Delimiter); err != nil {
@@ -178,7 +229,8 @@ func Header(r io.Reader, opt Options) ([]string, error) {
 	if err := skipBOM(br, opt.Name); err != nil {
 		return nil, err
 	}
-	p := newRecordReader(br, opt.Name, opt.Delimiter)
+	lim := opt.Limits.resolve()
+	p := newRecordReader(br, opt.Name, opt.Delimiter, lim.CellBytes, lim.RecordBytes)
 	ok, err := p.next()
 	if err != nil {
 		return nil, err
@@ -288,6 +340,7 @@ func (o *Options) check() error {
 // loader holds the state of one Load.
 type loader struct {
 	opt Options
+	lim Limits // the limits in force
 	p   *recordReader
 	t   Table
 
@@ -430,6 +483,10 @@ func (l *loader) row() error {
 	if p.start > math.MaxInt32 {
 		return &Error{File: l.opt.Name, Line: p.start, Msg: "more lines than this loader can number (2147483647)"}
 	}
+	if l.t.Rows == l.lim.Rows {
+		return &Error{File: l.opt.Name, Line: p.start,
+			Msg: fmt.Sprintf("more than %d data rows, the limit for a data file", l.lim.Rows)}
+	}
 	g, err := l.group(l.groupAt)
 	if err != nil {
 		return err
@@ -491,8 +548,8 @@ func (l *loader) group(i int) (int32, error) {
 		if !utf8.Valid(b) {
 			return 0, l.cellError(i, "group label "+quoteCell(b)+" is not valid UTF-8", nil)
 		}
-		if len(l.t.Groups) == math.MaxInt32 {
-			return 0, l.cellError(i, "too many distinct group labels", nil)
+		if len(l.t.Groups) == l.lim.Labels {
+			return 0, l.cellError(i, l.tooManyLabels(), nil)
 		}
 		s := string(b)
 		id = int32(len(l.t.Groups))
@@ -501,6 +558,10 @@ func (l *loader) group(i int) (int32, error) {
 	}
 	l.lastLabel, l.lastID = l.t.Groups[id], id
 	return id, nil
+}
+
+func (l *loader) tooManyLabels() string {
+	return fmt.Sprintf("more than %d distinct labels, the limit for a group or subset column (this cell holds label %d)", l.lim.Labels, l.lim.Labels+1)
 }
 
 // label returns the index of field i of the current record among the values of label
@@ -516,8 +577,8 @@ func (l *loader) label(c, i int) (int32, error) {
 	if !utf8.Valid(b) {
 		return 0, l.cellError(i, "label "+quoteCell(b)+" is not valid UTF-8", nil)
 	}
-	if len(col.Values) == math.MaxInt32 {
-		return 0, l.cellError(i, "too many distinct labels", nil)
+	if len(col.Values) == l.lim.Labels {
+		return 0, l.cellError(i, l.tooManyLabels(), nil)
 	}
 	s := string(b)
 	id = int32(len(col.Values))

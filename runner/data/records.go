@@ -6,6 +6,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
+
+	"rankplan/internal/infile"
 )
 
 // fieldPos is where a field starts: its line and its byte column, both counted from 1.
@@ -45,10 +47,19 @@ type recordReader struct {
 
 	// errField is the index of the field the last error concerns, or -1.
 	errField int
+
+	maxCell   int // the most bytes of one field, unescaped
+	maxRecord int // the most bytes of one record's lines, line ends included
+	recBytes  int // bytes of the current record's lines read so far
+	inRecord  bool
 }
 
-func newRecordReader(br *bufio.Reader, name string, delim byte) *recordReader {
-	return &recordReader{br: br, name: name, delim: delim, errField: -1}
+// newRecordReader returns a reader of the records in br. Fields longer than maxCell
+// bytes and records longer than maxRecord bytes are errors, found before more than
+// maxRecord bytes are held, so that a file with no line ends (or a device that never
+// ends) cannot exhaust memory.
+func newRecordReader(br *bufio.Reader, name string, delim byte, maxCell, maxRecord int) *recordReader {
+	return &recordReader{br: br, name: name, delim: delim, errField: -1, maxCell: maxCell, maxRecord: maxRecord}
 }
 
 // nfields is the number of fields in the current record.
@@ -72,10 +83,17 @@ func (p *recordReader) readLine() (content []byte, nl, ok bool, err error) {
 	if errors.Is(err, bufio.ErrBufferFull) {
 		p.long = append(p.long[:0], line...)
 		for errors.Is(err, bufio.ErrBufferFull) {
+			if p.recBytes+len(p.long) > p.maxRecord {
+				return nil, false, false, p.recordTooLong(p.lines + 1)
+			}
 			line, err = p.br.ReadSlice('\n')
 			p.long = append(p.long, line...)
 		}
 		line = p.long
+	}
+	p.recBytes += len(line)
+	if p.recBytes > p.maxRecord {
+		return nil, false, false, p.recordTooLong(p.lines + 1)
 	}
 	switch {
 	case err == io.EOF:
@@ -97,6 +115,22 @@ func (p *recordReader) readLine() (content []byte, nl, ok bool, err error) {
 	return line[:n], nl, true, nil
 }
 
+// recordTooLong is the error for a record that passes maxRecord bytes on line.
+func (p *recordReader) recordTooLong(line int) error {
+	msg := fmt.Sprintf("record longer than %d bytes (%s), the limit for one record of a data file", p.maxRecord, infile.Bytes(int64(p.maxRecord)))
+	if p.inRecord && p.start != line {
+		msg += fmt.Sprintf(" (the record starts on line %d; is a quote left open?)", p.start)
+	}
+	return &Error{File: p.name, Line: line, Msg: msg}
+}
+
+// cellTooLong is the error for field i, of n bytes, that starts at at.
+func (p *recordReader) cellTooLong(i, n int, at fieldPos) error {
+	p.errField = i
+	return &Error{File: p.name, Line: at.line, Column: at.col,
+		Msg: fmt.Sprintf("cell of %d bytes, more than the limit of %d bytes (%s) for one cell", n, p.maxCell, infile.Bytes(int64(p.maxCell)))}
+}
+
 func (p *recordReader) displayName() string {
 	if p.name == "" {
 		return "input"
@@ -107,9 +141,11 @@ func (p *recordReader) displayName() string {
 // next reads the next record. It returns false, nil at the end of the input.
 func (p *recordReader) next() (bool, error) {
 	p.errField = -1
+	p.inRecord = false
 	var line []byte
 	var nl bool
 	for {
+		p.recBytes = 0
 		l, hasNL, ok, err := p.readLine()
 		if err != nil || !ok {
 			return false, err
@@ -123,6 +159,7 @@ func (p *recordReader) next() (bool, error) {
 	p.ends = p.ends[:0]
 	p.pos = p.pos[:0]
 	p.start = p.lines
+	p.inRecord = true
 	lineNo, col := p.lines, 1
 	for {
 		if len(line) == 0 || line[0] != '"' {
@@ -137,6 +174,9 @@ func (p *recordReader) next() (bool, error) {
 				return false, &Error{File: p.name, Line: lineNo, Column: col + j,
 					Msg: "quote inside an unquoted field (quote the whole field and write each inner quote twice)"}
 			}
+			if len(f) > p.maxCell {
+				return false, p.cellTooLong(len(p.ends), len(f), fieldPos{lineNo, col})
+			}
 			p.buf = append(p.buf, f...)
 			p.ends = append(p.ends, len(p.buf))
 			p.pos = append(p.pos, fieldPos{lineNo, col})
@@ -149,6 +189,7 @@ func (p *recordReader) next() (bool, error) {
 		}
 		// Quoted field: up to a quote that is not doubled.
 		at := fieldPos{lineNo, col}
+		from := len(p.buf)
 		line = line[1:]
 		col++
 		for {
@@ -180,6 +221,9 @@ func (p *recordReader) next() (bool, error) {
 				line = line[1:]
 				col++
 				continue
+			}
+			if n := len(p.buf) - from; n > p.maxCell {
+				return false, p.cellTooLong(len(p.ends), n, at)
 			}
 			p.ends = append(p.ends, len(p.buf))
 			p.pos = append(p.pos, at)

@@ -13,7 +13,7 @@ import (
 // ourRecords reads every record of in with recordReader, using a read buffer of size
 // bufLen. It returns the records read before the first error, and that error.
 func ourRecords(in []byte, delim byte, bufLen int) ([][]string, error) {
-	p := newRecordReader(bufio.NewReaderSize(bytes.NewReader(in), bufLen), "f", delim)
+	p := newRecordReader(bufio.NewReaderSize(bytes.NewReader(in), bufLen), "f", delim, MaxCellBytes, MaxRecordBytes)
 	var recs [][]string
 	for {
 		ok, err := p.next()

@@ -1,0 +1,144 @@
+package runner
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"strconv"
+
+	"rankplan/spec"
+	"rankplan/stats"
+)
+
+// Limits on what one run takes on, checked by `check` and by `run` before anything is
+// written, so that a mistaken plan or data file is refused with its position instead of
+// running for days or filling the disk. They are listed in the README's table of limits,
+// beside those of the plan file (package spec) and of the data file (package data).
+const (
+	// MaxGroups is the most groups one analysis compares: the studentized range that
+	// DSCF and Nemenyi refer to is computed up to k = 1000 groups.
+	MaxGroups = 1000
+	// MaxPostHocGroups is the most groups of an analysis with post-hoc comparisons:
+	// 4950 pairs. Each pair is a row of pairs.csv and of the report's tables, so that
+	// 1000 groups, with 499,500 pairs, gave a run of minutes, gigabytes of memory and a
+	// report of hundreds of megabytes.
+	MaxPostHocGroups = 100
+	// MaxResampleDraws bounds the work of one resampling step (the Monte Carlo p-value,
+	// the effect-size bootstrap) of one analysis: resamples × observations. At about
+	// 10 ns a draw that is a quarter of an hour; 10^7 observations still take 10^4
+	// resamples.
+	MaxResampleDraws = 100_000_000_000
+	// MaxLockBytes is the largest plan lock (--lock) read: 1 MiB, four times the
+	// largest plan.
+	MaxLockBytes = 1 << 20
+	// MaxKeyBytes is the largest signing key file (--sign) read: 64 KiB; an Ed25519
+	// key in PEM takes about 120 bytes.
+	MaxKeyBytes = 64 << 10
+)
+
+// checkGroups refuses more groups than an analysis, or its post-hoc comparisons, may
+// take. groups are the analysed groups, the same for every analysis.
+func checkGroups(p *spec.Plan, path string, groups []string) spec.ErrorList {
+	k := len(groups)
+	if k > MaxGroups {
+		key := "data.group"
+		if p.Has("groups.include") {
+			key = "groups.include"
+		}
+		return spec.ErrorList{p.Errorf(key, "column %q of %s holds %d groups, more than the limit of %d for an analysis; name the groups to analyse in groups.include",
+			p.Data.Group, path, k, MaxGroups)}
+	}
+	var errs spec.ErrorList
+	if k > MaxPostHocGroups {
+		for i, a := range p.Analyses {
+			if a.PostHoc.Method == spec.NoPostHoc {
+				continue
+			}
+			errs = append(errs, p.Errorf("analyses."+strconv.Itoa(i)+".posthoc.method",
+				"post-hoc comparisons of %d groups (%d pairs) exceed the limit of %d groups; choose fewer groups with groups.include, or set posthoc.method to none",
+				k, k*(k-1)/2, MaxPostHocGroups))
+		}
+	}
+	return errs
+}
+
+// CheckWork applies the limits on the work of each analysis: whether an exact p-value
+// fits the work budget (method exact is refused when it does not, as run refuses it;
+// method auto then falls back to Monte Carlo), and the resamples × observations of the
+// Monte Carlo p-value and the bootstrap against [MaxResampleDraws]. Deciding whether an
+// exact p-value fits means computing it, under the budget of a second or so; the
+// result is kept in the input, so that [Execute] does not compute it again. Problems
+// come back as a [spec.ErrorList] in an [InputError]. `check` calls it for its preview,
+// and [Run] before it creates the run folder.
+func (prep *Prepared) CheckWork(ctx context.Context) error {
+	p := prep.Plan
+	hook, _ := ctx.Value(progressKey{}).(func(analysis, task string, done, total int64))
+	opt := Options{Progress: hook}
+	var errs spec.ErrorList
+	for i := range prep.Analyses {
+		in := &prep.Analyses[i]
+		a := in.Analysis
+		at := "analyses." + strconv.Itoa(i)
+		n := int64(len(in.Values))
+		monteCarlo := a.PValue.Method == spec.Permutation
+		if a.PValue.Method == spec.Exact || a.PValue.Method == spec.Auto {
+			r, err := stats.Rank(in.Group, in.Values, len(in.Groups))
+			if err != nil {
+				return fmt.Errorf("analysis %q: %w", a.ID, err)
+			}
+			_, err = in.exactP(r, opt.progress(a.ID, TaskExact))
+			switch {
+			case err == nil, errors.Is(err, stats.ErrAllTied):
+			case errors.Is(err, stats.ErrExactBudget) && a.PValue.Method == spec.Exact:
+				errs = append(errs, exactRefused(p, i, err))
+			case errors.Is(err, stats.ErrExactBudget):
+				monteCarlo = true
+			default:
+				return fmt.Errorf("analysis %q: %w", a.ID, err)
+			}
+		}
+		if m := a.PValue.Resamples; monteCarlo && m*n > MaxResampleDraws {
+			errs = append(errs, tooManyDraws(p, at+".pvalue.resamples", "Monte Carlo", m, n))
+		}
+		if m := *a.EffectSize.Resamples; m*n > MaxResampleDraws {
+			errs = append(errs, tooManyDraws(p, at+".effect_size.resamples", "bootstrap", m, n))
+		}
+	}
+	if len(errs) > 0 {
+		return &InputError{Err: errs.Err()}
+	}
+	return nil
+}
+
+func tooManyDraws(p *spec.Plan, key, what string, m, n int64) *spec.Error {
+	return p.Errorf(key, "%d %s resamples of %d observations are %d draws, more than the limit of %d for one analysis; use at most %d resamples",
+		m, what, n, m*n, int64(MaxResampleDraws), MaxResampleDraws/n)
+}
+
+// exactOutcome is the exact p-value of an analysis, or the reason it has none, once
+// computed.
+type exactOutcome struct {
+	ex  stats.Exact
+	err error
+}
+
+// exactP returns the exact p-value of the input's design under the default work budget,
+// computing it only once. It is the one place where the budget is applied: `check`
+// (through [Prepared.CheckWork]) and `run` (through CheckWork and pValue) decide alike
+// whether a design fits.
+func (in *Input) exactP(r *stats.Ranking, progress stats.Progress) (stats.Exact, error) {
+	if in.exact == nil {
+		budget := stats.DefaultExactBudget
+		budget.Progress = progress
+		ex, err := stats.KruskalWallisExact(r, budget)
+		in.exact = &exactOutcome{ex, err}
+	}
+	return in.exact.ex, in.exact.err
+}
+
+// exactRefused is the error for method exact on analysis index when the design does not
+// fit the work budget.
+func exactRefused(p *spec.Plan, index int, err error) *spec.Error {
+	return p.Errorf(fmt.Sprintf("analyses.%d.pvalue.method", index),
+		"the exact p-value of this design does not fit the work budget (%v); use method auto or permutation", err)
+}
