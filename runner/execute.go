@@ -159,8 +159,8 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 		if sk, ok := stats.QuartileSkewness(q1, med, q3); ok {
 			out.Groups[j].QuartileSkewness = &sk
 		}
-		if lo, hi, err := stats.MeanRankInterval(r, j, a.EffectSize.Level); err == nil {
-			out.Groups[j].MeanRankInterval = &results.Interval{Level: a.EffectSize.Level, Low: lo, High: hi}
+		if lo, hi, clipped, err := stats.MeanRankInterval(r, j, a.EffectSize.Level); err == nil {
+			out.Groups[j].MeanRankInterval = &results.RankInterval{Level: a.EffectSize.Level, Low: lo, High: hi, Clipped: clipped}
 		}
 	}
 
@@ -284,8 +284,9 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	return pv, nil
 }
 
-// effectSizes computes epsilon-squared and eta-squared based on H, with their percentile
-// bootstrap intervals when the plan asks for resamples.
+// effectSizes computes epsilon-squared and eta-squared based on H, with the interval the
+// plan names. This switch is the one place where an interval method named in a plan meets
+// its function in package stats.
 func effectSizes(p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWallis, opt Options) (*results.EffectSizes, error) {
 	eps, err := stats.EpsilonSquared(kw.H, kw.N)
 	if err != nil {
@@ -295,31 +296,85 @@ func effectSizes(p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWall
 	if eta, err := stats.EtaSquaredH(kw.H, kw.N, kw.K); err == nil {
 		es.EtaSquaredH = &eta
 	}
-	m := *in.Analysis.EffectSize.Resamples
-	if m == 0 {
+	level := in.Analysis.EffectSize.Level
+	half := strconv.FormatFloat(float64(1-level)/2, 'g', 6, 64)
+	switch m := in.Analysis.EffectSize.Interval; m {
+	case spec.NoInterval:
 		return es, nil
+	case spec.NoncentralInterval:
+		iv := &results.EffectInterval{
+			Method: results.IntervalNoncentral,
+			Description: "inverts the noncentral chi-square approximation of H (df = k - 1) at the observed H (Steiger 2004) " +
+				"for the noncentrality lambda, and bounds xi^2 = lambda/(N - k), the population share of the rank variance " +
+				"between groups that epsilon-squared and eta-squared(H) both estimate, cut to [0, 1]; it contains 0 exactly " +
+				"when the asymptotic chi-square p-value is at least (1 - level)/2 = " + half,
+			Level:    level,
+			Warnings: smallGroupWarning(in.Groups, r.Counts, stats.ChiSquareSmallGroup, "the chi-square approximation of H behind the interval is rough for groups this small (common practice asks for at least 5 per group)"),
+		}
+		es.Interval = iv
+		if kw.N == kw.K {
+			iv.NotComputed = "every group holds one observation (N = k), so the population effect has no estimate"
+			iv.Warnings = nil // about bounds that are not there
+			return es, nil
+		}
+		ei, err := stats.KruskalWallisEffectInterval(kw.H, kw.N, kw.K, level)
+		if err != nil {
+			return nil, err
+		}
+		iv.Noncentrality = &results.Bounds{Low: ei.NoncentralityLow, High: ei.NoncentralityHigh}
+		iv.PopulationEffect = &results.ClippedBounds{Low: ei.Low, High: ei.High, Clipped: ei.Clipped}
+		return es, nil
+	case spec.BootstrapInterval:
+		bs, err := stats.KruskalWallisBootstrap(r, stats.BootstrapOptions{
+			Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: in.Analysis.EffectSize.Resamples,
+			Level: level, Workers: opt.Workers,
+			Progress: opt.progress(in.Analysis.ID, TaskBootstrap),
+		})
+		if err != nil {
+			return nil, err
+		}
+		lo, _ := stats.EpsilonSquared(bs.HLow, kw.N)
+		hi, _ := stats.EpsilonSquared(bs.HHigh, kw.N)
+		iv := &results.EffectInterval{
+			Method: results.IntervalBootstrap,
+			Description: "percentile bootstrap of H, resampling within groups, mapped to each statistic; H is never negative, " +
+				"so this interval rarely contains 0 even when the groups do not differ",
+			Level:          level,
+			EpsilonSquared: &results.Bounds{Low: lo, High: hi},
+			Resamples:      strconv.FormatInt(bs.Resamples, 10),
+			Degenerate:     strconv.FormatInt(bs.Degenerate, 10),
+			Stream:         fmt.Sprintf("purpose %q, blocks of %d resamples", stats.BootstrapPurpose, stats.BootstrapBlockSize),
+			Warnings: smallGroupWarning(in.Groups, r.Counts, stats.BootstrapSmallGroup, "resampling within a group of n values gives at most C(2n - 1, n) "+
+				"different resamples (1, 3, 10, 35 for n = 1 to 4; a single value never varies), so the percentile interval "+
+				"reflects those few resamples rather than the spread of H, and need not even contain the estimate"),
+		}
+		if es.EtaSquaredH != nil {
+			lo, _ := stats.EtaSquaredH(bs.HLow, kw.N, kw.K)
+			hi, _ := stats.EtaSquaredH(bs.HHigh, kw.N, kw.K)
+			iv.EtaSquaredH = &results.Bounds{Low: lo, High: hi}
+		}
+		es.Interval = iv
+		return es, nil
+	default:
+		return nil, fmt.Errorf("effect-size interval %q has no implementation", m)
 	}
-	bs, err := stats.KruskalWallisBootstrap(r, stats.BootstrapOptions{
-		Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: m,
-		Level: in.Analysis.EffectSize.Level, Workers: opt.Workers,
-		Progress: opt.progress(in.Analysis.ID, TaskBootstrap),
-	})
-	if err != nil {
-		return nil, err
+}
+
+// smallGroupWarning returns a one-sentence warning naming the groups with fewer than least
+// observations, followed by why, or nil when there are none.
+func smallGroupWarning(names []string, counts []int, least int, why string) []string {
+	var small []string
+	for i, n := range counts {
+		if n < least {
+			small = append(small, fmt.Sprintf("%q (n = %d)", names[i], n))
+		}
 	}
-	lo, _ := stats.EpsilonSquared(bs.HLow, kw.N)
-	hi, _ := stats.EpsilonSquared(bs.HHigh, kw.N)
-	es.Bootstrap = &results.Bootstrap{
-		Method:         "percentile bootstrap of H, resampling within groups",
-		Resamples:      strconv.FormatInt(bs.Resamples, 10),
-		Degenerate:     strconv.FormatInt(bs.Degenerate, 10),
-		Stream:         fmt.Sprintf("purpose %q, blocks of %d resamples", stats.BootstrapPurpose, stats.BootstrapBlockSize),
-		EpsilonSquared: results.Interval{Level: bs.Level, Low: lo, High: hi},
+	if len(small) == 0 {
+		return nil
 	}
-	if es.EtaSquaredH != nil {
-		lo, _ := stats.EtaSquaredH(bs.HLow, kw.N, kw.K)
-		hi, _ := stats.EtaSquaredH(bs.HHigh, kw.N, kw.K)
-		es.Bootstrap.EtaSquaredH = &results.Interval{Level: bs.Level, Low: lo, High: hi}
+	verb := "has"
+	if len(small) > 1 {
+		verb = "have"
 	}
-	return es, nil
+	return []string{fmt.Sprintf("%s %s fewer than %d observations: %s", strings.Join(small, ", "), verb, least, why)}
 }

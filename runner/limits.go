@@ -100,7 +100,7 @@ func (prep *Prepared) CheckWork(ctx context.Context) error {
 		if m := a.PValue.Resamples; monteCarlo && m*n > MaxResampleDraws {
 			errs = append(errs, tooManyDraws(p, at+".pvalue.resamples", "Monte Carlo", m, n))
 		}
-		if m := *a.EffectSize.Resamples; m*n > MaxResampleDraws {
+		if m := a.EffectSize.Resamples; a.EffectSize.Interval == spec.BootstrapInterval && m*n > MaxResampleDraws {
 			errs = append(errs, tooManyDraws(p, at+".effect_size.resamples", "bootstrap", m, n))
 		}
 	}

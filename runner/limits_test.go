@@ -41,19 +41,19 @@ func TestWorkLimits(t *testing.T) {
 	for _, tc := range []struct {
 		name, pvalue, effect, posthoc, csv, want string
 	}{
-		{"groups at the limit", "{method: asymptotic}", "{resamples: 0}", "", groupsCSV(MaxGroups), ""},
-		{"groups over the limit", "{method: asymptotic}", "{resamples: 0}", "", groupsCSV(MaxGroups + 1),
+		{"groups at the limit", "{method: asymptotic}", "{interval: none}", "", groupsCSV(MaxGroups), ""},
+		{"groups over the limit", "{method: asymptotic}", "{interval: none}", "", groupsCSV(MaxGroups + 1),
 			`plan.yaml:6:10: data.group: column "g" of ` + "%s" + ` holds 1001 groups, more than the limit of 1000 for an analysis; name the groups to analyse in groups.include`},
-		{"post-hoc groups at the limit", "{method: asymptotic}", "{resamples: 0}", dunn, groupsCSV(MaxPostHocGroups), ""},
-		{"post-hoc groups over the limit", "{method: asymptotic}", "{resamples: 0}", dunn, groupsCSV(MaxPostHocGroups + 1),
+		{"post-hoc groups at the limit", "{method: asymptotic}", "{interval: none}", dunn, groupsCSV(MaxPostHocGroups), ""},
+		{"post-hoc groups over the limit", "{method: asymptotic}", "{interval: none}", dunn, groupsCSV(MaxPostHocGroups + 1),
 			"plan.yaml:15:23: analyses[0].posthoc.method: post-hoc comparisons of 101 groups (5050 pairs) exceed the limit of 100 groups; choose fewer groups with groups.include, or set posthoc.method to none"},
 		// 10^4 observations × 10^7 resamples = 10^11 draws exactly.
-		{"Monte Carlo draws at the limit", "{method: permutation, resamples: 10000000}", "{resamples: 0}", "", rowsCSV(10000), ""},
-		{"Monte Carlo draws over the limit", "{method: permutation, resamples: 10000000}", "{resamples: 0}", "", rowsCSV(10001),
+		{"Monte Carlo draws at the limit", "{method: permutation, resamples: 10000000}", "{interval: none}", "", rowsCSV(10000), ""},
+		{"Monte Carlo draws over the limit", "{method: permutation, resamples: 10000000}", "{interval: none}", "", rowsCSV(10001),
 			"plan.yaml:13:46: analyses[0].pvalue.resamples: 10000000 Monte Carlo resamples of 10001 observations are 100010000000 draws, more than the limit of 100000000000 for one analysis; use at most 9999000 resamples"},
-		{"default bootstrap resamples", "{method: asymptotic}", "", "", rowsCSV(50000), ""}, // 2000 × 50000 = 10^8
-		{"bootstrap draws over the limit", "{method: asymptotic}", "{resamples: 1000000}", "", rowsCSV(100001),
-			"plan.yaml:14:30: analyses[0].effect_size.resamples: 1000000 bootstrap resamples of 100001 observations are 100001000000 draws, more than the limit of 100000000000 for one analysis; use at most 999990 resamples"},
+		{"default effect-size interval (no resamples)", "{method: asymptotic}", "", "", rowsCSV(50000), ""},
+		{"bootstrap draws over the limit", "{method: asymptotic}", "{interval: bootstrap, resamples: 1000000}", "", rowsCSV(100001),
+			"plan.yaml:14:51: analyses[0].effect_size.resamples: 1000000 bootstrap resamples of 100001 observations are 100001000000 draws, more than the limit of 100000000000 for one analysis; use at most 999990 resamples"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			extra := ""
@@ -108,7 +108,7 @@ func methodPlanWith(t *testing.T, pvalue, effect, extra, csv string) *spec.Plan 
 // TestCheckWorkKeepsExact checks that the exact p-value CheckWork computes is the one
 // Execute reports, and that Execute computes the same without CheckWork.
 func TestCheckWorkKeepsExact(t *testing.T) {
-	p := methodPlan(t, "{method: exact}", "{resamples: 0}", tiedToy)
+	p := methodPlan(t, "{method: exact}", "{interval: none}", tiedToy)
 	prep, err := Prepare(p)
 	if err != nil {
 		t.Fatal(err)
@@ -123,7 +123,7 @@ func TestCheckWorkKeepsExact(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	fresh := runAll(t, methodPlan(t, "{method: exact}", "{resamples: 0}", tiedToy))
+	fresh := runAll(t, methodPlan(t, "{method: exact}", "{interval: none}", tiedToy))
 	if !reflect.DeepEqual(checked.Analyses[0].PValue, fresh.Analyses[0].PValue) {
 		t.Errorf("p-value after CheckWork %+v, without %+v", checked.Analyses[0].PValue, fresh.Analyses[0].PValue)
 	}

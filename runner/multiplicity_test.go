@@ -49,14 +49,14 @@ groups: {order: [placebo, low, high]}
 alpha: 0.05
 seed: 7
 analyses:
-  - {id: itch, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {resamples: 0}}
+  - {id: itch, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {interval: none}}
   - id: redness
     outcome: redness
     test: kruskal-wallis
     pvalue: {method: asymptotic}
-    effect_size: {resamples: 0}
+    effect_size: {interval: none}
     posthoc: {method: dunn, adjust: holm}
-  - {id: sleep, outcome: sleep, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {resamples: 0}}
+  - {id: sleep, outcome: sleep, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {interval: none}}
 ` + extra + multiplicity
 	path := filepath.Join(t.TempDir(), "plan.yaml")
 	if err := os.WriteFile(path, []byte(src), 0o644); err != nil {
@@ -197,9 +197,9 @@ func TestMultiplicityNotComputable(t *testing.T) {
 // stats.kruskal on each site's rows (reference.json), and the rows left out.
 func TestSubsets(t *testing.T) {
 	ref := loadEndpointsRef(t)
-	p := endpointsPlan(t, `  - {id: itch-north, subset: {column: site, values: [north]}, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {resamples: 0}}
-  - {id: itch-south, subset: {column: site, values: [south]}, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {resamples: 0}}
-  - {id: itch-both, subset: {column: site, values: [south, north]}, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {resamples: 0}}
+	p := endpointsPlan(t, `  - {id: itch-north, subset: {column: site, values: [north]}, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {interval: none}}
+  - {id: itch-south, subset: {column: site, values: [south]}, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {interval: none}}
+  - {id: itch-both, subset: {column: site, values: [south, north]}, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {interval: none}}
 `, "")
 	res := runAll(t, p)
 	for i, want := range []struct{ H, P float64 }{ref.North[0], ref.South[0], ref.AllSites[0]} {

@@ -26,7 +26,7 @@ func noEnv(string) string { return "" }
 // newRun writes the tied toy plan (exact p) into a folder and runs it.
 func newRun(t *testing.T, opt RunOptions) (planPath string, rec *RunRecord) {
 	t.Helper()
-	p := methodPlan(t, "{method: permutation, resamples: 3000}", "{resamples: 200}", tiedToy)
+	p := methodPlan(t, "{method: permutation, resamples: 3000}", "{interval: bootstrap, resamples: 200}", tiedToy)
 	planPath = p.File
 	if opt.Out == "" {
 		opt.Out = filepath.Join(t.TempDir(), "run")
@@ -229,7 +229,7 @@ func TestVerifyDrift(t *testing.T) {
 }
 
 func TestLockAndDeviation(t *testing.T) {
-	p := methodPlan(t, "{method: exact}", "{resamples: 0}", tiedToy)
+	p := methodPlan(t, "{method: exact}", "{interval: none}", tiedToy)
 	lock := filepath.Join(t.TempDir(), "plan.lock.json")
 	if _, err := LockPlan(p.File, lock, audit.Actor{User: "t"}, time.Now()); err != nil {
 		t.Fatal(err)
@@ -388,7 +388,7 @@ func TestRunLargeGroups(t *testing.T) {
 	for i := range 3 * (maxPlotPoints + 201) {
 		fmt.Fprintf(&csv, "%c,%d\n", 'A'+i%3, (i*7919)%1000+i%3*40)
 	}
-	p := methodPlan(t, "{method: asymptotic}", "{resamples: 50}", csv.String())
+	p := methodPlan(t, "{method: asymptotic}", "{interval: bootstrap, resamples: 50}", csv.String())
 	rec, err := Run(context.Background(), p.File, RunOptions{Out: filepath.Join(t.TempDir(), "run"), Now: clock(), Getenv: noEnv})
 	if err != nil {
 		t.Fatal(err)

@@ -292,17 +292,17 @@ func methodPlan(t *testing.T, pvalue, effect, csv string) *spec.Plan {
 const tiedToy = "g,y\nA,1\nA,2\nA,2\nA,3\nB,2\nB,3\nB,3\nB,4\nC,3\nC,4\nC,5\nC,5\n"
 
 func TestPValueMethods(t *testing.T) {
-	exact := runAll(t, methodPlan(t, "{method: exact}", "{resamples: 0}", tiedToy)).Analyses[0]
+	exact := runAll(t, methodPlan(t, "{method: exact}", "{interval: none}", tiedToy)).Analyses[0]
 	if exact.PValue.Method != "exact" || math.Abs(*exact.PValue.Value-47.0/1925) > 1e-13 || exact.PValue.Exact == nil ||
-		exact.EffectSizes.Bootstrap != nil {
+		exact.EffectSizes.Interval != nil {
 		t.Errorf("exact: %+v", exact.PValue)
 	}
-	auto := runAll(t, methodPlan(t, "{method: auto, resamples: 1000}", "{resamples: 0}", tiedToy)).Analyses[0]
+	auto := runAll(t, methodPlan(t, "{method: auto, resamples: 1000}", "{interval: none}", tiedToy)).Analyses[0]
 	if auto.PValue.Method != "exact" || auto.PValue.Requested != "auto" || *auto.PValue.Value != *exact.PValue.Value ||
 		!strings.Contains(auto.PValue.Reason, "fits the work budget") {
 		t.Errorf("auto: %+v", auto.PValue)
 	}
-	mc := runAll(t, methodPlan(t, "{method: permutation, resamples: 20000}", "{resamples: 0}", tiedToy)).Analyses[0]
+	mc := runAll(t, methodPlan(t, "{method: permutation, resamples: 20000}", "{interval: none}", tiedToy)).Analyses[0]
 	m := mc.PValue.MonteCarlo
 	if mc.PValue.Method != "permutation" || m == nil || m.Resamples != "20000" || !(m.CI.Low <= 47.0/1925 && 47.0/1925 <= m.CI.High) {
 		t.Errorf("permutation: %+v %+v", mc.PValue, m)
@@ -324,11 +324,11 @@ func TestAutoFallsBack(t *testing.T) {
 	for i := 0; i < 160; i++ {
 		fmt.Fprintf(&b, "G%d,%d\n", i%4, (i*7919)%1000)
 	}
-	auto := runAll(t, methodPlan(t, "{method: auto, resamples: 500}", "{resamples: 0}", b.String())).Analyses[0]
+	auto := runAll(t, methodPlan(t, "{method: auto, resamples: 500}", "{interval: none}", b.String())).Analyses[0]
 	if auto.PValue.Method != "permutation" || !strings.Contains(auto.PValue.Reason, "does not fit the work budget") {
 		t.Errorf("auto: %+v", auto.PValue)
 	}
-	prep, err := Prepare(methodPlan(t, "{method: exact}", "{resamples: 0}", b.String()))
+	prep, err := Prepare(methodPlan(t, "{method: exact}", "{interval: none}", b.String()))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -342,7 +342,7 @@ func TestAutoFallsBack(t *testing.T) {
 // TestWorkersDoNotChangeResults: the same plan gives the same results.json bytes for any
 // number of workers (Monte Carlo and bootstrap both resample).
 func TestWorkersDoNotChangeResults(t *testing.T) {
-	p := methodPlan(t, "{method: permutation, resamples: 9000}", "{resamples: 700}", tiedToy)
+	p := methodPlan(t, "{method: permutation, resamples: 9000}", "{interval: bootstrap, resamples: 700}", tiedToy)
 	prep, err := Prepare(p)
 	if err != nil {
 		t.Fatal(err)
@@ -377,18 +377,22 @@ func TestMethodInvariance(t *testing.T) {
 		reordered += lines[i] + "\n"
 	}
 	for _, pv := range []string{"{method: exact}", "{method: permutation, resamples: 5000}"} {
-		base := runAll(t, methodPlan(t, pv, "{resamples: 300}", tiedToy)).Analyses[0]
+		base := runAll(t, methodPlan(t, pv, "{interval: bootstrap, resamples: 300}", tiedToy)).Analyses[0]
 		for name, csv := range map[string]string{"transformed": transformed, "renamed": renamed, "reordered": reordered} {
-			got := runAll(t, methodPlan(t, pv, "{resamples: 300}", csv)).Analyses[0]
+			got := runAll(t, methodPlan(t, pv, "{interval: bootstrap, resamples: 300}", csv)).Analyses[0]
 			if *got.KruskalWallis != *base.KruskalWallis || *got.AsymptoticP.Value != *base.AsymptoticP.Value {
 				t.Errorf("%s %s: H or asymptotic p changed", pv, name)
 			}
-			if !reflect.DeepEqual(got.EffectSizes, base.EffectSizes) {
+			// The warnings name the groups (renamed here); everything else must stay.
+			gw, bw := got.EffectSizes.Interval.Warnings, base.EffectSizes.Interval.Warnings
+			got.EffectSizes.Interval.Warnings, base.EffectSizes.Interval.Warnings = nil, nil
+			if !reflect.DeepEqual(got.EffectSizes, base.EffectSizes) || len(gw) != 1 || len(bw) != 1 {
 				// The bootstrap draws from each group's sorted values, so it does not depend
 				// on row order, and its H* values do not change under increasing transforms
 				// or renaming.
-				t.Errorf("%s %s: effect sizes changed: %+v vs %+v", pv, name, got.EffectSizes.Bootstrap, base.EffectSizes.Bootstrap)
+				t.Errorf("%s %s: effect sizes changed: %+v vs %+v", pv, name, got.EffectSizes.Interval, base.EffectSizes.Interval)
 			}
+			base.EffectSizes.Interval.Warnings = bw
 			if name == "reordered" && strings.Contains(pv, "permutation") {
 				// Row order changes which labels the stream shuffles, so the Monte Carlo
 				// estimate may move, within its Monte Carlo error.
@@ -413,7 +417,7 @@ func TestPostHoc(t *testing.T) {
 	dir := t.TempDir()
 	os.WriteFile(filepath.Join(dir, "data.csv"), []byte(csv), 0o644)
 	src := planHead + "alpha: 0.05\nseed: 1\nanalyses:\n  - id: a\n    test: kruskal-wallis\n    pvalue: {method: asymptotic}\n" +
-		"    effect_size: {resamples: 0}\n    posthoc: {method: dunn, adjust: holm}\n"
+		"    effect_size: {interval: none}\n    posthoc: {method: dunn, adjust: holm}\n"
 	os.WriteFile(filepath.Join(dir, "plan.yaml"), []byte(src), 0o644)
 	p, err := spec.Load(filepath.Join(dir, "plan.yaml"))
 	if err != nil {
@@ -442,7 +446,7 @@ func TestPostHoc(t *testing.T) {
 		t.Errorf("letters %v", letters)
 	}
 	// Gating: on the tied toy data at alpha 0.01 the omnibus test does not reject.
-	p2 := methodPlan(t, "{method: asymptotic}", "{resamples: 0}", tiedToy)
+	p2 := methodPlan(t, "{method: asymptotic}", "{interval: none}", tiedToy)
 	p2.Alpha = 0.01
 	p2.Analyses[0].PostHoc = spec.PostHocPlan{Method: spec.Conover, Adjust: spec.Holm, When: "significant"}
 	ph2 := runAll(t, p2).Analyses[0].PostHoc
@@ -470,7 +474,7 @@ func TestSimultaneousPostHoc(t *testing.T) {
 		{spec.Nemenyi, "q", []float64{0.503088, 0.209259, 0.0138549}},
 		{spec.DSCF, "-W*", []float64{0.382106, 0.141586, 0.0274497}},
 	} {
-		p := methodPlan(t, "{method: asymptotic}", "{resamples: 0}", csv)
+		p := methodPlan(t, "{method: asymptotic}", "{interval: none}", csv)
 		p.Analyses[0].PostHoc = spec.PostHocPlan{Method: tc.method, Adjust: spec.NoAdjustment, When: "always"}
 		ph := runAll(t, p).Analyses[0].PostHoc
 		if ph.Statistic != tc.stat || !strings.Contains(ph.Simultaneous, "simultaneous by construction") || len(ph.Pairs) != 3 {
@@ -485,7 +489,7 @@ func TestSimultaneousPostHoc(t *testing.T) {
 			t.Errorf("nemenyi note %q", ph.Note)
 		}
 	}
-	p := methodPlan(t, "{method: asymptotic}", "{resamples: 0}", tiedToy+"A,9\n")
+	p := methodPlan(t, "{method: asymptotic}", "{interval: none}", tiedToy+"A,9\n")
 	p.Analyses[0].PostHoc = spec.PostHocPlan{Method: spec.Nemenyi, Adjust: spec.NoAdjustment, When: "always"}
 	if ph := runAll(t, p).Analyses[0].PostHoc; !strings.HasPrefix(ph.Note, "unequal group sizes") {
 		t.Errorf("unequal sizes note %q", ph.Note)
@@ -504,4 +508,80 @@ func plantGrowthCSV() string {
 		}
 	}
 	return csv
+}
+
+// TestEffectIntervalCreamTrial runs examples/cream-trial: its sleep analysis does not
+// reject (permutation p = 0.354, asymptotic p = 0.347, both from the example's golden
+// results), so its noncentral interval of the population effect must contain 0, as the
+// test says; the same data with the plan switched to the percentile bootstrap give an
+// interval that leaves 0 out, as the bootstrap of a statistic that is never negative does.
+func TestEffectIntervalCreamTrial(t *testing.T) {
+	p, err := spec.Load("../examples/cream-trial/plan.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The sleep analysis alone (the others take the exact distribution's time).
+	for _, a := range p.Analyses {
+		if a.ID == "sleep" {
+			p.Analyses, p.Multiplicity = []spec.Analysis{a}, nil
+		}
+	}
+	a := runAll(t, p).Analyses[0]
+	if a.ID != "sleep" || math.Abs(*a.PValue.Value-0.354) > 0.01 || math.Abs(*a.AsymptoticP.Value-0.34744) > 5e-6 {
+		t.Fatalf("sleep p %v, asymptotic %v", *a.PValue.Value, *a.AsymptoticP.Value)
+	}
+	iv := a.EffectSizes.Interval
+	if iv == nil || iv.Method != results.IntervalNoncentral || iv.PopulationEffect == nil || iv.PopulationEffect.Low != 0 ||
+		iv.Noncentrality.Low != 0 || !(iv.PopulationEffect.High > a.EffectSizes.EpsilonSquared) || iv.Level != 0.95 || iv.Warnings != nil {
+		t.Errorf("sleep interval %+v", iv)
+	}
+	p.Analyses[0].EffectSize.Interval, p.Analyses[0].EffectSize.Resamples = spec.BootstrapInterval, 1000
+	p.Analyses[0].PValue = spec.PValue{Method: spec.Asymptotic}
+	b := runAll(t, p).Analyses[0].EffectSizes.Interval
+	if b == nil || b.Method != results.IntervalBootstrap || !(b.EpsilonSquared.Low > 0) {
+		t.Errorf("sleep bootstrap interval %+v", b)
+	}
+}
+
+// TestEffectIntervalMethods: the plan's effect_size.interval picks the interval, and small
+// groups bring warnings that name them: with a group of one observation, the bootstrap's
+// (whose resamples of that group never vary) and the chi-square approximation's. With one
+// observation per group the noncentral interval says why it has no bounds. The mean-rank
+// interval of a single top value among nine is cut at 9 and flagged, that of the four
+// ranks 5..8 (mean 6.5, half-width 2.0) at 9 − 3/2, that of the ranks 1..4 at 5/2.
+func TestEffectIntervalMethods(t *testing.T) {
+	oneTop := "g,y\nA,1\nA,2\nA,3\nA,4\nB,5\nB,6\nB,7\nB,8\nC,9\n"
+	for _, tc := range []struct {
+		name, effect, csv string
+		check             func(a results.Analysis) bool
+	}{
+		{"none", "{interval: none}", tiedToy, func(a results.Analysis) bool { return a.EffectSizes.Interval == nil }},
+		{"default", "", tiedToy, func(a results.Analysis) bool {
+			iv := a.EffectSizes.Interval
+			return iv.Method == "noncentral" && iv.PopulationEffect != nil && len(iv.Warnings) == 1 &&
+				strings.HasPrefix(iv.Warnings[0], `"A" (n = 4), "B" (n = 4), "C" (n = 4) have fewer than 5 observations: the chi-square approximation`)
+		}},
+		{"bootstrap, n = 1", "{interval: bootstrap, resamples: 500}", oneTop, func(a results.Analysis) bool {
+			iv := a.EffectSizes.Interval
+			return iv.Method == "bootstrap" && iv.Resamples == "500" && iv.EpsilonSquared != nil && iv.EtaSquaredH != nil &&
+				len(iv.Warnings) == 1 && strings.HasPrefix(iv.Warnings[0], `"A" (n = 4), "B" (n = 4), "C" (n = 1) have fewer than 5 observations: resampling within a group`)
+		}},
+		{"noncentral, n = 1", "{interval: noncentral}", oneTop, func(a results.Analysis) bool {
+			iv := a.EffectSizes.Interval
+			mr := a.Groups[2].MeanRankInterval
+			return iv.PopulationEffect != nil && iv.PopulationEffect.Low >= 0 && iv.PopulationEffect.High <= 1 &&
+				mr.Clipped && mr.High == 9 && mr.Low > 1 && a.Groups[1].MeanRankInterval.High == 7.5 &&
+				a.Groups[0].MeanRankInterval.Low == 2.5 && a.Groups[0].MeanRankInterval.Clipped
+		}},
+		{"N = k", "{interval: noncentral}", "g,y\nA,1\nB,2\nC,3\n", func(a results.Analysis) bool {
+			iv := a.EffectSizes.Interval
+			return iv.NotComputed != "" && iv.PopulationEffect == nil && iv.Noncentrality == nil && a.EffectSizes.EtaSquaredH == nil &&
+				iv.Warnings == nil
+		}},
+	} {
+		a := runAll(t, methodPlan(t, "{method: asymptotic}", tc.effect, tc.csv)).Analyses[0]
+		if !tc.check(a) {
+			t.Errorf("%s: %+v; groups %+v", tc.name, a.EffectSizes.Interval, a.Groups)
+		}
+	}
 }

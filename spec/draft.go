@@ -72,6 +72,9 @@ func (d Draft) YAML() []byte {
 	} else {
 		p("      # resamples: 100000  # Monte Carlo resamples (permutation, auto)\n")
 	}
+	p("    effect_size:\n")
+	p("      interval: %s  # noncentral | bootstrap (then also resamples: 2000) | none\n", DefaultEffectInterval)
+	p("      level: %s  # confidence level of the interval\n", strconv.FormatFloat(DefaultEffectLevel, 'g', -1, 64))
 	p("    posthoc:\n")
 	p("      method: %s  # none | dunn | conover | dscf | nemenyi | rank-sum\n", d.PostHoc)
 	p("      adjust: %s  # none | bonferroni | sidak | holm | hochberg | hommel | bh | by\n", d.Adjust)

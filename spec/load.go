@@ -158,6 +158,22 @@ func (p *Plan) check() ErrorList {
 				add(at+".pvalue.resamples", "applies only to the methods permutation and auto, not %q", m)
 			}
 		}
+		switch es := a.EffectSize; {
+		case es.Resamples == 0 && p.Has(at+".effect_size.resamples"):
+			add(at+".effect_size.resamples", "0 resamples make no interval; for the estimates alone set effect_size.interval: none and remove resamples")
+		case es.Interval == BootstrapInterval:
+			if es.Resamples == 0 {
+				add(at+".effect_size", "interval %q needs resamples, the number of bootstrap resamples (e.g. 2000)", es.Interval)
+			}
+		default:
+			if es.Resamples != 0 {
+				which := fmt.Sprintf("%q", es.Interval)
+				if !p.Has(at + ".effect_size.interval") {
+					which += " (the default)"
+				}
+				add(at+".effect_size.resamples", "applies only to effect_size.interval \"bootstrap\", not %s, which draws no resamples; remove resamples, or set effect_size.interval: bootstrap to keep a percentile bootstrap", which)
+			}
+		}
 		ph := a.PostHoc
 		if ph.Method == NoPostHoc {
 			if ph.Adjust != NoAdjustment {

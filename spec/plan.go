@@ -163,16 +163,32 @@ type Multiplicity struct {
 	Analyses []string `json:"analyses"`
 }
 
+// IntervalMethod names how the interval of the omnibus effect sizes is computed.
+type IntervalMethod string
+
+// The effect-size intervals a plan can name.
+const (
+	// NoncentralInterval inverts the noncentral chi-square approximation of H: an interval
+	// of the population effect that agrees with the asymptotic test (the default).
+	NoncentralInterval IntervalMethod = "noncentral"
+	// BootstrapInterval is the percentile bootstrap of H, resampling within groups; it needs
+	// resamples. Kept for plans that registered it.
+	BootstrapInterval IntervalMethod = "bootstrap"
+	// NoInterval reports the estimates alone.
+	NoInterval IntervalMethod = "none"
+)
+
 // EffectSize is how an analysis reports its omnibus effect sizes.
 type EffectSize struct {
-	Level     float64 `json:"level"`     // confidence level of the intervals; default 0.95
-	Resamples *int64  `json:"resamples"` // bootstrap resamples; 0: no intervals; default 2000
+	Level     float64        `json:"level"`               // confidence level of the intervals; default 0.95
+	Interval  IntervalMethod `json:"interval"`            // default noncentral
+	Resamples int64          `json:"resamples,omitempty"` // bootstrap resamples, with interval bootstrap only
 }
 
 // Default effect-size settings (part of plan format 1).
 const (
-	DefaultEffectLevel     = 0.95
-	DefaultEffectResamples = 2000
+	DefaultEffectLevel    = 0.95
+	DefaultEffectInterval = NoncentralInterval
 )
 
 // PValue is how an analysis computes its omnibus p-value.
@@ -249,9 +265,8 @@ func (p *Plan) applyDefaults() {
 		if a.EffectSize.Level == 0 {
 			a.EffectSize.Level = DefaultEffectLevel
 		}
-		if a.EffectSize.Resamples == nil {
-			n := int64(DefaultEffectResamples)
-			a.EffectSize.Resamples = &n
+		if a.EffectSize.Interval == "" {
+			a.EffectSize.Interval = DefaultEffectInterval
 		}
 		if a.PostHoc.Method == "" {
 			a.PostHoc.Method = NoPostHoc

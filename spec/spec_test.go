@@ -53,7 +53,7 @@ func TestParseGood(t *testing.T) {
 	}
 	a := p.Analyses[0]
 	if a.Outcome != "y" || a.PostHoc.Method != NoPostHoc || a.PostHoc.Adjust != NoAdjustment ||
-		a.EffectSize.Level != 0.95 || *a.EffectSize.Resamples != 2000 {
+		a.EffectSize.Level != 0.95 || a.EffectSize.Interval != NoncentralInterval || a.EffectSize.Resamples != 0 {
 		t.Errorf("analysis defaults: %+v", a)
 	}
 	if p.Seed != 42 || p.Alpha != 0.05 {
@@ -153,6 +153,20 @@ func TestParseErrors(t *testing.T) {
 			[]string{`plan.yaml:15:18: analyses[0].pvalue.resamples: applies only to the methods permutation and auto, not "exact"`}},
 		{"effect level", goodPlan + "    effect_size: {level: 95}\n",
 			[]string{"plan.yaml:15:26: analyses[0].effect_size.level: expected a value > 0 and < 1; found 95"}},
+		{"effect resamples with the default interval", goodPlan + "    effect_size: {resamples: 2000}\n",
+			[]string{`plan.yaml:15:30: analyses[0].effect_size.resamples: applies only to effect_size.interval "bootstrap", not "noncentral" (the default), which draws no resamples; remove resamples, or set effect_size.interval: bootstrap to keep a percentile bootstrap`}},
+		{"effect resamples with noncentral", goodPlan + "    effect_size: {interval: noncentral, resamples: 2000}\n",
+			[]string{`plan.yaml:15:52: analyses[0].effect_size.resamples: applies only to effect_size.interval "bootstrap", not "noncentral", which draws no resamples; remove resamples, or set effect_size.interval: bootstrap to keep a percentile bootstrap`}},
+		{"effect resamples with none", goodPlan + "    effect_size: {interval: none, resamples: 10}\n",
+			[]string{`plan.yaml:15:46: analyses[0].effect_size.resamples: applies only to effect_size.interval "bootstrap", not "none", which draws no resamples; remove resamples, or set effect_size.interval: bootstrap to keep a percentile bootstrap`}},
+		{"bootstrap without resamples", goodPlan + "    effect_size: {interval: bootstrap}\n",
+			[]string{`plan.yaml:15:5: analyses[0].effect_size: interval "bootstrap" needs resamples, the number of bootstrap resamples (e.g. 2000)`}},
+		{"effect resamples 0", goodPlan + "    effect_size: {interval: bootstrap, resamples: 0}\n",
+			[]string{"plan.yaml:15:51: analyses[0].effect_size.resamples: 0 resamples make no interval; for the estimates alone set effect_size.interval: none and remove resamples"}},
+		{"effect resamples 0 with the default interval", goodPlan + "    effect_size: {resamples: 0}\n",
+			[]string{"plan.yaml:15:30: analyses[0].effect_size.resamples: 0 resamples make no interval; for the estimates alone set effect_size.interval: none and remove resamples"}},
+		{"effect interval unknown", goodPlan + "    effect_size: {interval: percentile}\n",
+			[]string{`plan.yaml:15:29: analyses[0].effect_size.interval: expected one of "noncentral", "bootstrap", "none"; found the text "percentile"`}},
 		{"not implemented test", edit(t, "test: kruskal-wallis", "test: median"),
 			[]string{`plan.yaml:12:11: analyses[0].test: "median" is not implemented yet in this version of rankplan; use "kruskal-wallis"`}},
 		{"adjust without posthoc", goodPlan + "    posthoc: {adjust: holm}\n",

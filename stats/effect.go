@@ -39,6 +39,91 @@ func EtaSquaredH(h float64, n, k int) (float64, error) {
 	return (h - float64(k) + 1) / float64(n-k), nil
 }
 
+// RankEffectInterval is a confidence interval of the population effect ξ² that
+// [EpsilonSquared] and [EtaSquaredH] estimate (see [KruskalWallisEffectInterval]).
+type RankEffectInterval struct {
+	Level float64
+	// NoncentralityLow and NoncentralityHigh bound the noncentrality λ of the chi-square
+	// approximation of H* ([NoncentralityInterval] at x = H*, df = k − 1).
+	NoncentralityLow, NoncentralityHigh float64
+	// Low and High bound ξ² = λ/(N − k), each cut to [0, 1].
+	Low, High float64
+	// Clipped is true when λ/(N − k) fell outside [0, 1] at either end and was cut.
+	Clipped bool
+}
+
+// KruskalWallisEffectInterval returns a confidence interval at the level for the
+// population effect that epsilon-squared and eta-squared(H) estimate,
+//
+//	ξ² = Σ_i p_i (θ_i − 1/2)² / τ²,
+//
+// with p_i = n_i/N the design's group shares, Y drawn from the pooled mixture Σ_i p_i F_i,
+// G(y) = P(Y < y) + ½P(Y = y) its mid-distribution function, θ_i = E G(X_i) for X_i from
+// group i (the relative effect of group i against the pool) and τ² = Var G(Y), which is
+// 1/12 without ties. Since E G(Y) = 1/2, ξ² is the share of the variance of G(Y) that lies
+// between the groups (law of total variance), so it lies in [0, 1] and is 0 when every
+// group has the pooled distribution's relative effect 1/2, as when all groups have one
+// distribution. It is the population value of epsilon-squared, the share of the rank sum of
+// squares between groups: E R̄_i = Nθ_i + 1/2 exactly, and the pooled rank variance is
+// N²τ² to first order.
+//
+// Under alternatives near no effect, H* is approximately noncentral chi-square with k − 1
+// degrees of freedom (Andrews 1954, Annals of Mathematical Statistics 25:724-736, recalled
+// from memory), with noncentrality proportional to N ξ². Matching the mean of that
+// approximation, k − 1 + λ, with the mean of H*, which to first order in 1/N is
+// k − 1 + (N − k)ξ² (a seeded simulation in the tests agrees within 3% for ξ² up to 0.75),
+// gives the mapping used here,
+//
+//	λ = (N − k) ξ²,   ξ² = λ/(N − k),
+//
+// under which eta-squared(H) = (H* − k + 1)/(N − k) is the moment estimator of ξ², and
+// epsilon-squared = H*/(N − 1) overestimates it by about (k − 1)(1 − ξ²)/(N − 1). The
+// interval of λ is [NoncentralityInterval] at x = H*, df = k − 1 (Steiger 2004), and its
+// ends are divided by N − k and cut to [0, 1], the range of ξ² (Clipped says so). It
+// contains 0 exactly when the chi-square test does not reject at (1 − level)/2; so it
+// agrees with the asymptotic test at alpha when level = 1 − 2·alpha (Steiger 2004 for the
+// F test). It is [0, 0] when H* lies below the (1 − level)/2 quantile of the central
+// chi-square. Since the approximation's variance grows with λ faster than that of H*, which
+// cannot exceed N − 1, the interval is conservative for large effects (see the coverage
+// test).
+//
+// N must exceed k (with one observation per group ξ² has no estimate), k be at least 2, H*
+// finite and not negative, and level in (0, 1).
+func KruskalWallisEffectInterval(hStar float64, n, k int, level float64) (RankEffectInterval, error) {
+	if k < 2 || n <= k || !(hStar >= 0 && hStar <= math.MaxFloat64) {
+		return RankEffectInterval{}, fmt.Errorf("effect interval: need N > k >= 2 and a finite H >= 0, got N = %d, k = %d, H = %v", n, k, hStar)
+	}
+	lo, hi, err := NoncentralityInterval(hStar, float64(k-1), level)
+	if err != nil {
+		return RankEffectInterval{}, fmt.Errorf("effect interval: %w", err)
+	}
+	out := RankEffectInterval{Level: level, NoncentralityLow: lo, NoncentralityHigh: hi}
+	d := float64(n - k)
+	out.Low, out.High = lo/d, hi/d
+	if out.Low > 1 {
+		out.Low, out.Clipped = 1, true
+	}
+	if out.High > 1 {
+		out.High, out.Clipped = 1, true
+	}
+	return out, nil
+}
+
+// BootstrapSmallGroup is the group size below which [KruskalWallisBootstrap] is flagged as
+// unreliable. Resampling within a group of n values can give only C(2n − 1, n) different
+// multisets: 1, 3, 10 and 35 for n = 1 to 4 (126 at n = 5). A group of one value is the
+// same in every resample, so its sampling variation is left out altogether, and a group of
+// two is a single value repeated in half of the resamples; the percentile interval then
+// reflects the few resamples available rather than the spread of H*, and can even leave
+// out the estimate itself.
+const BootstrapSmallGroup = 5
+
+// ChiSquareSmallGroup is the group size below which the chi-square approximation of H,
+// and so [KruskalWallisEffectInterval], is flagged as rough: common practice asks for at
+// least 5 observations per group before H is referred to the chi-square distribution
+// (Kruskal & Wallis 1952 tabulated exact values for smaller designs; recalled from memory).
+const ChiSquareSmallGroup = 5
+
 // BootstrapBlockSize is the number of bootstrap resamples drawn from one stream block.
 // It is part of the reproducibility contract: changing it changes every interval.
 const BootstrapBlockSize = 256

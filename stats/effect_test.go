@@ -221,3 +221,108 @@ func checkCountingRanks(t *testing.T, name string, groups [][]float64, byGroup b
 		}
 	}
 }
+
+// TestKruskalWallisEffectInterval checks the interval of ξ² = λ/(N − k) against scipy's
+// inversion of its own ncx2 (testdata/reference/ncx2_scipy.json, brentq), on the sleep
+// analysis of examples/cream-trial (H* = 2.114325393362999, N = 60, k = 3, asymptotic
+// p = 0.34744, permutation p = 0.354: the interval must contain 0) and on PlantGrowth
+// (H* = 7.988228749443715, N = 30, k = 3, p = 0.0184 < 0.025: it must not).
+func TestKruskalWallisEffectInterval(t *testing.T) {
+	ref := readNcx2Reference(t)
+	lambda := func(x float64) (lo, hi float64) {
+		for _, c := range ref.Intervals {
+			if c.X == x && c.DF == 2 && c.Level == 0.95 {
+				return c.LamLow, c.LamHigh
+			}
+		}
+		t.Fatalf("no reference interval at x = %v", x)
+		return
+	}
+	for _, tc := range []struct {
+		name     string
+		h        float64
+		n        int
+		contains bool
+	}{
+		{"cream-trial sleep", 2.114325393362999, 60, true},
+		{"PlantGrowth", 7.988228749443715, 30, false},
+	} {
+		got, err := KruskalWallisEffectInterval(tc.h, tc.n, 3, 0.95)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lo, hi := lambda(tc.h)
+		d := float64(tc.n - 3)
+		if relDiff(got.NoncentralityLow, lo) > 1e-10 || relDiff(got.NoncentralityHigh, hi) > 1e-10 ||
+			relDiff(got.Low, lo/d) > 1e-10 || relDiff(got.High, hi/d) > 1e-10 || got.Clipped || got.Level != 0.95 {
+			t.Errorf("%s: %+v, want λ in [%v, %v]", tc.name, got, lo, hi)
+		}
+		if (got.Low == 0) != tc.contains {
+			t.Errorf("%s: [%v, %v], containing 0 should be %v", tc.name, got.Low, got.High, tc.contains)
+		}
+		eta, _ := EtaSquaredH(tc.h, tc.n, 3)
+		if eta > 0 && !(got.Low <= eta && eta <= got.High) {
+			t.Errorf("%s: eta-squared(H) %v outside [%v, %v]", tc.name, eta, got.Low, got.High)
+		}
+	}
+	for _, bad := range []struct {
+		h     float64
+		n, k  int
+		level float64
+	}{{1, 3, 3, 0.95}, {1, 2, 3, 0.95}, {1, 10, 1, 0.95}, {math.NaN(), 10, 3, 0.95}, {-1, 10, 3, 0.95},
+		{math.Inf(1), 10, 3, 0.95}, {1, 10, 3, 1}, {1, 10, 3, 0}} {
+		if _, err := KruskalWallisEffectInterval(bad.h, bad.n, bad.k, bad.level); err == nil {
+			t.Errorf("%+v: no error", bad)
+		}
+	}
+}
+
+// TestEffectIntervalSmallGroups: designs with a group of one observation. The noncentral
+// interval keeps the estimates and stays in [0, 1] (cut, and said so, where λ/(N − k)
+// exceeds 1), while the percentile bootstrap of the same data leaves out its own estimate
+// of epsilon-squared: the resamples of the single value never vary, which is why the
+// results warn about the bootstrap with groups below BootstrapSmallGroup.
+func TestEffectIntervalSmallGroups(t *testing.T) {
+	for _, groups := range [][][]float64{
+		{{10}, {1, 2, 3, 4}, {5, 6, 7, 8, 9}},
+		{{1}, {2, 3, 4, 5, 6, 7, 8, 9}},
+	} {
+		r := bootRanking(t, groups)
+		kw, err := KruskalWallisTest(r)
+		if err != nil {
+			t.Fatal(err)
+		}
+		eps, _ := EpsilonSquared(kw.H, kw.N)
+		eta, _ := EtaSquaredH(kw.H, kw.N, kw.K)
+		ei, err := KruskalWallisEffectInterval(kw.H, kw.N, kw.K, 0.95)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !(ei.Low == 0 && ei.High == 1 && ei.Clipped) || !(ei.NoncentralityHigh > float64(kw.N-kw.K)) {
+			t.Errorf("%v: %+v, want [0, 1] cut from λ/(N − k) above 1", groups, ei)
+		}
+		if !(ei.Low <= eta && eta <= ei.High && ei.Low <= eps && eps <= ei.High) {
+			t.Errorf("%v: estimates %v, %v outside [%v, %v]", groups, eps, eta, ei.Low, ei.High)
+		}
+		b, err := KruskalWallisBootstrap(r, BootstrapOptions{Seed: 1, AnalysisID: "a", Resamples: 2000, Level: 0.95})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if lo := b.HLow / float64(kw.N-1); !(lo > eps) {
+			t.Errorf("%v: bootstrap lower end %v does not exceed the estimate %v (the defect the warning is about)", groups, lo, eps)
+		}
+	}
+	// Twenty groups of three tied values, all different: every rank difference lies between
+	// groups, H* = N − 1 = 59 (ξ² estimated as 1), N − k = 40, so the upper end λ/40 lies
+	// above 1 and is cut; the lower end stays inside (0, 1).
+	groups := make([][]float64, 20)
+	for i := range groups {
+		groups[i] = []float64{float64(i), float64(i), float64(i)}
+	}
+	r := bootRanking(t, groups)
+	kw, _ := KruskalWallisTest(r)
+	ei, err := KruskalWallisEffectInterval(kw.H, kw.N, kw.K, 0.95)
+	if err != nil || math.Abs(kw.H-59) > 1e-9 || ei.High != 1 || !ei.Clipped || !(ei.Low > 0 && ei.Low < 1) {
+		t.Errorf("perfect separation: H* %v, %+v, %v", kw.H, ei, err)
+	}
+}

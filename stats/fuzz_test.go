@@ -81,3 +81,32 @@ func FuzzRank(f *testing.F) {
 		}
 	})
 }
+
+// FuzzNoncentralChiSquare checks that NoncentralChiSquareTails and NoncentralityInterval
+// return an error or a valid result for any float64 inputs (NaN, ±Inf, subnormals, -0 and
+// 1e308 among the seeds), never a panic: two tails in [0, 1] adding to 1, and an interval
+// 0 <= lo <= hi.
+func FuzzNoncentralChiSquare(f *testing.F) {
+	f.Add(5.0, 3.0, 2.0, 0.95)
+	f.Add(0.0, 1.0, 0.0, 0.5)
+	f.Add(math.Copysign(0, -1), 2.0, 1.0, 0.9)
+	f.Add(math.NaN(), 2.0, 1.0, 0.95)
+	f.Add(1.0, math.NaN(), 1.0, 0.95)
+	f.Add(1.0, 2.0, math.NaN(), math.NaN())
+	f.Add(math.Inf(1), 2.0, 1.0, 0.95)
+	f.Add(1e308, 2.0, 1e9, 0.95)
+	f.Add(5e-324, 0.01, 5e-324, 1e-300)
+	f.Add(2.114325393362999, 2.0, 40.0, 0.95)
+	f.Add(1e6, 1e10, 1e10, 0.999999)
+	f.Add(-1.0, 2.0, 1.0, 0.95)
+	f.Fuzz(func(t *testing.T, x, df, nc, level float64) {
+		lower, upper, err := NoncentralChiSquareTails(x, df, nc)
+		if err == nil && (!(lower >= 0 && lower <= 1 && upper >= 0 && upper <= 1) || math.Abs(lower+upper-1) > 1e-12) {
+			t.Fatalf("tails(%v, %v, %v) = %v, %v", x, df, nc, lower, upper)
+		}
+		lo, hi, err := NoncentralityInterval(x, df, level)
+		if err == nil && !(lo >= 0 && lo <= hi) {
+			t.Fatalf("interval(%v, %v, %v) = [%v, %v]", x, df, level, lo, hi)
+		}
+	})
+}

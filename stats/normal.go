@@ -47,30 +47,7 @@ func NormalTwoSided(z float64) float64 {
 		return 1 - float64(pre*sum)/(sqrtPi/2)
 	}
 	// Continued fraction for Γ(a, z) with a = 1/2 (modified Lentz).
-	const a, tiny = 0.5, 1e-300
-	b := zz + 1 - a
-	c := 1 / tiny
-	d := 1 / b
-	h := d
-	for i := 1; i <= 10000; i++ {
-		fi := float64(i)
-		an := -float64(fi * float64(fi-a))
-		b += 2
-		d = float64(an*d) + b
-		if math.Abs(d) < tiny {
-			d = tiny
-		}
-		c = b + an/c
-		if math.Abs(c) < tiny {
-			c = tiny
-		}
-		d = 1 / d
-		del := float64(d * c)
-		h = float64(h * del)
-		if math.Abs(del-1) < 1e-16 {
-			break
-		}
-	}
+	h, _ := gammaFraction(0.5, zz, 10000)
 	return float64(pre*h) / sqrtPi
 }
 

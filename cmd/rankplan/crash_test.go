@@ -38,7 +38,7 @@ func TestCrash(t *testing.T) {
 	}
 	os.WriteFile(filepath.Join(work, "data.csv"), []byte(data.String()), 0o644)
 	plan := "rankplan: 1\nid: crash\ntitle: Crash test (invented data)\ndata: {file: data.csv, group: g, outcome: y}\n" +
-		"alpha: 0.05\nseed: 9\nanalyses:\n  - id: a\n    test: kruskal-wallis\n    pvalue: {method: permutation, resamples: 40000}\n    effect_size: {resamples: 400}\n"
+		"alpha: 0.05\nseed: 9\nanalyses:\n  - id: a\n    test: kruskal-wallis\n    pvalue: {method: permutation, resamples: 40000}\n    effect_size: {interval: bootstrap, resamples: 400}\n"
 	planPath := filepath.Join(work, "plan.yaml")
 	os.WriteFile(planPath, []byte(plan), 0o644)
 

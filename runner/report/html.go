@@ -133,6 +133,8 @@ type htmlAnalysis struct {
 	FamilySay  string
 	// PairPMethods names the distributions the pairs' p-values came from, in words.
 	PairPMethods string
+	// ClippedRanks names the groups whose mean-rank interval was cut to its range.
+	ClippedRanks string
 }
 
 type diagRow struct {
@@ -183,6 +185,13 @@ func analysisView(i int, a *results.Analysis, vals [][]float64) (htmlAnalysis, e
 		v.Points = max(v.Points, g.N)
 	}
 	v.Spread = spreadOf(v.Diag)
+	var clipped []string
+	for _, g := range a.Groups {
+		if iv := g.MeanRankInterval; iv != nil && iv.Clipped {
+			clipped = append(clipped, g.Name)
+		}
+	}
+	v.ClippedRanks = strings.Join(clipped, ", ")
 	if kw := a.KruskalWallis; kw != nil && a.N > 0 {
 		v.TieShare = float64(kw.TiedValues) / float64(a.N)
 	}
@@ -261,7 +270,7 @@ var htmlFuncs = template.FuncMap{
 		return v
 	},
 	"num":     Num,
-	"pct":     func(level float64) string { return Num(100*level) + "%" },
+	"pct":     pct,
 	"fmtp":    FormatP,
 	"method":  methodName,
 	"test":    testName,
@@ -434,15 +443,19 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 </section>
 {{with .EffectSizes}}<section class="effects">
 <h3>Effect sizes</h3>
-<table>
-<thead><tr><th>measure</th><th class="r">estimate</th>{{with .Bootstrap}}<th>{{pct .EpsilonSquared.Level}} interval</th>{{end}}</tr></thead>
+{{$boot := and .Interval (eq .Interval.Method "bootstrap")}}<table>
+<thead><tr><th>measure</th><th class="r">estimate</th>{{if $boot}}<th>{{pct .Interval.Level}} interval</th>{{end}}</tr></thead>
 <tbody>
-<tr><td>epsilon-squared, H / ((N² − 1)/(N + 1))</td><td class="r">{{template "val" (v (key $id "epsilon_squared") .EpsilonSquared)}}</td>{{with .Bootstrap}}<td>[{{template "val" (v (key $id "epsilon_squared_low") .EpsilonSquared.Low)}}, {{template "val" (v (key $id "epsilon_squared_high") .EpsilonSquared.High)}}]</td>{{end}}</tr>
-<tr><td>eta-squared(H), (H − k + 1)/(N − k)</td><td class="r">{{with .EtaSquaredH}}{{template "val" (v (key $id "eta_squared_h") .)}}{{else}}not defined (N = k){{end}}</td>{{with .Bootstrap}}<td>{{with .EtaSquaredH}}[{{num .Low}}, {{num .High}}]{{else}}not defined{{end}}</td>{{end}}</tr>
+<tr><td>epsilon-squared, H / ((N² − 1)/(N + 1))</td><td class="r">{{template "val" (v (key $id "epsilon_squared") .EpsilonSquared)}}</td>{{if $boot}}{{with .Interval.EpsilonSquared}}<td>[{{template "val" (v (key $id "epsilon_squared_low") .Low)}}, {{template "val" (v (key $id "epsilon_squared_high") .High)}}]</td>{{end}}{{end}}</tr>
+<tr><td>eta-squared(H), (H − k + 1)/(N − k)</td><td class="r">{{with .EtaSquaredH}}{{template "val" (v (key $id "eta_squared_h") .)}}{{else}}not defined (N = k){{end}}</td>{{if $boot}}<td>{{with .Interval.EtaSquaredH}}[{{num .Low}}, {{num .High}}]{{else}}not defined{{end}}</td>{{end}}</tr>
 </tbody>
 </table>
-{{with .Bootstrap}}<p class="note">Intervals: {{.Method}}, {{.Resamples}} resamples ({{.Degenerate}} with every value tied, counted as H = 0); random stream {{.Stream}}.</p>{{end}}
-</section>{{end}}
+{{with .Interval}}{{if $boot}}<p class="note">Intervals: {{.Description}}; {{.Resamples}} resamples ({{.Degenerate}} with every value tied, counted as H = 0); random stream {{.Stream}}.</p>
+{{else}}<p class="decision">{{pct .Level}} interval of the population effect ξ², the share of the rank variance between groups that both measures estimate: {{with .PopulationEffect}}<strong>[{{template "val" (v (key $id "population_effect_low") .Low)}}, {{template "val" (v (key $id "population_effect_high") .High)}}]</strong>{{if .Clipped}}, cut to [0, 1], the range of ξ²{{end}}{{else}}not computed: {{.NotComputed}}{{end}}.</p>
+<p class="note">Method: noncentral chi-square inversion. It {{.Description}}.{{with .Noncentrality}} Noncentrality λ from {{num .Low}} to {{num .High}}.{{end}}</p>
+{{end}}{{range .Warnings}}<p class="caution">Warning: {{.}}.</p>
+{{end}}{{else}}<p class="note">No interval: the plan asks for the estimates alone.</p>
+{{end}}</section>{{end}}
 {{with .PostHoc}}<section class="pairs">
 <h3>Pairwise comparisons</h3>
 <p>Planned: {{$a.PostHocSay}}, {{$a.FamilySay}}; {{if .Simultaneous}}{{.Simultaneous}}{{else}}adjustment of the p-values: <code>{{.Adjust}}</code>{{end}}; run {{if eq .When "always"}}whatever the omnibus result{{else}}only if the omnibus test rejects{{end}}.</p>
@@ -486,7 +499,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 </figure>
 <figure>
 {{.Ranks}}
-<figcaption>Mean rank by group (dots) with {{with (index .Groups 0).MeanRankInterval}}{{pct .Level}} {{end}}intervals: mean rank ± z·SE under random labelling, a descriptive yardstick rather than a test. The dashed line is (N + 1)/2 = {{num .RankMid}}, where every mean rank would sit if the groups did not differ at all.</figcaption>
+<figcaption>Mean rank by group (dots) with {{with (index .Groups 0).MeanRankInterval}}{{pct .Level}} {{end}}intervals: mean rank ± z·SE under random labelling, a descriptive yardstick rather than a test.{{with .ClippedRanks}} The intervals of {{.}} are cut at the range a mean of n of the ranks can take, from (n + 1)/2 to N − (n − 1)/2.{{end}} The dashed line is (N + 1)/2 = {{num .RankMid}}, where every mean rank would sit if the groups did not differ at all.</figcaption>
 </figure>{{end}}
 {{if .Heat}}<figure>
 {{.Heat}}

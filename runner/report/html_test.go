@@ -353,9 +353,13 @@ func expectedKeys(res *results.Results) map[string]*float64 {
 			if es.EtaSquaredH != nil {
 				want[id+".eta_squared_h"] = es.EtaSquaredH
 			}
-			if b := es.Bootstrap; b != nil {
-				want[id+".epsilon_squared_low"] = f(b.EpsilonSquared.Low)
-				want[id+".epsilon_squared_high"] = f(b.EpsilonSquared.High)
+			if iv := es.Interval; iv != nil && iv.EpsilonSquared != nil {
+				want[id+".epsilon_squared_low"] = f(iv.EpsilonSquared.Low)
+				want[id+".epsilon_squared_high"] = f(iv.EpsilonSquared.High)
+			}
+			if iv := es.Interval; iv != nil && iv.PopulationEffect != nil {
+				want[id+".population_effect_low"] = f(iv.PopulationEffect.Low)
+				want[id+".population_effect_high"] = f(iv.PopulationEffect.High)
 			}
 		}
 		if ph := a.PostHoc; ph != nil && ph.Ran {
@@ -722,16 +726,19 @@ func BenchmarkHTML(b *testing.B) {
 
 func ExampleHTML() {
 	// Invented numbers for one small analysis, as a run would put them in results.json.
-	iv := func(lo, hi float64) *results.Interval { return &results.Interval{Level: 0.95, Low: lo, High: hi} }
+	// Mean ranks of three of the ranks 1..9 lie in [2, 8]: two intervals are cut to it.
+	iv := func(lo, hi float64, clipped bool) *results.RankInterval {
+		return &results.RankInterval{Level: 0.95, Low: lo, High: hi, Clipped: clipped}
+	}
 	p, asym := 0.0286, 0.0498
 	res := &results.Results{
 		Plan: results.Plan{ID: "demo", Title: "Invented demo", Alpha: 0.05, Seed: "7"},
 		Analyses: []results.Analysis{{
 			ID: "a1", Test: "kruskal-wallis", Outcome: "score", Unit: "points", N: 9, Status: "ok",
 			Groups: []results.Group{
-				{Name: "x", N: 3, Median: 2, Q1: 1.5, Q3: 2.5, Min: 1, Max: 3, RankSum: 6, MeanRank: 2, MeanRankInterval: iv(0, 4.4)},
-				{Name: "y", N: 3, Median: 5, Q1: 4.5, Q3: 5.5, Min: 4, Max: 6, RankSum: 15, MeanRank: 5, MeanRankInterval: iv(2.6, 7.4)},
-				{Name: "z", N: 3, Median: 8, Q1: 7.5, Q3: 8.5, Min: 7, Max: 9, RankSum: 24, MeanRank: 8, MeanRankInterval: iv(5.6, 10.4)},
+				{Name: "x", N: 3, Median: 2, Q1: 1.5, Q3: 2.5, Min: 1, Max: 3, RankSum: 6, MeanRank: 2, MeanRankInterval: iv(2, 4.4, true)},
+				{Name: "y", N: 3, Median: 5, Q1: 4.5, Q3: 5.5, Min: 4, Max: 6, RankSum: 15, MeanRank: 5, MeanRankInterval: iv(2.6, 7.4, false)},
+				{Name: "z", N: 3, Median: 8, Q1: 7.5, Q3: 8.5, Min: 7, Max: 9, RankSum: 24, MeanRank: 8, MeanRankInterval: iv(5.6, 8, true)},
 			},
 			KruskalWallis: &results.KruskalWallis{H: 7.2, HUncorrected: 7.2, TieCorrection: 1, DF: 2},
 			PValue:        &results.PValue{Requested: "exact", Method: "exact", Reason: "the plan asks for it", Value: &p, Log10: math.Log10(p)},

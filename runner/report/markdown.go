@@ -10,7 +10,8 @@ import (
 
 // Markdown writes summary.md: a short summary of a run for CI step summaries and pull
 // requests (GitHub-flavoured Markdown tables): one line per analysis with the omnibus
-// result and decision, the pairwise decisions, the decisions across analyses, the
+// result and decision, the effect sizes with their interval and its method (and any
+// warnings about it), the pairwise decisions, the decisions across analyses, the
 // fingerprints, and how to verify the run. dir is the run folder as the reader should type
 // it in the verify command.
 func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
@@ -46,6 +47,7 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 		ew.printf("| %s | %s | %d | %s | %s | %s | %s |\n", mdText(a.ID), outcome, a.N, Num(a.KruskalWallis.H),
 			mdText(pText), mdText(methodName(a.PValue.Method)), d)
 	}
+	writeEffectSizesMarkdown(ew, res.Analyses)
 	for _, a := range res.Analyses {
 		ph := a.PostHoc
 		if ph == nil {
@@ -104,6 +106,56 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 	ew.printf("\nVerify status: not verified yet; a run cannot vouch for itself. `rankplan verify %s --markdown` checks the folder, reruns the plan and prints its verdicts as Markdown to add below this summary; with `--head` and a copy of the head kept outside the run folder it also proves that the log was not cut short.\n", dir)
 	ew.printf("\n_%s_\n", Caution)
 	return ew.err
+}
+
+// writeEffectSizesMarkdown writes the omnibus effect sizes of the computable analyses as a
+// table, the interval and its method beside the estimates, and each interval's warnings
+// below it.
+func writeEffectSizesMarkdown(ew *errWriter, analyses []results.Analysis) {
+	var warnings []string
+	head := false
+	for _, a := range analyses {
+		es := a.EffectSizes
+		if es == nil {
+			continue
+		}
+		if !head {
+			ew.printf("\n| analysis | epsilon-squared | eta-squared(H) | interval | method |\n|---|---:|---:|---|---|\n")
+			head = true
+		}
+		eta := "not defined (N = k)"
+		if es.EtaSquaredH != nil {
+			eta = Num(*es.EtaSquaredH)
+		}
+		interval, method := "none", "the plan asks for none"
+		if iv := es.Interval; iv != nil {
+			method = intervalName(iv)
+			switch {
+			case iv.Method == results.IntervalBootstrap:
+				interval = "epsilon-squared " + bracket(*iv.EpsilonSquared)
+				if iv.EtaSquaredH != nil {
+					interval += ", eta-squared(H) " + bracket(*iv.EtaSquaredH)
+				}
+				method += ", " + iv.Resamples + " resamples"
+			case iv.NotComputed != "":
+				interval = "not computed: " + iv.NotComputed
+			case iv.PopulationEffect != nil:
+				pe := iv.PopulationEffect
+				interval = "population effect xi²: " + bracket(results.Bounds{Low: pe.Low, High: pe.High})
+				if pe.Clipped {
+					interval += ", cut to [0, 1]"
+				}
+				method = pct(iv.Level) + " " + method
+			}
+			for _, w := range iv.Warnings {
+				warnings = append(warnings, fmt.Sprintf("- %s: %s", mdText(a.ID), mdText(w)))
+			}
+		}
+		ew.printf("| %s | %s | %s | %s | %s |\n", mdText(a.ID), Num(es.EpsilonSquared), eta, mdText(interval), mdText(method))
+	}
+	if len(warnings) > 0 {
+		ew.printf("\n**Warnings about the effect-size intervals:**\n\n%s\n", strings.Join(warnings, "\n"))
+	}
 }
 
 func orNone(s []string) string {

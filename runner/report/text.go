@@ -172,20 +172,13 @@ func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) e
 			ew.printf("      asymptotic chi-square p = %s\n", FormatP(a.AsymptoticP.Value, a.AsymptoticP.Log10))
 		}
 		if es := a.EffectSizes; es != nil {
-			line := "  effect size: epsilon-squared = " + Num(es.EpsilonSquared)
-			if b := es.Bootstrap; b != nil {
-				line += fmt.Sprintf(" [%s, %s]", Num(b.EpsilonSquared.Low), Num(b.EpsilonSquared.High))
-			}
-			if es.EtaSquaredH != nil {
-				line += ", eta-squared(H) = " + Num(*es.EtaSquaredH)
-				if b := es.Bootstrap; b != nil && b.EtaSquaredH != nil {
-					line += fmt.Sprintf(" [%s, %s]", Num(b.EtaSquaredH.Low), Num(b.EtaSquaredH.High))
+			for i, line := range effectSizeLines(es) {
+				if i == 0 {
+					ew.printf("  effect size: %s\n", line)
+				} else {
+					ew.printf("      %s\n", line)
 				}
 			}
-			if b := es.Bootstrap; b != nil {
-				line += fmt.Sprintf(" (%s%% percentile bootstrap, %s resamples)", Num(100*b.EpsilonSquared.Level), b.Resamples)
-			}
-			ew.printf("%s\n", line)
 		}
 		d := a.Decision
 		switch {
@@ -404,3 +397,57 @@ func writePostHoc(ew *errWriter, ph *results.PostHoc, st Style) {
 		ew.printf("    letters (groups sharing a letter do not differ at alpha): %s\n", strings.Join(parts, ", "))
 	}
 }
+
+// effectSizeLines writes the omnibus effect sizes for people: the estimates (with their
+// bootstrap intervals, where the plan asked for those), then the noncentral interval of the
+// population effect, then any warnings, one line each.
+func effectSizeLines(es *results.EffectSizes) []string {
+	iv := es.Interval
+	boot := iv != nil && iv.Method == results.IntervalBootstrap
+	line := "epsilon-squared = " + Num(es.EpsilonSquared)
+	if boot && iv.EpsilonSquared != nil {
+		line += " " + bracket(*iv.EpsilonSquared)
+	}
+	if es.EtaSquaredH != nil {
+		line += ", eta-squared(H) = " + Num(*es.EtaSquaredH)
+		if boot && iv.EtaSquaredH != nil {
+			line += " " + bracket(*iv.EtaSquaredH)
+		}
+	}
+	if iv == nil {
+		return []string{line + " (no interval: the plan asks for none)"}
+	}
+	lines := []string{line}
+	switch {
+	case boot:
+		lines[0] += fmt.Sprintf(" (%s, %s resamples)", intervalName(iv), iv.Resamples)
+	case iv.NotComputed != "":
+		lines = append(lines, fmt.Sprintf("%s interval of the population effect: not computed: %s", pct(iv.Level), iv.NotComputed))
+	case iv.PopulationEffect != nil:
+		pe := iv.PopulationEffect
+		l := fmt.Sprintf("%s interval of the population effect xi² both estimate: [%s, %s] (%s", pct(iv.Level), Num(pe.Low), Num(pe.High), intervalName(iv))
+		if pe.Clipped {
+			l += "; cut to [0, 1], the range of xi²"
+		}
+		lines = append(lines, l+")")
+	}
+	for _, w := range iv.Warnings {
+		lines = append(lines, "warning: "+w)
+	}
+	return lines
+}
+
+// intervalName names the method of an effect-size interval in a few words.
+func intervalName(iv *results.EffectInterval) string {
+	switch iv.Method {
+	case results.IntervalNoncentral:
+		return "noncentral chi-square inversion of H"
+	case results.IntervalBootstrap:
+		return pct(iv.Level) + " percentile bootstrap"
+	}
+	return iv.Method
+}
+
+func bracket(b results.Bounds) string { return "[" + Num(b.Low) + ", " + Num(b.High) + "]" }
+
+func pct(level float64) string { return Num(100*level) + "%" }

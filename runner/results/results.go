@@ -166,8 +166,18 @@ type Group struct {
 	// quartiles; absent when Q1 = Q3.
 	QuartileSkewness *float64 `json:"quartile_skewness,omitempty"`
 	// MeanRankInterval is the mean rank ± z·SE under random labelling, at the effect-size
-	// level ([stats.MeanRankInterval]): descriptive, for the mean-rank plot.
-	MeanRankInterval *Interval `json:"mean_rank_interval,omitempty"`
+	// level, cut to the range a mean rank of the group can take ([stats.MeanRankInterval]):
+	// descriptive, for the mean-rank plot.
+	MeanRankInterval *RankInterval `json:"mean_rank_interval,omitempty"`
+}
+
+// RankInterval is a two-sided interval of a mean rank at a level; Clipped says that an end
+// was cut to the range [(n + 1)/2, N − (n − 1)/2] a mean of n of the ranks 1..N can take.
+type RankInterval struct {
+	Level   float64 `json:"level"`
+	Low     float64 `json:"low"`
+	High    float64 `json:"high"`
+	Clipped bool    `json:"clipped"`
 }
 
 // Exclusion counts the rows left out of an analysis for one group and reason.
@@ -241,22 +251,62 @@ type Interval struct {
 	High  float64 `json:"high"`
 }
 
-// EffectSizes are the omnibus effect sizes with their bootstrap intervals.
+// EffectSizes are the omnibus effect sizes with the interval the plan asks for.
 type EffectSizes struct {
 	EpsilonSquared float64 `json:"epsilon_squared"`
 	// EtaSquaredH is null when N = k (every group holds one observation).
-	EtaSquaredH *float64   `json:"eta_squared_h"`
-	Bootstrap   *Bootstrap `json:"bootstrap,omitempty"`
+	EtaSquaredH *float64 `json:"eta_squared_h"`
+	// Interval is absent when the plan's effect_size.interval is none.
+	Interval *EffectInterval `json:"interval,omitempty"`
 }
 
-// Bootstrap is the percentile bootstrap interval of the effect sizes.
-type Bootstrap struct {
-	Method         string    `json:"method"`
-	Resamples      string    `json:"resamples"`
-	Degenerate     string    `json:"degenerate"` // resamples with every value tied (H* taken as 0)
-	Stream         string    `json:"stream"`
-	EpsilonSquared Interval  `json:"epsilon_squared"`
-	EtaSquaredH    *Interval `json:"eta_squared_h"`
+// Interval methods of the omnibus effect sizes, as the plan names them.
+const (
+	IntervalNoncentral = "noncentral"
+	IntervalBootstrap  = "bootstrap"
+)
+
+// EffectInterval is the interval of the omnibus effect sizes. Which bounds it holds depends
+// on Method:
+//
+//   - noncentral: Noncentrality bounds the noncentrality λ of the chi-square approximation
+//     of H* (inverting it at H*), and PopulationEffect bounds ξ² = λ/(N − k), the population
+//     share of the rank variance between groups that both epsilon-squared and
+//     eta-squared(H) estimate, cut to [0, 1] ([stats.KruskalWallisEffectInterval]).
+//     NotComputed replaces both when N = k.
+//   - bootstrap: EpsilonSquared and EtaSquaredH are percentile bootstrap intervals of the
+//     two statistics themselves, with the resample count, the resamples in which every
+//     value was tied and the random stream.
+type EffectInterval struct {
+	Method string `json:"method"`
+	// Description says in words how the interval was computed and what it bounds.
+	Description string  `json:"description"`
+	Level       float64 `json:"level"`
+	// NotComputed says why the interval has no bounds; empty when it has them.
+	NotComputed      string         `json:"not_computed,omitempty"`
+	Noncentrality    *Bounds        `json:"noncentrality,omitempty"`
+	PopulationEffect *ClippedBounds `json:"population_effect,omitempty"`
+	EpsilonSquared   *Bounds        `json:"epsilon_squared,omitempty"`
+	EtaSquaredH      *Bounds        `json:"eta_squared_h,omitempty"`
+	Resamples        string         `json:"resamples,omitempty"`
+	Degenerate       string         `json:"degenerate,omitempty"` // resamples with every value tied (H* taken as 0)
+	Stream           string         `json:"stream,omitempty"`
+	// Warnings say why the interval may not mean what it seems to for these data.
+	Warnings []string `json:"warnings,omitempty"`
+}
+
+// Bounds are the two ends of an interval whose level is given beside it.
+type Bounds struct {
+	Low  float64 `json:"low"`
+	High float64 `json:"high"`
+}
+
+// ClippedBounds are the ends of an interval cut to the range of what it bounds; Clipped
+// says that an end was cut.
+type ClippedBounds struct {
+	Low     float64 `json:"low"`
+	High    float64 `json:"high"`
+	Clipped bool    `json:"clipped"`
 }
 
 // Decision is the test's verdict at the plan's alpha.
