@@ -36,8 +36,8 @@ type KruskalWallis struct {
 // the tie terms in block order, with explicit float64 conversions so that no fused
 // multiply-add changes the result between architectures. H is a sum of squares, so it
 // is never negative (the uncentred form Σ R_i^2/n_i - 3(N+1) can round below 0; this
-// form cannot). H* cannot exceed N - 1; when rounding of H / C lands a few ulps above it
-// (perfectly separated groups), H* is set to N - 1.
+// form cannot). H* cannot exceed N - 1 (equality when every group is internally
+// constant); when rounding of H / C lands a few ulps above it, H* is set to N - 1.
 //
 // It returns [ErrAllTied] when all observations are tied (C = 0), and an error when r
 // is nil or not a consistent Ranking.
