@@ -64,7 +64,9 @@ func NemenyiTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 // The pairwise ranks come from a linear merge of r.Sorted[I] and r.Sorted[J], O(n_I + n_J)
 // time per pair and no allocation per observation; rank sums are kept doubled in int64
 // (exact). It returns an error wrapping [ErrAllTied] when all observations of a pair are
-// tied.
+// tied, and an error when r is inconsistent (checked in O(N): sizes, rank sums, tie
+// blocks, and sorted values that are finite and ascending, since a merge of unordered or
+// NaN values would not advance).
 func DSCFTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 	if err := checkPairs(r, pairs); err != nil {
 		return nil, fmt.Errorf("dscf: %w", err)
@@ -72,8 +74,8 @@ func DSCFTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 	if err := checkSRange(r.K, math.Inf(1)); err != nil {
 		return nil, fmt.Errorf("dscf: %w", err)
 	}
-	if len(r.Sorted) != r.K {
-		return nil, fmt.Errorf("dscf: ranking has %d sorted groups, want %d", len(r.Sorted), r.K)
+	if err := checkRankingDeep(r); err != nil {
+		return nil, fmt.Errorf("dscf: %w", err)
 	}
 	out := make([]Comparison, len(pairs))
 	inf := math.Inf(1)

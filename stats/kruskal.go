@@ -3,6 +3,7 @@ package stats
 import (
 	"errors"
 	"fmt"
+	"math"
 )
 
 // ErrAllTied is returned (wrapped or bare; test with errors.Is) when every observation
@@ -109,6 +110,47 @@ func checkRanking(r *Ranking) error {
 	if want := int64(r.N) * (int64(r.N) + 1); rankTotal != want {
 		return fmt.Errorf("inconsistent ranking: doubled rank sums add up to %d, want N(N+1) = %d",
 			rankTotal, want)
+	}
+	if !(r.TieSum >= 0) || math.IsInf(r.TieSum, 1) {
+		return fmt.Errorf("inconsistent ranking: tie sum %v", r.TieSum)
+	}
+	return nil
+}
+
+// checkRankingDeep is checkRanking plus the checks that take O(N) time, for the functions
+// that read the tie blocks' doubled ranks or the sorted values and take O(N) time or more
+// anyway: block j's doubled midrank is 2 T_{j−1} + t_j + 1 (see [Block]), TieSum is the
+// sum of t³ − t in block order, and Sorted holds K finite, ascending slices of the group
+// sizes.
+func checkRankingDeep(r *Ranking) error {
+	if err := checkRanking(r); err != nil {
+		return err
+	}
+	var below int64
+	tieSum := 0.0
+	for j, b := range r.Blocks {
+		if want := 2*below + int64(b.Size) + 1; b.Rank2 != want {
+			return fmt.Errorf("inconsistent ranking: tie block %d has doubled rank %d, want %d", j, b.Rank2, want)
+		}
+		below += int64(b.Size)
+		t := float64(b.Size)
+		tieSum += float64(t * float64(float64(t*t)-1)) // as Rank sums it
+	}
+	if tieSum != r.TieSum {
+		return fmt.Errorf("inconsistent ranking: tie sum %v, the blocks give %v", r.TieSum, tieSum)
+	}
+	if len(r.Sorted) != r.K {
+		return fmt.Errorf("inconsistent ranking: %d sorted groups for K = %d", len(r.Sorted), r.K)
+	}
+	for i, s := range r.Sorted {
+		if len(s) != r.Counts[i] {
+			return fmt.Errorf("inconsistent ranking: group %d has %d sorted values and size %d", i, len(s), r.Counts[i])
+		}
+		for j, v := range s {
+			if math.IsNaN(v) || math.IsInf(v, 0) || (j > 0 && v < s[j-1]) {
+				return fmt.Errorf("inconsistent ranking: group %d: sorted value %d is %v, not finite and in ascending order", i, j, v)
+			}
+		}
 	}
 	return nil
 }
