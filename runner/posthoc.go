@@ -160,8 +160,13 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 		if err != nil {
 			return nil, err
 		}
+		out.LettersMethod = "insert-absorb-sweep"
+		if letters.Greedy {
+			out.LettersMethod = "greedy-sweep"
+		}
+		out.Letters = make([]results.GroupLetters, len(in.Groups))
 		for i, g := range in.Groups {
-			out.Letters = append(out.Letters, results.GroupLetters{Group: g, Letters: letters[i]})
+			out.Letters[i] = results.GroupLetters{Group: g, Letters: letters.Names[i], Display: letters.Text(i)}
 		}
 	}
 	return out, nil

@@ -438,12 +438,15 @@ func TestPostHoc(t *testing.T) {
 		math.Abs(ph.Pairs[2].CliffsDelta-(-0.68)) > 1e-12 || math.Abs(ph.Pairs[2].HodgesLehmann.Shift-(-0.945)) > 1e-12 {
 		t.Errorf("trt1 vs trt2: %+v", ph.Pairs[2])
 	}
-	letters := map[string]string{}
-	for _, l := range ph.Letters {
-		letters[l.Group] = l.Letters
+	// Only trt1 and trt2 differ, so (worked by hand) ctrl holds both letters and each
+	// treatment one of them.
+	wantLetters := []results.GroupLetters{
+		{Group: "ctrl", Letters: []string{"a", "b"}, Display: "ab"},
+		{Group: "trt1", Letters: []string{"a"}, Display: "a"},
+		{Group: "trt2", Letters: []string{"b"}, Display: "b"},
 	}
-	if letters["trt1"] == letters["trt2"] || !strings.ContainsAny(letters["ctrl"], letters["trt1"]) || !strings.ContainsAny(letters["ctrl"], letters["trt2"]) {
-		t.Errorf("letters %v", letters)
+	if !reflect.DeepEqual(ph.Letters, wantLetters) || ph.LettersMethod != "insert-absorb-sweep" {
+		t.Errorf("letters %+v (%s), want %+v", ph.Letters, ph.LettersMethod, wantLetters)
 	}
 	// Gating: on the tied toy data at alpha 0.01 the omnibus test does not reject.
 	p2 := methodPlan(t, "{method: asymptotic}", "{interval: none}", tiedToy)

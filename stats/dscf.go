@@ -69,7 +69,9 @@ func NemenyiTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 // time per pair and no allocation per observation; rank sums are kept doubled in int64
 // (exact). A pair whose observations are all tied has no W*: its Comparison has
 // NotComputable set and NaN statistic and p. More than 1000 groups give an error wrapping
-// [ErrNotComputable] (the studentized range is not computed for more).
+// [ErrNotComputable] (the studentized range is not computed for more). An inconsistent r
+// gives an error (checked in O(N): sizes, rank sums, tie blocks, and sorted values that
+// are finite and ascending, since a merge of unordered or NaN values would not advance).
 func DSCFTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 	if err := checkPairs(r, pairs); err != nil {
 		return nil, fmt.Errorf("dscf: %w", err)
@@ -80,8 +82,8 @@ func DSCFTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 	if err := checkSRange(r.K, math.Inf(1)); err != nil {
 		return nil, fmt.Errorf("dscf: %w", err)
 	}
-	if len(r.Sorted) != r.K {
-		return nil, fmt.Errorf("dscf: ranking has %d sorted groups, want %d", len(r.Sorted), r.K)
+	if err := checkRankingDeep(r); err != nil {
+		return nil, fmt.Errorf("dscf: %w", err)
 	}
 	out := make([]Comparison, len(pairs))
 	inf := math.Inf(1)

@@ -169,7 +169,7 @@ type Bootstrap struct {
 // pair (Hyndman & Fan 1996) of the sorted H* values at (1 ∓ Level)/2 (percentile method;
 // Efron & Tibshirani 1993, An Introduction to the Bootstrap, ch. 13, recalled from memory).
 func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error) {
-	if err := checkRanking(r); err != nil {
+	if err := checkRankingDeep(r); err != nil {
 		return Bootstrap{}, fmt.Errorf("bootstrap: %w", err)
 	}
 	if opt.Resamples < 1 {

@@ -148,7 +148,7 @@ type Exact struct {
 // every observation is tied, and an error when r is nil or inconsistent or a budget
 // field is negative. It never modifies r.
 func KruskalWallisExact(r *Ranking, budget ExactBudget) (Exact, error) {
-	if err := checkRanking(r); err != nil {
+	if err := checkRankingDeep(r); err != nil {
 		return Exact{}, fmt.Errorf("exact p-value: %w", err)
 	}
 	if len(r.Blocks) < 2 {

@@ -82,3 +82,29 @@ func ExampleQuartiles() {
 	// Output:
 	// 2 3 4
 }
+
+// ExampleCompactLetters: four groups ordered by their mean ranks; the first and the last
+// two differ, as do the second and the last (invented decisions).
+func ExampleCompactLetters() {
+	differ := [][]bool{
+		{false, false, true, true},
+		{false, false, false, true},
+		{true, false, false, false},
+		{true, true, false, false},
+	}
+	l, err := stats.CompactLetters(differ)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for g, names := range l.Names {
+		fmt.Printf("group %d: %s %q\n", g+1, l.Text(g), names)
+	}
+	fmt.Println(stats.LetterName(0), stats.LetterName(51), stats.LetterName(52))
+	// Output:
+	// group 1: a ["a"]
+	// group 2: ab ["a" "b"]
+	// group 3: bc ["b" "c"]
+	// group 4: c ["c"]
+	// a Z a1
+}

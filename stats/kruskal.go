@@ -3,6 +3,7 @@ package stats
 import (
 	"errors"
 	"fmt"
+	"math"
 )
 
 // ErrNotComputable is wrapped by every error that reports a property of the data, not of
@@ -43,8 +44,8 @@ type KruskalWallis struct {
 // the tie terms in block order, with explicit float64 conversions so that no fused
 // multiply-add changes the result between architectures. H is a sum of squares, so it
 // is never negative (the uncentred form Σ R_i^2/n_i - 3(N+1) can round below 0; this
-// form cannot). H* cannot exceed N - 1; when rounding of H / C lands a few ulps above it
-// (perfectly separated groups), H* is set to N - 1.
+// form cannot). H* cannot exceed N - 1 (equality when every group is internally
+// constant); when rounding of H / C lands a few ulps above it, H* is set to N - 1.
 //
 // It returns [ErrAllTied] when all observations are tied (C = 0), and an error when r
 // is nil or not a consistent Ranking.
@@ -116,6 +117,47 @@ func checkRanking(r *Ranking) error {
 	if want := int64(r.N) * (int64(r.N) + 1); rankTotal != want {
 		return fmt.Errorf("inconsistent ranking: doubled rank sums add up to %d, want N(N+1) = %d",
 			rankTotal, want)
+	}
+	if !(r.TieSum >= 0) || math.IsInf(r.TieSum, 1) {
+		return fmt.Errorf("inconsistent ranking: tie sum %v", r.TieSum)
+	}
+	return nil
+}
+
+// checkRankingDeep is checkRanking plus the checks that take O(N) time, for the functions
+// that read the tie blocks' doubled ranks or the sorted values and take O(N) time or more
+// anyway: block j's doubled midrank is 2 T_{j−1} + t_j + 1 (see [Block]), TieSum is the
+// sum of t³ − t in block order, and Sorted holds K finite, ascending slices of the group
+// sizes.
+func checkRankingDeep(r *Ranking) error {
+	if err := checkRanking(r); err != nil {
+		return err
+	}
+	var below int64
+	tieSum := 0.0
+	for j, b := range r.Blocks {
+		if want := 2*below + int64(b.Size) + 1; b.Rank2 != want {
+			return fmt.Errorf("inconsistent ranking: tie block %d has doubled rank %d, want %d", j, b.Rank2, want)
+		}
+		below += int64(b.Size)
+		t := float64(b.Size)
+		tieSum += float64(t * float64(float64(t*t)-1)) // as Rank sums it
+	}
+	if tieSum != r.TieSum {
+		return fmt.Errorf("inconsistent ranking: tie sum %v, the blocks give %v", r.TieSum, tieSum)
+	}
+	if len(r.Sorted) != r.K {
+		return fmt.Errorf("inconsistent ranking: %d sorted groups for K = %d", len(r.Sorted), r.K)
+	}
+	for i, s := range r.Sorted {
+		if len(s) != r.Counts[i] {
+			return fmt.Errorf("inconsistent ranking: group %d has %d sorted values and size %d", i, len(s), r.Counts[i])
+		}
+		for j, v := range s {
+			if math.IsNaN(v) || math.IsInf(v, 0) || (j > 0 && v < s[j-1]) {
+				return fmt.Errorf("inconsistent ranking: group %d: sorted value %d is %v, not finite and in ascending order", i, j, v)
+			}
+		}
 	}
 	return nil
 }

@@ -1,10 +1,12 @@
 package stats
 
 import (
+	"context"
 	"errors"
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"testing"
 )
 
@@ -247,6 +249,57 @@ func TestKruskalWallisBadRanking(t *testing.T) {
 		t.Run(tt.name, func(t *testing.T) {
 			if _, err := KruskalWallisTest(tt.mangle(good())); err == nil {
 				t.Error("no error")
+			}
+		})
+	}
+}
+
+// TestDeepRankingChecks: the functions that read the tie blocks' doubled ranks or the
+// sorted values (the exact and Monte Carlo p-values, the bootstrap, DSCF) refuse a Ranking
+// whose blocks, tie sum or sorted values disagree, where they formerly indexed out of
+// range or merged forever (NaN in a sorted group).
+func TestDeepRankingChecks(t *testing.T) {
+	group := []int32{0, 0, 1, 1, 1, 2, 2}
+	values := []float64{1, 2, 2, 4, 5, 6, 6}
+	tests := []struct {
+		name   string
+		mangle func(r *Ranking)
+	}{
+		{"block rank", func(r *Ranking) { r.Blocks[0].Rank2 = -r.Blocks[0].Rank2 }},
+		{"blocks swapped", func(r *Ranking) { r.Blocks[0], r.Blocks[1] = r.Blocks[1], r.Blocks[0] }},
+		{"tie sum NaN", func(r *Ranking) { r.TieSum = math.NaN() }},
+		{"tie sum off", func(r *Ranking) { r.TieSum += 6 }},
+		{"NaN in a sorted group", func(r *Ranking) { r.Sorted[0] = []float64{1, math.NaN()} }},
+		{"unsorted group", func(r *Ranking) { r.Sorted[1] = []float64{5, 4, 2} }},
+		{"short sorted group", func(r *Ranking) { r.Sorted[0] = r.Sorted[0][:1] }},
+		{"missing sorted group", func(r *Ranking) { r.Sorted = r.Sorted[:2] }},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			calls := map[string]func(r *Ranking) error{
+				"exact": func(r *Ranking) error { _, err := KruskalWallisExact(r, ExactBudget{}); return err },
+				"permutation": func(r *Ranking) error {
+					_, err := KruskalWallisPermutation(context.Background(), group, values, 3, r, PermutationOptions{Resamples: 10, Workers: 1})
+					return err
+				},
+				"bootstrap": func(r *Ranking) error {
+					_, err := KruskalWallisBootstrap(r, BootstrapOptions{Resamples: 10, Level: 0.9, Workers: 1})
+					return err
+				},
+				"dscf": func(r *Ranking) error { _, err := DSCFTest(r, AllPairs(3)); return err },
+			}
+			for name, call := range calls {
+				r, err := Rank(group, values, 3)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if call(r) != nil {
+					t.Fatalf("%s: the intact ranking is refused", name)
+				}
+				tt.mangle(r)
+				if err := call(r); err == nil || !strings.Contains(err.Error(), "inconsistent ranking") {
+					t.Errorf("%s: %v, want an inconsistent ranking", name, err)
+				}
 			}
 		})
 	}

@@ -215,7 +215,7 @@ func newPermSetup(group []int32, values []float64, k int, r *Ranking) (*permSetu
 
 // newPermSetupRule is newPermSetup; allowExact = false forces the float rule (for tests).
 func newPermSetupRule(group []int32, values []float64, k int, r *Ranking, allowExact bool) (*permSetup, error) {
-	if err := checkRanking(r); err != nil {
+	if err := checkRankingDeep(r); err != nil {
 		return nil, err
 	}
 	n := len(values)

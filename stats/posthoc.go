@@ -95,9 +95,11 @@ func DunnTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 	return out, nil
 }
 
-// ErrPerfectSeparation is returned by [ConoverImanTest] when the groups' ranks do not
-// overlap at all (H* = N − 1), so the within-group rank variance is zero.
-var ErrPerfectSeparation = fmt.Errorf("%w: the groups are perfectly separated, so the within-group rank variance is 0", ErrNotComputable)
+// ErrConstantGroups is returned by [ConoverImanTest] when every group is internally
+// constant (all values within each group tied), so the within-group rank variance is 0
+// and H* = N − 1. The groups may share values or not: only the spread inside them
+// matters, and groups whose ranks merely do not overlap have a positive variance.
+var ErrConstantGroups = fmt.Errorf("%w: every group is internally constant (all values within each group tied), so the within-group rank variance is 0", ErrNotComputable)
 
 // ConoverImanTest compares groups pairwise with the t-test on the joint ranks of Conover &
 // Iman (1979, Los Alamos report LA-7677-MS; Conover, Practical Nonparametric Statistics;
@@ -111,8 +113,9 @@ var ErrPerfectSeparation = fmt.Errorf("%w: the groups are perfectly separated, s
 // with H* the tie-corrected Kruskal-Wallis statistic and I the regularized incomplete beta
 // function ([RegIncBeta], whose result is the same on every architecture). The p-values are
 // unadjusted. It is meant to follow a significant Kruskal-Wallis test. It returns an error
-// when N = k (no within-group degrees of freedom), [ErrPerfectSeparation] when H* = N − 1,
-// and [ErrAllTied] when every value is tied.
+// when N = k (no within-group degrees of freedom), [ErrConstantGroups] when the
+// within-group mean square MSE is 0 (H* = N − 1: every group internally constant), and
+// [ErrAllTied] when every value is tied.
 func ConoverImanTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 	if err := checkPairs(r, pairs); err != nil {
 		return nil, fmt.Errorf("conover-iman: %w", err)
@@ -128,7 +131,7 @@ func ConoverImanTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 	df := float64(r.N - r.K)
 	mse := float64(s2*float64(float64(r.N-1)-hStar)) / df
 	if !(mse > 0) || float64(float64(r.N-1)-hStar) <= float64(1e-12*float64(r.N-1)) {
-		return nil, fmt.Errorf("conover-iman: %w", ErrPerfectSeparation)
+		return nil, fmt.Errorf("conover-iman: %w", ErrConstantGroups)
 	}
 	out := make([]Comparison, len(pairs))
 	for k, p := range pairs {

@@ -130,10 +130,26 @@ func TestDunnVarianceByEnumeration(t *testing.T) {
 }
 
 func TestPostHocErrors(t *testing.T) {
-	// Separated groups with no spread inside them: H* = N − 1 (METHODS.md §1.1).
-	sep, _ := Rank([]int32{0, 0, 1, 1}, []float64{1, 1, 2, 2}, 2)
-	if _, err := ConoverImanTest(sep, AllPairs(2)); !errors.Is(err, ErrPerfectSeparation) {
-		t.Errorf("separated groups: %v", err)
+	// Groups with no spread inside them: H* = N − 1 (METHODS.md §1.1), whether their
+	// values differ between groups or not; groups that merely do not overlap have spread.
+	for _, tc := range []struct {
+		name   string
+		group  []int32
+		values []float64
+		k      int
+		want   error
+	}{
+		{"constant and separated", []int32{0, 0, 1, 1}, []float64{1, 1, 2, 2}, 2, ErrConstantGroups},
+		{"constant, two groups share a value", []int32{0, 0, 1, 1, 2, 2}, []float64{1, 1, 1, 1, 2, 2}, 3, ErrConstantGroups},
+		{"separated with spread", []int32{0, 0, 1, 1}, []float64{1, 2, 3, 4}, 2, nil},
+	} {
+		r, err := Rank(tc.group, tc.values, tc.k)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, err := ConoverImanTest(r, AllPairs(tc.k)); !errors.Is(err, tc.want) || (tc.want == nil) != (err == nil) {
+			t.Errorf("%s: %v, want %v", tc.name, err, tc.want)
+		}
 	}
 	r, _ := Rank([]int32{0, 0, 1, 1}, []float64{1, 2, 3, 4}, 2)
 	if _, err := DunnTest(r, [][2]int{{0, 0}}); err == nil {

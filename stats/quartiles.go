@@ -66,11 +66,20 @@ func type7(x []float64, p float64) float64 {
 //
 // It lies in [−1, 1]: 0 when the median sits midway between the quartiles, positive when
 // the upper part of the middle half is the longer. ok is false when Q3 <= Q1, where it is
-// undefined. The formula is applied to the halved quartiles, so the differences cannot
-// overflow; halving is exact for all but subnormal values, and the ratio is unchanged.
+// undefined, and when the median does not lie in [Q1, Q3] or a value is NaN or ±Inf (not
+// quartiles of a sample). Each difference is at most Q3 − Q1, so |s| <= 1 after rounding
+// too. When Q1 or Q3 reaches half of MaxFloat64 in magnitude, Q3 − Q1 could overflow, and
+// the formula is applied to the halved quartiles instead: halving is exact there (the
+// quartiles are far from the subnormal range; a subnormal median loses at most one unit
+// of 2^-1074, nothing beside differences that large), and the ratio is unchanged. Halving
+// is not used for small values, where it would round subnormal quartiles (Q1 = 3·2^-1074
+// and Q3 = 4·2^-1074 would both halve to 2·2^-1074 and give 0/0).
 func QuartileSkewness(q1, median, q3 float64) (s float64, ok bool) {
-	if !(q3 > q1) || math.IsNaN(median) {
+	if !(q3 > q1 && q1 <= median && median <= q3) || math.IsInf(q1, 0) || math.IsInf(q3, 0) {
 		return 0, false
+	}
+	if math.Abs(q1) < math.MaxFloat64/2 && math.Abs(q3) < math.MaxFloat64/2 {
+		return ((q3 - median) - (median - q1)) / (q3 - q1), true
 	}
 	a, m, b := q1/2, median/2, q3/2
 	return ((b - m) - (m - a)) / (b - a), true

@@ -103,6 +103,7 @@ func withinULPs(got, want float64, n int) bool {
 // gives ±1, and Q1 = Q3 has no value. The fourth case is group L1 of examples/dissolution
 // (quartiles 12.375, 14.75, 15.625 in its results): (0.875 − 2.375)/3.25 = −6/13.
 func TestQuartileSkewness(t *testing.T) {
+	u := math.SmallestNonzeroFloat64
 	for _, tc := range []struct{ q1, m, q3, want float64 }{
 		{5, 5.75, 6.5, 0},
 		{1, 1, 2.25, 1},
@@ -110,13 +111,23 @@ func TestQuartileSkewness(t *testing.T) {
 		{12.375, 14.75, 15.625, -6.0 / 13},
 		{-math.MaxFloat64, 0, math.MaxFloat64, 0},
 		{-math.MaxFloat64, -math.MaxFloat64, math.MaxFloat64, 1},
+		// Worked by hand in units of u = 2^-1074 (subnormal quartiles, where halving
+		// rounds): (1 − 0)/1 = 1, (0 − 1)/1 = −1, (5 − 3)/8 = 1/4, (1 − 1)/2 = 0.
+		{3 * u, 3 * u, 4 * u, 1},
+		{3 * u, 4 * u, 4 * u, -1},
+		{-3 * u, 0, 5 * u, 0.25},
+		{u, 2 * u, 3 * u, 0},
+		// A subnormal median beside quartiles near MaxFloat64: (M − 0) − (0 + M) = 0.
+		{-math.MaxFloat64, u, math.MaxFloat64, 0},
 	} {
 		got, ok := QuartileSkewness(tc.q1, tc.m, tc.q3)
 		if !ok || math.Abs(got-tc.want) > 1e-15 {
 			t.Errorf("QuartileSkewness(%v, %v, %v) = %v, %v; want %v", tc.q1, tc.m, tc.q3, got, ok, tc.want)
 		}
 	}
-	for _, q := range [][3]float64{{3, 3, 3}, {4, 3, 2}, {1, math.NaN(), 2}} {
+	// No value: Q1 = Q3, Q3 < Q1, a NaN median, a median outside [Q1, Q3], infinite ends.
+	for _, q := range [][3]float64{{3, 3, 3}, {4, 3, 2}, {1, math.NaN(), 2}, {1, 3, 2}, {1, 0, 2},
+		{math.Inf(-1), 0, 1}, {0, 1, math.Inf(1)}, {math.NaN(), 1, 2}} {
 		if got, ok := QuartileSkewness(q[0], q[1], q[2]); ok {
 			t.Errorf("QuartileSkewness(%v) = %v, want no value", q, got)
 		}

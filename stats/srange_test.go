@@ -514,3 +514,73 @@ func ExampleStudentizedRangeQuantile() {
 	fmt.Printf("q = %.3f, P(Q >= q) = %.4f\n", q, p)
 	// Output: q = 3.877, P(Q >= q) = 0.0500
 }
+
+// TestStudentizedRangeLargeDf: above srangeDfInf the tails are those of df = ∞, which
+// the finite-df integral at df = 1e15 agrees with (CDF within 1e-13, upper tail within
+// the factor exp(q⁴/(16 df)) of the second-order expansion, plus 1e-11 for the
+// quadratures); df up to MaxFloat64 returns at once instead of integrating panels of
+// width 0.
+func TestStudentizedRangeLargeDf(t *testing.T) {
+	for _, k := range []int{2, 5, 20, 100} {
+		for _, q := range []float64{0.5, 3, 6, 12, 20} {
+			lo, up := srangeTails(q, k, 1e15)
+			li, ui := srangeTails(q, k, math.Inf(1))
+			bound := math.Expm1(q*q*q*q/(16*1e15)) + 1e-11
+			if math.Abs(lo-li) > 1e-13 || math.Abs(up-ui) > bound*ui {
+				t.Errorf("k = %d, q = %v: df = 1e15 gives %v, %v; df = ∞ %v, %v", k, q, lo, up, li, ui)
+			}
+			for _, df := range []float64{1.0000000000000002e15, 1e50, 1e300, math.MaxFloat64} {
+				if l, u := srangeTails(q, k, df); l != li || u != ui {
+					t.Errorf("k = %d, q = %v, df = %v: %v, %v; want the df = ∞ values %v, %v", k, q, df, l, u, li, ui)
+				}
+			}
+		}
+	}
+}
+
+// TestStudentizedRangeClosedForms: for k above srangeLoopMaxK, rangeTails takes the
+// powers from closed forms; they agree with the recurrence used for smaller k to 1e-12
+// relative (8e-14 seen) on a grid of x for k from 21 to 1000.
+func TestStudentizedRangeClosedForms(t *testing.T) {
+	tab := srangeInit()
+	for _, k := range []int{21, 65, 100, 300, 1000} {
+		for x := 0.05; x < rangeXMax; x *= 1.25 {
+			l1, u1 := rangeTailsWith(tab, x, k, true)
+			l0, u0 := rangeTailsWith(tab, x, k, false)
+			for _, c := range [][2]float64{{l1, l0}, {u1, u0}} {
+				if c[1] > 1e-290 && math.Abs(c[0]-c[1]) > 1e-12*c[1] {
+					t.Errorf("k = %d, x = %v: closed forms %v, %v; recurrence %v, %v", k, x, l1, u1, l0, u0)
+				}
+			}
+		}
+	}
+}
+
+// srangeLargeKBitsHash is the FNV-1a hash of the tails below (closed forms, k > 64),
+// recorded on linux/amd64 (GOAMD64=v1); bench/arch-determinism.sh requires it on every
+// build.
+const srangeLargeKBitsHash = 0x784a1bd71cf9f892
+
+// TestStudentizedRangeLargeKBits hashes the bits of the tails for k above srangeLoopMaxK
+// (finite and infinite df), where rangeTails uses its closed forms.
+func TestStudentizedRangeLargeKBits(t *testing.T) {
+	h := fnv.New64a()
+	var buf [8]byte
+	for _, df := range []float64{1, 7.5, 120, math.Inf(1)} {
+		for _, k := range []int{65, 200, 1000} {
+			for _, q := range []float64{2.5, 6.1, 11} {
+				lo, up := srangeTails(q, k, df)
+				for _, x := range []float64{lo, up} {
+					b := math.Float64bits(x)
+					for i := range 8 {
+						buf[i] = byte(b >> (8 * i))
+					}
+					h.Write(buf[:])
+				}
+			}
+		}
+	}
+	if got := h.Sum64(); got != srangeLargeKBitsHash {
+		t.Errorf("hash %#x, recorded on amd64 %#x", got, uint64(srangeLargeKBitsHash))
+	}
+}

@@ -55,7 +55,7 @@ func HTML(w io.Writer, res *results.Results, meta Meta, values []AnalysisValues)
 	}
 	for i := range res.Analyses {
 		a := &res.Analyses[i]
-		v, err := analysisView(i, a, byID[a.ID])
+		v, err := analysisView(i, a, res.Plan.Alpha, byID[a.ID])
 		if err != nil {
 			return fmt.Errorf("html report: analysis %q: %w", a.ID, err)
 		}
@@ -135,6 +135,10 @@ type htmlAnalysis struct {
 	PairPMethods string
 	// ClippedRanks names the groups whose mean-rank interval was cut to its range.
 	ClippedRanks string
+	// LettersSay is [LettersMeaning] of the letter display; LettersNumbered says that the
+	// display has more than 52 letters (names with numbers, joined with ".").
+	LettersSay      string
+	LettersNumbered bool
 }
 
 type diagRow struct {
@@ -177,7 +181,7 @@ func spreadOf(rows []diagRow) *spreadNote {
 // analysisView prepares one analysis for the template: its plots and the arithmetic on
 // results that the page shows beside the numbers it comes from (IQR = Q3 − Q1, tie
 // share = tied values / N, the ratio of the widest IQR to the narrowest).
-func analysisView(i int, a *results.Analysis, vals [][]float64) (htmlAnalysis, error) {
+func analysisView(i int, a *results.Analysis, alpha float64, vals [][]float64) (htmlAnalysis, error) {
 	v := htmlAnalysis{Analysis: a, Anchor: "analysis-" + strconv.Itoa(i+1), HasValues: vals != nil}
 	v.RankMid = float64(a.N+1) / 2
 	for _, g := range a.Groups {
@@ -223,6 +227,10 @@ func analysisView(i int, a *results.Analysis, vals [][]float64) (htmlAnalysis, e
 			}
 		}
 		v.PairPMethods = strings.Join(methods, " or ")
+		v.LettersSay = LettersMeaning(ph, alpha, "α")
+		for _, l := range ph.Letters {
+			v.LettersNumbered = v.LettersNumbered || strings.ContainsAny(l.Display, ".0123456789")
+		}
 		if ph.Ran && len(ph.Pairs) > 0 {
 			svg, err := heatmapSVG(a)
 			if err != nil {
@@ -469,11 +477,11 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 {{end}}</tbody>
 </table>
 <p class="note">The shift estimates how far the first group's values lie above the second's (median of all pairwise differences, with its distribution-free interval); Cliff's δ is P(first &gt; second) − P(first &lt; second). p-values of the pairs from the {{$a.PairPMethods}}.</p>
-{{if .Letters}}<p>Compact letter display (groups sharing a letter do not differ at α after adjustment):</p>
+{{if .Letters}}<p>Compact letter display: {{$a.LettersSay}}.{{if $a.LettersNumbered}} With more than 52 letters, names carry a number (a1, b1, …) and a group's names are joined with “.”.{{end}}</p>
 <table>
 <thead><tr><th>group</th><th>letters</th></tr></thead>
 <tbody>
-{{range .Letters}}<tr><td>{{.Group}}</td><td><code>{{.Letters}}</code></td></tr>
+{{range .Letters}}<tr><td>{{.Group}}</td><td><code>{{.Display}}</code></td></tr>
 {{end}}</tbody>
 </table>{{end}}
 {{else}}<p class="decision">Not run: {{.Why}}.</p>{{end}}

@@ -602,6 +602,13 @@ func TestHTMLVariants(t *testing.T) {
 			ph.Ran, ph.Why, ph.Pairs, ph.Letters = false, "not run: the omnibus test did not reject", nil, nil
 			return v
 		}, []string{"Not run: not run: the omnibus test did not reject"}, 2, []string{"Compact letter display"}},
+		{"numbered letters, no adjustment", func(r *results.Results, v []AnalysisValues) []AnalysisValues {
+			ph := r.Analyses[0].PostHoc
+			ph.Adjust = "none"
+			ph.Letters[0].Letters, ph.Letters[0].Display = []string{"a", "b1"}, "a.b1"
+			return v
+		}, []string{"not found to differ at α = 0.05 without adjustment", "a.b1", "names carry a number (a1, b1, …) and a group's names are joined with “.”"}, 3,
+			[]string{"after adjustment", "do not differ"}},
 		{"no values", func(r *results.Results, v []AnalysisValues) []AnalysisValues { return nil },
 			[]string{"The observations were not given, so no dots are drawn."}, 3, []string{"Dots are the observations"}},
 	} {

@@ -11,9 +11,9 @@ import (
 // Markdown writes summary.md: a short summary of a run for CI step summaries and pull
 // requests (GitHub-flavoured Markdown tables): one line per analysis with the omnibus
 // result and decision, the effect sizes with their interval and its method (and any
-// warnings about it), the pairwise decisions, the decisions across analyses, the
-// fingerprints, and how to verify the run. dir is the run folder as the reader should type
-// it in the verify command.
+// warnings about it), the pairwise decisions with the letter display, the decisions
+// across analyses, the fingerprints, and how to verify the run. dir is the run folder as
+// the reader should type it in the verify command.
 func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 	ew := &errWriter{w: w}
 	ew.printf("## rankplan: %s (`%s`)\n\n", mdText(res.Plan.Title), res.Plan.ID)
@@ -85,6 +85,9 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 		ew.printf("\n\n- differ: %s\n- no difference shown: %s\n", orNone(differ), orNone(same))
 		if len(none) > 0 {
 			ew.printf("- not computable: %s\n", strings.Join(none, "; "))
+		}
+		if len(ph.Letters) > 0 {
+			ew.printf("- letters: %s (%s)\n", mdText(lettersList(ph.Letters)), mdText(LettersMeaning(ph, res.Plan.Alpha, "alpha")))
 		}
 	}
 	if m := res.Multiplicity; m != nil {

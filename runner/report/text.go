@@ -192,7 +192,7 @@ func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) e
 			ew.printf("  at alpha = %s: do not reject the null hypothesis of identical distributions (p > alpha)\n", Num(d.Alpha))
 		}
 		if ph := a.PostHoc; ph != nil {
-			writePostHoc(ew, ph, st)
+			writePostHoc(ew, ph, res.Plan.Alpha, st)
 		}
 	}
 	if m := res.Multiplicity; m != nil {
@@ -337,7 +337,7 @@ var postHocNames = map[string]string{
 	"dscf":     "Dwass-Steel-Critchlow-Fligner comparisons with pairwise ranking (studentized range)",
 }
 
-func writePostHoc(ew *errWriter, ph *results.PostHoc, st Style) {
+func writePostHoc(ew *errWriter, ph *results.PostHoc, alpha float64, st Style) {
 	family := "all pairs"
 	if ph.Family == "many-to-one" {
 		family = "each group against " + strconv.Quote(ph.Control)
@@ -390,11 +390,7 @@ func writePostHoc(ew *errWriter, ph *results.PostHoc, st Style) {
 		}
 	}
 	if len(ph.Letters) > 0 {
-		parts := make([]string, len(ph.Letters))
-		for i, l := range ph.Letters {
-			parts[i] = l.Group + " " + l.Letters
-		}
-		ew.printf("    letters (groups sharing a letter do not differ at alpha): %s\n", strings.Join(parts, ", "))
+		ew.printf("    letters (%s): %s\n", LettersMeaning(ph, alpha, "alpha"), lettersList(ph.Letters))
 	}
 }
 
@@ -451,3 +447,29 @@ func intervalName(iv *results.EffectInterval) string {
 func bracket(b results.Bounds) string { return "[" + Num(b.Low) + ", " + Num(b.High) + "]" }
 
 func pct(level float64) string { return Num(100*level) + "%" }
+
+// LettersMeaning says what the compact letter display of ph shows at alpha (named
+// alphaName: "alpha" or "α"): groups sharing a letter were not found to differ, which is
+// not a finding that they are alike; groups with no letter in common were found to differ.
+// It names the adjustment only when one was applied: Nemenyi and DSCF p-values are
+// simultaneous and take none, and "none" applies none.
+func LettersMeaning(ph *results.PostHoc, alpha float64, alphaName string) string {
+	basis := "after adjustment by " + ph.Adjust
+	switch {
+	case ph.Simultaneous != "":
+		basis = "in simultaneous comparisons, without adjustment"
+	case ph.Adjust == "none":
+		basis = "without adjustment"
+	}
+	return fmt.Sprintf("groups sharing a letter were not found to differ at %s = %s %s; groups with no letter in common differ",
+		alphaName, Num(alpha), basis)
+}
+
+// lettersList writes a display as "group letters, ...", with each group's display text.
+func lettersList(ls []results.GroupLetters) string {
+	parts := make([]string, len(ls))
+	for i, l := range ls {
+		parts[i] = l.Group + " " + l.Display
+	}
+	return strings.Join(parts, ", ")
+}

@@ -231,3 +231,55 @@ func ExamplePreviewWith() {
 }
 
 func ptr(v float64) *float64 { return &v }
+
+// TestLettersMeaning: the caption of a letter display never says that groups sharing a
+// letter are alike, and names an adjustment only when one was applied.
+func TestLettersMeaning(t *testing.T) {
+	for _, tc := range []struct {
+		ph   results.PostHoc
+		want string
+	}{
+		{results.PostHoc{Adjust: "holm"}, "groups sharing a letter were not found to differ at alpha = 0.05 after adjustment by holm; groups with no letter in common differ"},
+		{results.PostHoc{Adjust: "none"}, "groups sharing a letter were not found to differ at alpha = 0.05 without adjustment; groups with no letter in common differ"},
+		{results.PostHoc{Adjust: "none", Simultaneous: "simultaneous by construction"}, "groups sharing a letter were not found to differ at alpha = 0.05 in simultaneous comparisons, without adjustment; groups with no letter in common differ"},
+	} {
+		got := LettersMeaning(&tc.ph, 0.05, "alpha")
+		if got != tc.want {
+			t.Errorf("%+v: %q, want %q", tc.ph, got, tc.want)
+		}
+		if strings.Contains(got, "do not differ") || strings.Contains(got, "same") {
+			t.Errorf("%q reads as accepting the null hypothesis", got)
+		}
+	}
+}
+
+// TestLettersRenderings: every rendering shows the display text of each group, with its
+// caption; a display of more than 52 letters shows the "."-joined names as they are.
+func TestLettersRenderings(t *testing.T) {
+	res := layoutResults()
+	ph := res.Analyses[0].PostHoc
+	ph.Adjust, ph.Simultaneous = "none", "simultaneous by construction"
+	res.Plan.Alpha = 0.05
+	ph.Letters = []results.GroupLetters{ // only A and Zürich-Süd differ
+		{Group: "A", Letters: []string{"a"}, Display: "a"},
+		{Group: "Zürich-Süd", Letters: []string{"b1"}, Display: "b1"},
+		{Group: "control group", Letters: []string{"a", "b1"}, Display: "a.b1"},
+	}
+	want := "A a, Zürich-Süd b1, control group a.b1"
+	caption := "not found to differ at alpha = 0.05 in simultaneous comparisons, without adjustment"
+	var text, md strings.Builder
+	if err := Summary(&text, res, "d.csv"); err != nil {
+		t.Fatal(err)
+	}
+	if err := Markdown(&md, res, Meta{}, "DIR"); err != nil {
+		t.Fatal(err)
+	}
+	for name, out := range map[string]string{"text": text.String(), "markdown": md.String()} {
+		if !strings.Contains(out, want) || !strings.Contains(out, caption) {
+			t.Errorf("%s lacks %q or %q:\n%s", name, want, caption, out)
+		}
+		if strings.Contains(out, "after adjustment") {
+			t.Errorf("%s names an adjustment that was not applied:\n%s", name, out)
+		}
+	}
+}

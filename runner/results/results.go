@@ -5,7 +5,7 @@
 package results
 
 // Format names this layout of results.json; a change of layout changes the name.
-const Format = "rankplan-results/1"
+const Format = "rankplan-results/2"
 
 // Results is everything a run computed, in plan order.
 type Results struct {
@@ -111,9 +111,14 @@ type PostHoc struct {
 	// others, it is positive when the first group tends to be larger) or U (rank-sum).
 	Statistic string `json:"statistic,omitempty"`
 	Pairs     []Pair `json:"pairs,omitempty"`
-	// Letters is the compact letter display (all-pairs families): groups sharing a letter
-	// do not differ at alpha after adjustment.
+	// Letters is the compact letter display of an all-pairs family ([stats.CompactLetters]),
+	// one entry per group in group order: two groups share a letter exactly when their
+	// comparison was not rejected at alpha (after the adjustment, if one was applied), and
+	// groups with no letter in common were found to differ.
 	Letters []GroupLetters `json:"letters,omitempty"`
+	// LettersMethod names how the letters were built: insert-absorb-sweep (Piepho's
+	// algorithm) or greedy-sweep (when the former would exceed its work budget).
+	LettersMethod string `json:"letters_method,omitempty"`
 }
 
 // Pair is one pairwise comparison, with its effect sizes.
@@ -147,8 +152,13 @@ type HLShift struct {
 
 // GroupLetters is a group's letters in the compact letter display.
 type GroupLetters struct {
-	Group   string `json:"group"`
-	Letters string `json:"letters"`
+	Group string `json:"group"`
+	// Letters lists the names of the group's letters ([stats.LetterName]: a..z, A..Z, then
+	// a letter followed by a number: a1, b1, ...), at least one.
+	Letters []string `json:"letters"`
+	// Display writes Letters for people ([stats.Letters.Text]): the names written together
+	// when the display has at most 52 letters ("ab"), joined with "." beyond ("a.b1").
+	Display string `json:"display"`
 }
 
 // Group describes one analysed group.

@@ -423,7 +423,14 @@ func letters(e *env, c *Case) (Value, error) {
 		m[p[0]][p[1]], m[p[1]][p[0]] = true, true
 	}
 	l, err := stats.CompactLetters(m)
-	return TextValue(strings.Join(l, " ")), err
+	if err != nil {
+		return Value{}, err
+	}
+	texts := make([]string, k)
+	for g := range texts {
+		texts[g] = l.Text(g)
+	}
+	return TextValue(strings.Join(texts, " ")), nil
 }
 
 // planFields runs the case's plan (once per plan) and reads its fields: one field gives a
