@@ -6,7 +6,10 @@ import (
 )
 
 // BetaQuantile returns x with I_x(a, b) = q, the quantile of the Beta(a, b) distribution,
-// for a, b > 0 and q in [0, 1]. Clopper-Pearson intervals use it.
+// for a, b in [1e-300, 1e13] and q in [0, 1]; other arguments (NaN and ±Inf among them) are
+// an error, and so is a continued fraction that does not converge (so far seen only with one
+// shape near 1e-300), so every call ends after at most about 1100 evaluations of I_x.
+// Clopper-Pearson intervals use it.
 //
 // It exists, rather than gonum's distuv.Beta.Quantile, so that its result is the same
 // bits on every architecture: every product that feeds a sum is written with an explicit
@@ -20,8 +23,8 @@ import (
 // halved in float64, so the result is the float64 nearest the root of the computed
 // I_x(a, b) (up to its monotonicity). I_x(a, b) is [RegIncBeta].
 func BetaQuantile(q, a, b float64) (float64, error) {
-	if !(a > 0 && b > 0) || math.IsInf(a, 0) || math.IsInf(b, 0) {
-		return 0, fmt.Errorf("beta quantile: shape parameters must be positive and finite, got %v, %v", a, b)
+	if !(a >= betaShapeMin && b >= betaShapeMin && a <= betaShapeMax && b <= betaShapeMax) {
+		return 0, fmt.Errorf("beta quantile: shape parameters must lie in [%g, %g], got %v, %v", betaShapeMin, betaShapeMax, a, b)
 	}
 	if !(q >= 0 && q <= 1) {
 		return 0, fmt.Errorf("beta quantile: probability must lie in [0, 1], got %v", q)
@@ -38,17 +41,46 @@ func BetaQuantile(q, a, b float64) (float64, error) {
 		if mid == lo || mid == hi {
 			break
 		}
-		if RegIncBeta(mid, a, b) < q {
+		p, ok := regIncBetaChecked(mid, a, b)
+		if !ok {
+			return 0, fmt.Errorf("beta quantile: I_x(%v, %v) did not converge at x = %v", a, b, mid)
+		}
+		if p < q {
 			lo = mid
 		} else {
 			hi = mid
 		}
 	}
 	// The bracket is one ulp wide: take the end whose I_x is nearer q.
-	if math.Abs(RegIncBeta(lo, a, b)-q) < math.Abs(RegIncBeta(hi, a, b)-q) {
+	plo, ok1 := regIncBetaChecked(lo, a, b)
+	phi, ok2 := regIncBetaChecked(hi, a, b)
+	if !ok1 || !ok2 {
+		return 0, fmt.Errorf("beta quantile: I_x(%v, %v) did not converge near x = %v", a, b, lo)
+	}
+	if math.Abs(plo-q) < math.Abs(phi-q) {
 		return lo, nil
 	}
 	return hi, nil
+}
+
+// The shape parameters BetaQuantile accepts. Above betaShapeMax the continued fraction
+// needs too many terms to evaluate ~1000 times promptly (and its error, about 1e-17·b, is no
+// longer small); the largest shape in use is 10^12 + 1 (Clopper-Pearson with the plan's
+// largest number of resamples). Below betaShapeMin, x^a in the prefactor no longer
+// distinguishes any x in (0, 1) from 1.
+const (
+	betaShapeMin = 1e-300
+	betaShapeMax = 1e13
+)
+
+// regIncBetaChecked is [RegIncBeta] with a flag that is false when the continued fraction
+// did not converge within its limit of terms or the result is not a number.
+func regIncBetaChecked(x, a, b float64) (float64, bool) {
+	if x <= 0 || x >= 1 {
+		return RegIncBeta(x, a, b), true
+	}
+	p, ok := regIncBeta(x, 1-x, a, b)
+	return p, ok && !math.IsNaN(p) && !math.IsInf(p, 0)
 }
 
 // RegIncBeta is the regularized incomplete beta function
@@ -69,7 +101,8 @@ func RegIncBeta(x, a, b float64) float64 {
 	case x >= 1:
 		return 1
 	}
-	return regIncBeta(x, 1-x, a, b)
+	p, _ := regIncBeta(x, 1-x, a, b)
+	return p
 }
 
 // regIncBeta is I_x(a, b) with y = 1 − x passed along, so that the side that was given
@@ -83,17 +116,22 @@ func RegIncBeta(x, a, b float64) float64 {
 // quantiles of Beta(a, b) with small a and very large b the reflected fraction has an
 // argument near 1, its denominators partly cancel, and the error grows to about 1e-17·b
 // (7.4e-11 at b = 10^7, 4.8e-9 at b = 10^9); our own finding.
-func regIncBeta(x, y, a, b float64) float64 {
+//
+// The flag is false when the continued fraction did not converge within its limit of terms.
+func regIncBeta(x, y, a, b float64) (float64, bool) {
 	if x > float64(a+1)/float64(a+b+2) {
-		return 1 - regIncBeta(y, x, b, a)
+		p, ok := regIncBeta(y, x, b, a)
+		return 1 - p, ok
 	}
-	return float64(expPortable(logBetaPrefactor(x, y, a, b))*betaCF(x, y, a, b)) / a
+	cf, ok := betaCF(x, y, a, b)
+	return float64(expPortable(logBetaPrefactor(x, y, a, b))*cf) / a, ok
 }
 
 // betaCF evaluates the continued fraction of I_x(a, b) (DLMF 8.17.22) by modified Lentz;
 // y = 1 − x. Its first denominator 1 − (a+b)x/(a+1) cancels near the switch point
 // x = (a+1)/(a+b+2), so for x >= 1/2 it is formed from y as ((1 − b) + (a+b)y)/(a+1).
-func betaCF(x, y, a, b float64) float64 {
+// The flag is false when 10^6 terms did not bring convergence (or the terms are not numbers).
+func betaCF(x, y, a, b float64) (float64, bool) {
 	const tiny = 1e-300
 	qab, qap, qam := a+b, a+1, a-1
 	c := 1.0
@@ -118,10 +156,13 @@ func betaCF(x, y, a, b float64) float64 {
 		del := float64(d * c)
 		h = float64(h * del)
 		if math.Abs(del-1) <= 1e-16 {
+			return h, true
+		}
+		if math.IsNaN(del) {
 			break
 		}
 	}
-	return h
+	return h, false
 }
 
 // lentzStep advances the modified Lentz recurrences by one partial numerator aa (partial
