@@ -446,6 +446,15 @@ func TestPostHoc(t *testing.T) {
 		math.Abs(ph.Pairs[2].CliffsDelta-(-0.68)) > 1e-12 || math.Abs(ph.Pairs[2].HodgesLehmann.Shift-(-0.945)) > 1e-12 {
 		t.Errorf("trt1 vs trt2: %+v", ph.Pairs[2])
 	}
+	// The Moses interval's description (METHODS.md §5: c = 23 for 10 and 10 values, coverage
+	// 0.95674): ctrl and trt1 share the value 4.17, the other pairs have no ties.
+	for i, pr := range ph.Pairs {
+		hl := pr.HodgesLehmann
+		if hl.Coverage == nil || math.Abs(*hl.Coverage-0.95674) > 5e-6 || hl.IndexMethod != "exact" || !hl.LevelAttainable ||
+			hl.TiedValues != (i == 0) {
+			t.Errorf("pair %v: %+v", pr.Groups, hl)
+		}
+	}
 	letters := map[string]string{}
 	for _, l := range ph.Letters {
 		letters[l.Group] = l.Letters

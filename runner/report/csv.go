@@ -13,12 +13,14 @@ var pairsHeader = []string{
 	"analysis", "outcome", "method", "adjust", "family", "group1", "group2",
 	"mean_rank_diff", "statistic_name", "statistic", "p_method", "p", "p_adjusted", "reject",
 	"cliffs_delta", "vargha_delaney_a", "hl_shift", "hl_low", "hl_high", "hl_level",
+	"hl_coverage", "hl_index_method", "hl_level_attainable", "hl_tied_values",
 }
 
 // PairsCSV writes pairs.csv: the pairwise comparisons of every analysis whose comparisons
 // ran, one row per pair, as a tidy RFC 4180 table for spreadsheets. Numbers are written
 // with every digit (the shortest text that reads back to the same double), so the table
-// holds exactly what results.json holds; reject is true or false. An analysis without
+// holds exactly what results.json holds; reject and the hl_ flags are true or false, and
+// hl_coverage is empty where results.json has null. An analysis without
 // comparisons has no rows; a run without any has only the header.
 func PairsCSV(w io.Writer, res *results.Results) error {
 	cw := csv.NewWriter(w)
@@ -41,6 +43,10 @@ func PairsCSV(w io.Writer, res *results.Results) error {
 				a.ID, a.Outcome, ph.Method, adjust, ph.Family, p.Groups[0], p.Groups[1],
 				f(p.MeanRankDiff), ph.Statistic, f(p.Statistic), p.PMethod, f(p.P), f(p.PAdjusted), strconv.FormatBool(p.Reject),
 				f(p.CliffsDelta), f(p.VarghaDelaneyA), f(hl.Shift), f(hl.Interval.Low), f(hl.Interval.High), f(hl.Interval.Level),
+				"", hl.IndexMethod, strconv.FormatBool(hl.LevelAttainable), strconv.FormatBool(hl.TiedValues),
+			}
+			if hl.Coverage != nil {
+				row[len(row)-4] = f(*hl.Coverage)
 			}
 			if err := cw.Write(row); err != nil {
 				return err
