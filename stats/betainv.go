@@ -6,9 +6,9 @@ import (
 )
 
 // BetaQuantile returns x with I_x(a, b) = q, the quantile of the Beta(a, b) distribution,
-// for a, b in [1e-300, 1e13] and q in [0, 1]; other arguments (NaN and ±Inf among them) are
-// an error, and so is a continued fraction that does not converge (so far seen only with one
-// shape near 1e-300), so every call ends after at most about 1100 evaluations of I_x.
+// for a, b in [1e-300, 2^63] and q in [0, 1]; other arguments (NaN and ±Inf among them) are
+// an error, and so is an I_x that is not a number or a call whose continued fractions need
+// more than betaQuantileTerms terms in all, so every call ends promptly.
 // Clopper-Pearson intervals use it.
 //
 // It exists, rather than gonum's distuv.Beta.Quantile, so that its result is the same
@@ -36,14 +36,29 @@ func BetaQuantile(q, a, b float64) (float64, error) {
 		return 1, nil
 	}
 	lo, hi := 0.0, 1.0
+	terms := 0
+	eval := func(x float64) (float64, error) {
+		if x <= 0 || x >= 1 {
+			return RegIncBeta(x, a, b), nil
+		}
+		p, n, _ := regIncBeta(x, 1-x, a, b)
+		terms += n
+		switch {
+		case math.IsNaN(p) || math.IsInf(p, 0):
+			return 0, fmt.Errorf("beta quantile: I_x(%v, %v) is not a number at x = %v", a, b, x)
+		case terms > betaQuantileTerms:
+			return 0, fmt.Errorf("beta quantile: I_x(%v, %v) needs more than %d terms of its continued fraction", a, b, betaQuantileTerms)
+		}
+		return p, nil
+	}
 	for range 2200 {
 		mid := lo + float64(hi-lo)/2
 		if mid == lo || mid == hi {
 			break
 		}
-		p, ok := regIncBetaChecked(mid, a, b)
-		if !ok {
-			return 0, fmt.Errorf("beta quantile: I_x(%v, %v) did not converge at x = %v", a, b, mid)
+		p, err := eval(mid)
+		if err != nil {
+			return 0, err
 		}
 		if p < q {
 			lo = mid
@@ -52,10 +67,13 @@ func BetaQuantile(q, a, b float64) (float64, error) {
 		}
 	}
 	// The bracket is one ulp wide: take the end whose I_x is nearer q.
-	plo, ok1 := regIncBetaChecked(lo, a, b)
-	phi, ok2 := regIncBetaChecked(hi, a, b)
-	if !ok1 || !ok2 {
-		return 0, fmt.Errorf("beta quantile: I_x(%v, %v) did not converge near x = %v", a, b, lo)
+	plo, err := eval(lo)
+	if err != nil {
+		return 0, err
+	}
+	phi, err := eval(hi)
+	if err != nil {
+		return 0, err
 	}
 	if math.Abs(plo-q) < math.Abs(phi-q) {
 		return lo, nil
@@ -63,25 +81,18 @@ func BetaQuantile(q, a, b float64) (float64, error) {
 	return hi, nil
 }
 
-// The shape parameters BetaQuantile accepts. Above betaShapeMax the continued fraction
-// needs too many terms to evaluate ~1000 times promptly (and its error, about 1e-17·b, is no
-// longer small); the largest shape in use is 10^12 + 1 (Clopper-Pearson with the plan's
-// largest number of resamples). Below betaShapeMin, x^a in the prefactor no longer
-// distinguishes any x in (0, 1) from 1.
+// The arguments BetaQuantile accepts, and its bound on work. Shapes run up to 2^63, the
+// largest count of resamples (Clopper-Pearson uses b and m − b + 1); below 1e-300, x^a in
+// the prefactor no longer tells any x in (0, 1) from 1. betaQuantileTerms bounds the terms
+// of the continued fraction over all evaluations of one call (about 0.3 s): once NaN shapes
+// such as a = 1e308 (a + b overflows) made every one of about 1100 evaluations run its
+// 10^6 terms. Near the mean of Beta(a, b) with a and b above about 10^13 a single fraction
+// may stop at its limit of terms without converging; as before, its value is used.
 const (
-	betaShapeMin = 1e-300
-	betaShapeMax = 1e13
+	betaShapeMin      = 1e-300
+	betaShapeMax      = 0x1p63
+	betaQuantileTerms = 30_000_000
 )
-
-// regIncBetaChecked is [RegIncBeta] with a flag that is false when the continued fraction
-// did not converge within its limit of terms or the result is not a number.
-func regIncBetaChecked(x, a, b float64) (float64, bool) {
-	if x <= 0 || x >= 1 {
-		return RegIncBeta(x, a, b), true
-	}
-	p, ok := regIncBeta(x, 1-x, a, b)
-	return p, ok && !math.IsNaN(p) && !math.IsInf(p, 0)
-}
 
 // RegIncBeta is the regularized incomplete beta function
 //
@@ -101,7 +112,7 @@ func RegIncBeta(x, a, b float64) float64 {
 	case x >= 1:
 		return 1
 	}
-	p, _ := regIncBeta(x, 1-x, a, b)
+	p, _, _ := regIncBeta(x, 1-x, a, b)
 	return p
 }
 
@@ -117,21 +128,23 @@ func RegIncBeta(x, a, b float64) float64 {
 // argument near 1, its denominators partly cancel, and the error grows to about 1e-17·b
 // (7.4e-11 at b = 10^7, 4.8e-9 at b = 10^9); our own finding.
 //
-// The flag is false when the continued fraction did not converge within its limit of terms.
-func regIncBeta(x, y, a, b float64) (float64, bool) {
+// It also returns the terms of the continued fraction used and whether it converged within
+// its limit of terms.
+func regIncBeta(x, y, a, b float64) (float64, int, bool) {
 	if x > float64(a+1)/float64(a+b+2) {
-		p, ok := regIncBeta(y, x, b, a)
-		return 1 - p, ok
+		p, terms, ok := regIncBeta(y, x, b, a)
+		return 1 - p, terms, ok
 	}
-	cf, ok := betaCF(x, y, a, b)
-	return float64(expPortable(logBetaPrefactor(x, y, a, b))*cf) / a, ok
+	cf, terms, ok := betaCF(x, y, a, b)
+	return float64(expPortable(logBetaPrefactor(x, y, a, b))*cf) / a, terms, ok
 }
 
 // betaCF evaluates the continued fraction of I_x(a, b) (DLMF 8.17.22) by modified Lentz;
 // y = 1 − x. Its first denominator 1 − (a+b)x/(a+1) cancels near the switch point
 // x = (a+1)/(a+b+2), so for x >= 1/2 it is formed from y as ((1 − b) + (a+b)y)/(a+1).
-// The flag is false when 10^6 terms did not bring convergence (or the terms are not numbers).
-func betaCF(x, y, a, b float64) (float64, bool) {
+// It also returns the number of terms used, and false when 10^6 terms did not bring
+// convergence or the terms stopped being numbers.
+func betaCF(x, y, a, b float64) (float64, int, bool) {
 	const tiny = 1e-300
 	qab, qap, qam := a+b, a+1, a-1
 	c := 1.0
@@ -156,13 +169,13 @@ func betaCF(x, y, a, b float64) (float64, bool) {
 		del := float64(d * c)
 		h = float64(h * del)
 		if math.Abs(del-1) <= 1e-16 {
-			return h, true
+			return h, m, true
 		}
 		if math.IsNaN(del) {
-			break
+			return h, m, false
 		}
 	}
-	return h, false
+	return h, 1_000_000, false
 }
 
 // lentzStep advances the modified Lentz recurrences by one partial numerator aa (partial
