@@ -141,10 +141,11 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 			pp.PAdjusted, pp.Reject = ptr(adj[i]), rej[i]
 		}
 		pp.CliffsDelta, pp.VarghaDelaneyA = e.CliffsDelta, e.VarghaDelaneyA
-		pp.HodgesLehmann = results.HLShift{Shift: hl.Shift, Interval: results.Interval{Level: level, Low: hl.Low, High: hl.High}}
+		pp.HodgesLehmann = results.HLShift{Shift: hl.Shift, Interval: results.Interval{Level: level, Low: hl.Low, High: hl.High},
+			IndexMethod: "normal", LevelAttainable: hl.Attainable, TiedValues: hl.Tied}
 		if hl.ExactIndex {
 			c := hl.Coverage
-			pp.HodgesLehmann.Coverage = &c
+			pp.HodgesLehmann.Coverage, pp.HodgesLehmann.IndexMethod = &c, "exact"
 		}
 	}
 	if out.Family == "all-pairs" {

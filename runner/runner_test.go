@@ -438,6 +438,16 @@ func TestPostHoc(t *testing.T) {
 		math.Abs(ph.Pairs[2].CliffsDelta-(-0.68)) > 1e-12 || math.Abs(ph.Pairs[2].HodgesLehmann.Shift-(-0.945)) > 1e-12 {
 		t.Errorf("trt1 vs trt2: %+v", ph.Pairs[2])
 	}
+	// The Moses interval (c = 23 for 10 and 10 values, coverage 1 - 2 P0(U <= 23) =
+	// 0.95674, testdata/reference/moses_exact.json): ctrl and trt1 share the value 4.17, the
+	// other pairs have no ties.
+	for i, pr := range ph.Pairs {
+		hl := pr.HodgesLehmann
+		if hl.Coverage == nil || math.Abs(*hl.Coverage-0.95674) > 5e-6 || hl.IndexMethod != "exact" || !hl.LevelAttainable ||
+			hl.TiedValues != (i == 0) {
+			t.Errorf("pair %v: %+v", pr.Groups, hl)
+		}
+	}
 	// Only trt1 and trt2 differ, so (worked by hand) ctrl holds both letters and each
 	// treatment one of them.
 	wantLetters := []results.GroupLetters{

@@ -6,7 +6,10 @@ import (
 )
 
 // BetaQuantile returns x with I_x(a, b) = q, the quantile of the Beta(a, b) distribution,
-// for a, b > 0 and q in [0, 1]. Clopper-Pearson intervals use it.
+// for a, b in [1e-300, 2^63] and q in [0, 1]; other arguments (NaN and ±Inf among them) are
+// an error, and so is an I_x that is not a number or a call whose continued fractions need
+// more than betaQuantileTerms terms in all, so every call ends promptly.
+// Clopper-Pearson intervals use it.
 //
 // It exists, rather than gonum's distuv.Beta.Quantile, so that its result is the same
 // bits on every architecture: every product that feeds a sum is written with an explicit
@@ -20,8 +23,8 @@ import (
 // halved in float64, so the result is the float64 nearest the root of the computed
 // I_x(a, b) (up to its monotonicity). I_x(a, b) is [RegIncBeta].
 func BetaQuantile(q, a, b float64) (float64, error) {
-	if !(a > 0 && b > 0) || math.IsInf(a, 0) || math.IsInf(b, 0) {
-		return 0, fmt.Errorf("beta quantile: shape parameters must be positive and finite, got %v, %v", a, b)
+	if !(a >= betaShapeMin && b >= betaShapeMin && a <= betaShapeMax && b <= betaShapeMax) {
+		return 0, fmt.Errorf("beta quantile: shape parameters must lie in [%g, %g], got %v, %v", betaShapeMin, betaShapeMax, a, b)
 	}
 	if !(q >= 0 && q <= 1) {
 		return 0, fmt.Errorf("beta quantile: probability must lie in [0, 1], got %v", q)
@@ -33,23 +36,63 @@ func BetaQuantile(q, a, b float64) (float64, error) {
 		return 1, nil
 	}
 	lo, hi := 0.0, 1.0
+	terms := 0
+	eval := func(x float64) (float64, error) {
+		if x <= 0 || x >= 1 {
+			return RegIncBeta(x, a, b), nil
+		}
+		p, n, _ := regIncBeta(x, 1-x, a, b)
+		terms += n
+		switch {
+		case math.IsNaN(p) || math.IsInf(p, 0):
+			return 0, fmt.Errorf("beta quantile: I_x(%v, %v) is not a number at x = %v", a, b, x)
+		case terms > betaQuantileTerms:
+			return 0, fmt.Errorf("beta quantile: I_x(%v, %v) needs more than %d terms of its continued fraction", a, b, betaQuantileTerms)
+		}
+		return p, nil
+	}
 	for range 2200 {
 		mid := lo + float64(hi-lo)/2
 		if mid == lo || mid == hi {
 			break
 		}
-		if RegIncBeta(mid, a, b) < q {
+		p, err := eval(mid)
+		if err != nil {
+			return 0, err
+		}
+		if p < q {
 			lo = mid
 		} else {
 			hi = mid
 		}
 	}
 	// The bracket is one ulp wide: take the end whose I_x is nearer q.
-	if math.Abs(RegIncBeta(lo, a, b)-q) < math.Abs(RegIncBeta(hi, a, b)-q) {
+	plo, err := eval(lo)
+	if err != nil {
+		return 0, err
+	}
+	phi, err := eval(hi)
+	if err != nil {
+		return 0, err
+	}
+	if math.Abs(plo-q) < math.Abs(phi-q) {
 		return lo, nil
 	}
 	return hi, nil
 }
+
+// The arguments BetaQuantile accepts, and its bound on work. Shapes run up to 2^63, the
+// largest count of resamples (Clopper-Pearson uses b and m − b + 1); below 1e-300, x^a in
+// the prefactor no longer tells any x in (0, 1) from 1. betaQuantileTerms bounds the terms
+// of the continued fraction over all evaluations of one call (about 0.3 s): once NaN shapes
+// such as a = 1e308 (a + b overflows) made every one of about 1100 evaluations run its
+// 10^6 terms. Near the mean of Beta(a, b) with a and b above about 10^13 a single fraction
+// may stop at its limit of terms without converging; as before, its value is used.
+const (
+	betaShapeMin      = 1e-300
+	betaShapeMax      = 0x1p63
+	betaQuantileTerms = 30_000_000
+)
 
 // RegIncBeta is the regularized incomplete beta function
 //
@@ -69,7 +112,8 @@ func RegIncBeta(x, a, b float64) float64 {
 	case x >= 1:
 		return 1
 	}
-	return regIncBeta(x, 1-x, a, b)
+	p, _, _ := regIncBeta(x, 1-x, a, b)
+	return p
 }
 
 // regIncBeta is I_x(a, b) with y = 1 − x passed along, so that the side that was given
@@ -83,17 +127,24 @@ func RegIncBeta(x, a, b float64) float64 {
 // quantiles of Beta(a, b) with small a and very large b the reflected fraction has an
 // argument near 1, its denominators partly cancel, and the error grows to about 1e-17·b
 // (7.4e-11 at b = 10^7, 4.8e-9 at b = 10^9); our own finding.
-func regIncBeta(x, y, a, b float64) float64 {
+//
+// It also returns the terms of the continued fraction used and whether it converged within
+// its limit of terms.
+func regIncBeta(x, y, a, b float64) (float64, int, bool) {
 	if x > float64(a+1)/float64(a+b+2) {
-		return 1 - regIncBeta(y, x, b, a)
+		p, terms, ok := regIncBeta(y, x, b, a)
+		return 1 - p, terms, ok
 	}
-	return float64(expPortable(logBetaPrefactor(x, y, a, b))*betaCF(x, y, a, b)) / a
+	cf, terms, ok := betaCF(x, y, a, b)
+	return float64(expPortable(logBetaPrefactor(x, y, a, b))*cf) / a, terms, ok
 }
 
 // betaCF evaluates the continued fraction of I_x(a, b) (DLMF 8.17.22) by modified Lentz;
 // y = 1 − x. Its first denominator 1 − (a+b)x/(a+1) cancels near the switch point
 // x = (a+1)/(a+b+2), so for x >= 1/2 it is formed from y as ((1 − b) + (a+b)y)/(a+1).
-func betaCF(x, y, a, b float64) float64 {
+// It also returns the number of terms used, and false when 10^6 terms did not bring
+// convergence or the terms stopped being numbers.
+func betaCF(x, y, a, b float64) (float64, int, bool) {
 	const tiny = 1e-300
 	qab, qap, qam := a+b, a+1, a-1
 	c := 1.0
@@ -118,10 +169,13 @@ func betaCF(x, y, a, b float64) float64 {
 		del := float64(d * c)
 		h = float64(h * del)
 		if math.Abs(del-1) <= 1e-16 {
-			break
+			return h, m, true
+		}
+		if math.IsNaN(del) {
+			return h, m, false
 		}
 	}
-	return h
+	return h, 1_000_000, false
 }
 
 // lentzStep advances the modified Lentz recurrences by one partial numerator aa (partial

@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"testing"
+	"time"
 )
 
 // TestBetaQuantile compares BetaQuantile with scipy 1.10.1 stats.beta.ppf on the
@@ -64,5 +65,45 @@ func TestBetaQuantileErrors(t *testing.T) {
 	}
 	if x, _ := BetaQuantile(1, 2, 3); x != 1 {
 		t.Errorf("q = 1 gives %v", x)
+	}
+}
+
+// TestBetaQuantileExtremeArguments: on every float input, including 1e308, the largest
+// double, subnormals, NaN, ±Inf and −0, BetaQuantile returns an error or a value in [0, 1],
+// and the whole table finishes (a shape of 1e308 once made every evaluation run the
+// continued fraction to its limit of 10^6 terms, about 1000 times). Shapes outside
+// [betaShapeMin, betaShapeMax] are refused; inside, shapes from 1e-10 to 1e13 (every
+// Clopper-Pearson interval of up to 10^12 resamples) must give a value, while the corners
+// (a shape near 1e-300, or both beyond 10^13) may report that the work bound was reached.
+func TestBetaQuantileExtremeArguments(t *testing.T) {
+	sub := math.SmallestNonzeroFloat64
+	shapes := []float64{math.NaN(), math.Inf(-1), -1, math.Copysign(0, -1), 0, sub, 1e-310, 1e-300, 1e-10, 0.5, 1, 2,
+		1e5, 1e10, 1e12 + 1, 1e13, 1e15, 0x1p60 + 1, 0x1p63, 1e19, 1e300, 1e308, math.MaxFloat64, math.Inf(1)}
+	qs := []float64{math.NaN(), math.Inf(-1), -sub, math.Copysign(0, -1), 0, sub, 0.005, 0.975, 1, 1 + 1e-16, math.Inf(1)}
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		for _, a := range shapes {
+			for _, b := range shapes {
+				inRange := a >= betaShapeMin && a <= betaShapeMax && b >= betaShapeMin && b <= betaShapeMax
+				for _, q := range qs {
+					x, err := BetaQuantile(q, a, b)
+					if err == nil && !(x >= 0 && x <= 1) {
+						t.Errorf("BetaQuantile(%v, %v, %v) = %v", q, a, b, x)
+					}
+					if err == nil && (!inRange || !(q >= 0 && q <= 1)) {
+						t.Errorf("BetaQuantile(%v, %v, %v) = %v, want an error", q, a, b, x)
+					}
+					if err != nil && q >= 0 && q <= 1 && min(a, b) >= 1e-10 && max(a, b) <= 1e13 {
+						t.Errorf("BetaQuantile(%v, %v, %v): %v", q, a, b, err)
+					}
+				}
+			}
+		}
+	}()
+	select {
+	case <-done:
+	case <-time.After(2 * time.Minute):
+		t.Fatal("BetaQuantile did not finish the table of extreme arguments")
 	}
 }

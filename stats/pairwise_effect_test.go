@@ -2,8 +2,11 @@ package stats
 
 import (
 	"math"
+	"math/big"
+	"math/bits"
 	"math/rand/v2"
 	"slices"
+	"strconv"
 	"testing"
 )
 
@@ -90,16 +93,235 @@ func TestKthDifferenceBruteForce(t *testing.T) {
 	}
 }
 
-// TestMannWhitneyCDF: m = 4, n = 5 has 126 arrangements; the two-sided exact p at U = 4
-// is 0.190476 (METHODS.md §3.6, equal to scipy's method='exact' there), so P(U <= 4) = 12/126.
-func TestMannWhitneyCDF(t *testing.T) {
-	cdf := mannWhitneyCDF(4, 5)
-	if len(cdf) != 21 || math.Abs(cdf[4]-12.0/126) > 1e-15 || math.Abs(2*cdf[4]-0.190476) > 5e-7 || cdf[20] != 1 {
-		t.Errorf("cdf %v", cdf)
+// TestMannWhitneyNullCounts: m = 4, n = 5 has 126 arrangements; the two-sided exact p at
+// U = 4 is 0.190476 (METHODS.md §3.6, equal to scipy's method='exact' there), so
+// #{U <= 4} = 12 of 126.
+func TestMannWhitneyNullCounts(t *testing.T) {
+	d, err := newMannWhitneyNull(4, 5, 20)
+	if err != nil {
+		t.Fatal(err)
 	}
-	for u := range cdf { // symmetric: P(U <= u) = P(U >= mn − u)
-		if u > 0 && math.Abs(cdf[u-1]-(1-cdf[20-u])) > 1e-15 {
-			t.Errorf("asymmetric at %d", u)
+	if d.cumAt(4).Int64() != 12 || d.total.Int64() != 126 || d.cumAt(20).Int64() != 126 {
+		t.Errorf("#{U <= 4} = %v, #{U <= 20} = %v of %v", d.cumAt(4), d.cumAt(20), d.total)
+	}
+	for _, bad := range [][3]int{{0, 3, 0}, {3, 0, 0}, {2, 2, 5}, {2, 2, -1}} {
+		if _, err := newMannWhitneyNull(bad[0], bad[1], bad[2]); err == nil {
+			t.Errorf("%v accepted", bad)
+		}
+	}
+}
+
+// bruteNullCounts enumerates all C(m+n, m) ways to place the first sample among the m + n
+// pooled ranks and counts U = #{(x, y) : x > y} for each: the untied null by definition.
+func bruteNullCounts(m, n int) []int64 {
+	counts := make([]int64, m*n+1)
+	for mask := 0; mask < 1<<(m+n); mask++ {
+		if bits.OnesCount(uint(mask)) != m {
+			continue
+		}
+		u, ysBelow := 0, 0
+		for p := 0; p < m+n; p++ {
+			if mask&(1<<p) != 0 {
+				u += ysBelow
+			} else {
+				ysBelow++
+			}
+		}
+		counts[u]++
+	}
+	return counts
+}
+
+// mosesLevels are the levels the index tests try: common ones, ones on the boundary of
+// attainability (0.9 = 1 − 2/20 for 3 and 3 values, 0.6 = 1 − 2/5 for 4 and 1), and
+// extreme ones.
+var mosesLevels = []float64{0.01, 0.5, 0.6, 0.8, 0.9, 0.95, 0.99, 0.999, 1 - 1e-9}
+
+// TestMosesIndexBruteForce compares the exact counts, c and the coverage with a brute-force
+// enumeration for every m, n <= 8: c = max{u : 2 #{U <= u} <= (1 − level) C(m+n, m)} with
+// the level as its exact decimal, coverage 1 − 2 #{U <= c}/C(m+n, m), and c = 0 with
+// Attainable false when no u qualifies.
+func TestMosesIndexBruteForce(t *testing.T) {
+	for m := 1; m <= 8; m++ {
+		for n := 1; n <= 8; n++ {
+			counts := bruteNullCounts(m, n)
+			d, err := newMannWhitneyNull(m, n, m*n)
+			if err != nil {
+				t.Fatal(err)
+			}
+			var cum int64
+			cums := make([]int64, len(counts))
+			for u, c := range counts {
+				cum += c
+				cums[u] = cum
+				if got := d.cumAt(u); !got.IsInt64() || got.Int64() != cum {
+					t.Fatalf("m %d, n %d: #{U <= %d} = %v, want %d", m, n, u, got, cum)
+				}
+			}
+			total := cums[m*n]
+			for _, level := range mosesLevels {
+				lv, _ := new(big.Rat).SetString(strconv.FormatFloat(level, 'g', -1, 64))
+				wantC, attainable := 0, false
+				for u, cu := range cums {
+					// 2 cu <= (1 − level) total
+					lhs := new(big.Rat).SetInt64(2 * cu)
+					rhs := new(big.Rat).Mul(new(big.Rat).Sub(big.NewRat(1, 1), lv), new(big.Rat).SetInt64(total))
+					if lhs.Cmp(rhs) <= 0 {
+						wantC, attainable = u, true
+					}
+				}
+				wantCov, _ := big.NewRat(total-2*cums[wantC], total).Float64()
+				for _, ix := range []func() (mosesIndex, error){
+					func() (mosesIndex, error) { return d.index(level) },
+					func() (mosesIndex, error) { // the table HodgesLehmannShift uses: up to ⌊mn/2⌋
+						h, err := newMannWhitneyNull(m, n, m*n/2)
+						if err != nil {
+							return mosesIndex{}, err
+						}
+						return h.index(level)
+					},
+				} {
+					got, err := ix()
+					if err != nil || got.c != wantC || got.coverage != wantCov || got.attainable != attainable {
+						t.Errorf("m %d, n %d, level %v: %+v %v, want c %d coverage %v attainable %v", m, n, level, got, err, wantC, wantCov, attainable)
+					}
+				}
+				widest, cov, err := widestUnattainable(m, n, level)
+				if err != nil || widest == attainable || (widest && cov != wantCov) {
+					t.Errorf("m %d, n %d, level %v: widest %v coverage %v %v", m, n, level, widest, cov, err)
+				}
+			}
+		}
+	}
+}
+
+// TestMosesUnattainable: with 3 and 3 values the widest interval [D_(1), D_(9)] has coverage
+// 1 − 2/C(6, 3) = 0.9, with 4 and 1 values 1 − 2/C(5, 1) = 0.6 (common practice): at 95% the
+// level is not attainable, and that widest interval is reported with its true coverage. At
+// exactly 0.9 (3 and 3) and 0.6 (4 and 1) it is attainable, with c = 0.
+func TestMosesUnattainable(t *testing.T) {
+	for _, tc := range []struct {
+		x, y       []float64
+		level      float64
+		attainable bool
+		coverage   float64
+		low, high  float64
+	}{
+		{[]float64{1, 5, 9}, []float64{2, 3, 7}, 0.95, false, 0.9, -6, 7},
+		{[]float64{1, 5, 9}, []float64{2, 3, 7}, 0.9, true, 0.9, -6, 7},
+		{[]float64{1, 5, 9, 4}, []float64{2}, 0.95, false, 0.6, -1, 7},
+		{[]float64{1, 5, 9, 4}, []float64{2}, 0.6, true, 0.6, -1, 7},
+		{[]float64{2}, []float64{1, 5, 9, 4}, 0.95, false, 0.6, -7, 1},
+		{[]float64{1, 2}, []float64{0}, 0.95, false, 1.0 / 3, 1, 2},
+		{[]float64{1}, []float64{0}, 0.5, false, 0, 1, 1},
+	} {
+		hl, err := HodgesLehmannShift(tc.x, tc.y, tc.level)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if hl.Attainable != tc.attainable || hl.C != 0 || hl.Coverage != tc.coverage || !hl.ExactIndex ||
+			hl.Low != tc.low || hl.High != tc.high {
+			t.Errorf("%v vs %v at %v: %+v", tc.x, tc.y, tc.level, hl)
+		}
+	}
+}
+
+// TestMosesInvertedRegression: the index from a float64 product form cancelled for a first
+// sample of 200 or more values and gave inverted intervals. x = 0..199 against y = 0.5, 4.5,
+// ..., 196.5 (50 values) gave [121.5, −119.5]; the interval is [−17.5, 19.5]: c = 4103 from
+// the exact counts (moses_exact.json, m = 200, n = 50, level 0.95), and D_(4104), D_(5897) by
+// sorting the 10000 differences here.
+func TestMosesInvertedRegression(t *testing.T) {
+	x, y := make([]float64, 200), make([]float64, 50)
+	for i := range x {
+		x[i] = float64(i)
+	}
+	for j := range y {
+		y[j] = float64(4*j) + 0.5
+	}
+	hl, err := HodgesLehmannShift(x, y, 0.95)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := allDifferences(x, y)
+	if hl.C != 4103 || hl.Low != -17.5 || hl.High != 19.5 || hl.Low != d[4103] || hl.High != d[10000-4104] || !hl.ExactIndex || hl.Tied {
+		t.Errorf("%+v", hl)
+	}
+	// Every size on a small grid of large first samples: the interval is in order and holds
+	// the estimate.
+	for _, m := range []int{200, 248, 300, 450} {
+		for _, n := range []int{3, 50, 187, 300} {
+			x, y := make([]float64, m), make([]float64, n)
+			for i := range x {
+				x[i] = float64(i)
+			}
+			for j := range y {
+				y[j] = float64(j)*float64(m)/float64(n) + 0.25
+			}
+			hl, err := HodgesLehmannShift(x, y, 0.95)
+			if err != nil || !(hl.Low <= hl.Shift && hl.Shift <= hl.High) || !hl.Attainable {
+				t.Errorf("m %d, n %d: %+v %v", m, n, hl, err)
+			}
+		}
+	}
+}
+
+func allDifferences(x, y []float64) []float64 {
+	d := make([]float64, 0, len(x)*len(y))
+	for _, a := range x {
+		for _, b := range y {
+			d = append(d, a-b)
+		}
+	}
+	slices.Sort(d)
+	return d
+}
+
+// TestHodgesLehmannTiesBruteForce: with tied data the estimate and the interval's ends are
+// the median and the order statistics c+1 and mn−c of all m·n differences, sorted (c from
+// the brute-force null counts), and Tied is set; the data sets are invented.
+func TestHodgesLehmannTiesBruteForce(t *testing.T) {
+	for _, tc := range []struct {
+		x, y []float64
+		tied bool
+	}{
+		{[]float64{1, 2, 2, 3, 3, 5}, []float64{2, 3, 4, 4, 5, 5, 6, 6}, true},
+		{[]float64{0, 0, 0, 1, 1}, []float64{0, 1, 1, 1, 2, 2, 2}, true},
+		{[]float64{4, 4, 4, 4}, []float64{4, 4, 4}, true},
+		{[]float64{1.5, 2.5, 3.5}, []float64{2.5, 7, 8, 9}, true}, // a tie between the samples only
+		{[]float64{1, 1, 7, 8}, []float64{2, 3, 4}, true},         // a tie within one sample only
+		{[]float64{0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8}, []float64{0.15, 0.25, 0.35, 0.45, 0.55, 0.65, 0.75, 0.85}, false},
+		{[]float64{10, 20, 20, 30, 40, 40, 40, 50}, []float64{15, 20, 25, 40, 45, 45, 60, 70}, true},
+	} {
+		m, n := len(tc.x), len(tc.y)
+		d := allDifferences(tc.x, tc.y)
+		mn := m * n
+		shift := d[mn/2]
+		if mn%2 == 0 {
+			shift = d[mn/2-1] + (d[mn/2]-d[mn/2-1])/2
+		}
+		counts := bruteNullCounts(m, n)
+		for _, level := range []float64{0.5, 0.8, 0.9, 0.95} {
+			hl, err := HodgesLehmannShift(tc.x, tc.y, level)
+			if err != nil {
+				t.Fatal(err)
+			}
+			// c from the brute-force counts: the largest u with 2 #{U <= u} <= (1 − level) C(m+n, m)
+			// (these levels are exact in hundredths: compare 200 #{U <= u} <= (100 − 100 level) C).
+			var cum, total int64
+			for _, c := range counts {
+				total += c
+			}
+			c := 0
+			for u, k := range counts {
+				cum += k
+				if 200*cum <= int64(math.Round(100-100*level))*total {
+					c = u
+				}
+			}
+			if hl.Shift != shift || hl.C != int64(c) || hl.Low != d[c] || hl.High != d[mn-c-1] || hl.Tied != tc.tied {
+				t.Errorf("%v vs %v at %v: %+v, want shift %v, c %d, [%v, %v], tied %v", tc.x, tc.y, level, hl, shift, c, d[c], d[mn-c-1], tc.tied)
+			}
 		}
 	}
 }
@@ -163,9 +385,9 @@ func TestPairEffectErrors(t *testing.T) {
 	if _, err := HodgesLehmannShift([]float64{1}, []float64{2}, 1); err == nil {
 		t.Error("level 1 accepted")
 	}
-	// Tiny samples: no interval reaches 95%, so the whole range is reported (c = -1).
+	// Tiny samples: no interval reaches 95%, so the whole range is reported (c = 0).
 	hl, err := HodgesLehmannShift([]float64{1, 2}, []float64{0}, 0.95)
-	if err != nil || hl.C != -1 || hl.Low != 1 || hl.High != 2 || hl.Shift != 1.5 {
+	if err != nil || hl.C != 0 || hl.Attainable || hl.Low != 1 || hl.High != 2 || hl.Shift != 1.5 {
 		t.Errorf("tiny: %+v %v", hl, err)
 	}
 	// Inputs are not modified.

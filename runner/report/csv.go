@@ -14,6 +14,7 @@ var pairsHeader = []string{
 	"analysis", "outcome", "method", "adjust", "family", "group1", "group2",
 	"mean_rank_diff", "statistic_name", "statistic", "p_method", "p", "p_adjusted", "reject",
 	"cliffs_delta", "vargha_delaney_a", "hl_shift", "hl_low", "hl_high", "hl_level",
+	"hl_coverage", "hl_index_method", "hl_level_attainable", "hl_tied_values",
 	"not_computable",
 }
 
@@ -34,10 +35,11 @@ func cellText(s string) string {
 // PairsCSV writes pairs.csv: the pairwise comparisons of every analysis whose comparisons
 // ran, one row per pair, as a tidy RFC 4180 table for spreadsheets. Numbers are written
 // with every digit (the shortest text that reads back to the same double), so the table
-// holds exactly what results.json holds; reject is true or false. A pair that is not
-// computable has empty statistic, p and p_adjusted cells and its reason in not_computable.
-// Text cells (analysis, outcome and group names) go through [cellText]. An analysis
-// without comparisons has no rows; a run without any has only the header.
+// holds exactly what results.json holds; reject and the hl_ flags are true or false, and
+// hl_coverage is empty where results.json has null. A pair that is not computable has
+// empty statistic, p and p_adjusted cells and its reason in not_computable. Text cells
+// (analysis, outcome and group names) go through [cellText]. An analysis without
+// comparisons has no rows; a run without any has only the header.
 func PairsCSV(w io.Writer, res *results.Results) error {
 	cw := csv.NewWriter(w)
 	if err := cw.Write(pairsHeader); err != nil {
@@ -65,7 +67,11 @@ func PairsCSV(w io.Writer, res *results.Results) error {
 				cellText(a.ID), cellText(a.Outcome), ph.Method, adjust, ph.Family, cellText(p.Groups[0]), cellText(p.Groups[1]),
 				f(p.MeanRankDiff), ph.Statistic, fp(p.Statistic), p.PMethod, fp(p.P), fp(p.PAdjusted), strconv.FormatBool(p.Reject),
 				f(p.CliffsDelta), f(p.VarghaDelaneyA), f(hl.Shift), f(hl.Interval.Low), f(hl.Interval.High), f(hl.Interval.Level),
+				"", hl.IndexMethod, strconv.FormatBool(hl.LevelAttainable), strconv.FormatBool(hl.TiedValues),
 				p.NotComputable,
+			}
+			if hl.Coverage != nil {
+				row[len(row)-5] = f(*hl.Coverage)
 			}
 			if err := cw.Write(row); err != nil {
 				return err

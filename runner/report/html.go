@@ -277,14 +277,16 @@ var htmlFuncs = template.FuncMap{
 		}
 		return v
 	},
-	"num":     Num,
-	"pct":     pct,
-	"fmtp":    FormatP,
-	"method":  methodName,
-	"test":    testName,
-	"exclude": Exclusions,
-	"subset":  subsetText,
-	"reason":  reasonText,
+	"hlinterval": func(p results.Pair) string { return hlIntervalCell(p.HodgesLehmann) },
+	"hlnotes":    func(a *htmlAnalysis) []string { return hlIntervalNotes(a.Analysis) },
+	"num":        Num,
+	"pct":        pct,
+	"fmtp":       FormatP,
+	"method":     methodName,
+	"test":       testName,
+	"exclude":    Exclusions,
+	"subset":     subsetText,
+	"reason":     reasonText,
 	"group": func(g string) string {
 		if g == "" {
 			return "(no group)"
@@ -473,11 +475,12 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <table>
 <thead><tr><th>groups</th><th class="r">Hodges-Lehmann shift</th><th>interval</th><th class="r">Cliff's δ</th><th class="r">{{.Statistic}}</th><th class="r">p</th><th class="r">{{if .Simultaneous}}simultaneous p{{else}}adjusted p{{end}}</th><th>decision</th></tr></thead>
 <tbody>
-{{range .Pairs}}<tr><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{pct .HodgesLehmann.Interval.Level}} [{{num .HodgesLehmann.Interval.Low}}, {{num .HodgesLehmann.Interval.High}}]{{with .HodgesLehmann.Coverage}}, exact coverage {{num .}}{{end}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (vn (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .NotComputable}}not computable: {{.NotComputable}}{{else if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
+{{range .Pairs}}<tr><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{hlinterval .}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (vn (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .NotComputable}}not computable: {{.NotComputable}}{{else if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
 {{end}}</tbody>
 </table>
 <p class="note">The shift estimates how far the first group's values lie above the second's (median of all pairwise differences, with its distribution-free interval); Cliff's δ is P(first &gt; second) − P(first &lt; second). p-values of the pairs from the {{$a.PairPMethods}}.</p>
-{{if .Letters}}<p>Compact letter display: {{$a.LettersSay}}.{{if $a.LettersNumbered}} With more than 52 letters, names carry a number (a1, b1, …) and a group's names are joined with “.”.{{end}}</p>
+{{range hlnotes $a}}<p class="note">{{.}}</p>
+{{end}}{{if .Letters}}<p>Compact letter display: {{$a.LettersSay}}.{{if $a.LettersNumbered}} With more than 52 letters, names carry a number (a1, b1, …) and a group's names are joined with “.”.{{end}}</p>
 <table>
 <thead><tr><th>group</th><th>letters</th></tr></thead>
 <tbody>

@@ -611,6 +611,25 @@ func TestHTMLVariants(t *testing.T) {
 			[]string{"after adjustment", "do not differ"}},
 		{"no values", func(r *results.Results, v []AnalysisValues) []AnalysisValues { return nil },
 			[]string{"The observations were not given, so no dots are drawn."}, 3, []string{"Dots are the observations"}},
+		{"hodges-lehmann intervals", func(r *results.Results, v []AnalysisValues) []AnalysisValues {
+			// The first pair as if its groups held 3 values each (level not attainable), the
+			// second with its index from the normal approximation, none tied.
+			a := &r.Analyses[0]
+			a.Groups[0].N, a.Groups[1].N = 3, 3
+			pairs := a.PostHoc.Pairs
+			widest := 0.9
+			pairs[0].HodgesLehmann = results.HLShift{Shift: 1, Interval: results.Interval{Level: 0.95, Low: -6, High: 7},
+				Coverage: &widest, IndexMethod: "exact", LevelAttainable: false}
+			pairs[1].HodgesLehmann = results.HLShift{Shift: 1, Interval: results.Interval{Level: 0.95, Low: -2.5, High: 3},
+				IndexMethod: "normal", LevelAttainable: true}
+			for i := range pairs {
+				pairs[i].HodgesLehmann.TiedValues = false
+			}
+			return nil
+		}, []string{"widest [-6, 7], coverage 90% (95% not attainable)",
+			"L1 vs L2: 95% not attainable with 3 and 3 values; widest interval, 90% coverage.",
+			"95% [-2.5, 3], normal approximation", "its coverage is not computed"},
+			3, []string{"Tied values", " *"}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			res, vals := loadFixture(t, "dissolution")

@@ -192,7 +192,7 @@ func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) e
 			ew.printf("  at alpha = %s: do not reject the null hypothesis of identical distributions (p > alpha)\n", Num(d.Alpha))
 		}
 		if ph := a.PostHoc; ph != nil {
-			writePostHoc(ew, ph, res.Plan.Alpha, st)
+			writePostHoc(ew, &a, res.Plan.Alpha, st)
 		}
 	}
 	if m := res.Multiplicity; m != nil {
@@ -337,7 +337,8 @@ var postHocNames = map[string]string{
 	"dscf":     "Dwass-Steel-Critchlow-Fligner comparisons with pairwise ranking (studentized range)",
 }
 
-func writePostHoc(ew *errWriter, ph *results.PostHoc, alpha float64, st Style) {
+func writePostHoc(ew *errWriter, a *results.Analysis, alpha float64, st Style) {
+	ph := a.PostHoc
 	family := "all pairs"
 	if ph.Family == "many-to-one" {
 		family = "each group against " + strconv.Quote(ph.Control)
@@ -387,6 +388,15 @@ func writePostHoc(ew *errWriter, ph *results.PostHoc, alpha float64, st Style) {
 	for _, p := range ph.Pairs {
 		if p.NotComputable != "" {
 			ew.printf("    %s vs %s not computable: %s\n", p.Groups[0], p.Groups[1], p.NotComputable)
+		}
+	}
+	// The intervals in words where the table's two ends do not say it all: a level that
+	// cannot be reached, an index from the normal approximation, tied values.
+	sizes := groupSizes(a)
+	for i, p := range ph.Pairs {
+		hl := p.HodgesLehmann
+		if !hl.LevelAttainable || hl.Coverage == nil || hl.TiedValues {
+			ew.printf("    %s interval: %s\n", strings.TrimSpace(pairs[i+1]), hlIntervalText(hl, sizes[p.Groups[0]], sizes[p.Groups[1]]))
 		}
 	}
 	if len(ph.Letters) > 0 {

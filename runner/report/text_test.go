@@ -63,10 +63,11 @@ func TestSummaryNotComputable(t *testing.T) {
 // tests check the layout only) with group names of several lengths, one of them
 // non-ASCII, a post-hoc table and a multiplicity family.
 func layoutResults() *results.Results {
-	p, adj := 0.0123, 0.0246
+	p, adj, cov := 0.0123, 0.0246, 0.9567
 	pair := func(a, b string, reject bool) results.Pair {
 		return results.Pair{Groups: [2]string{a, b}, Statistic: ptr(-2.5), P: ptr(0.01), PAdjusted: ptr(0.03), Reject: reject,
-			CliffsDelta: -0.5, HodgesLehmann: results.HLShift{Shift: -1, Interval: results.Interval{Level: 0.95, Low: -2, High: 0}}}
+			CliffsDelta: -0.5, HodgesLehmann: results.HLShift{Shift: -1, Interval: results.Interval{Level: 0.95, Low: -2, High: 0},
+				Coverage: &cov, IndexMethod: "exact", LevelAttainable: true}}
 	}
 	return &results.Results{
 		Plan: results.Plan{ID: "layout", Title: "Invented layout check"},
@@ -86,6 +87,37 @@ func layoutResults() *results.Results {
 		}},
 		Multiplicity: &results.Multiplicity{Rule: "holm", Method: "Holm step-down", Alpha: 0.05,
 			Members: []results.Member{{ID: "first", P: &results.Tail{Value: &p}, PAdjusted: adj, Tested: true, Reject: true}, {ID: "second-endpoint", PAdjusted: 1, Tested: true}}},
+	}
+}
+
+// TestSummaryHodgesLehmann: the summary says in words when an interval's level cannot be
+// reached, when its index is approximate and when its coverage is that of continuous data.
+func TestSummaryHodgesLehmann(t *testing.T) {
+	res := layoutResults()
+	a := &res.Analyses[0]
+	a.Groups[0].N, a.Groups[1].N = 3, 3
+	widest := 0.9
+	pairs := a.PostHoc.Pairs
+	pairs[0].HodgesLehmann = results.HLShift{Shift: 1, Interval: results.Interval{Level: 0.95, Low: -6, High: 7},
+		Coverage: &widest, IndexMethod: "exact", LevelAttainable: false}
+	pairs[1].HodgesLehmann.TiedValues = true
+	pairs[2].HodgesLehmann.Coverage, pairs[2].HodgesLehmann.IndexMethod = nil, "normal"
+	var b strings.Builder
+	if err := Summary(&b, res, "d.csv"); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{
+		"A vs Zürich-Süd interval: 95% not attainable with 3 and 3 values; widest interval [-6, 7], 90% coverage\n",
+		"A vs control group interval: 95% [-2, 0], coverage 95.67% for continuous data; with tied values the actual coverage is typically higher\n",
+		"Zürich-Süd vs control group interval: 95% [-2, 0], index from the normal approximation\n",
+	} {
+		if !strings.Contains(b.String(), want) {
+			t.Errorf("summary lacks %q:\n%s", want, b.String())
+		}
+	}
+	// An untied pair with an exact index needs no words beyond the table.
+	if err := Summary(&b, layoutResults(), "d.csv"); err != nil || strings.Count(b.String(), " interval: ") != 3 {
+		t.Errorf("%d interval lines, want 3 (%v)", strings.Count(b.String(), " interval: "), err)
 	}
 }
 

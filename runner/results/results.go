@@ -145,9 +145,19 @@ type Pair struct {
 type HLShift struct {
 	Shift    float64  `json:"shift"`
 	Interval Interval `json:"interval"`
-	// Coverage is the interval's exact coverage for continuous data; null when taken from
-	// the normal approximation of the index.
+	// Coverage is the interval's coverage 1 − 2 P0(U <= c) under the untied null: exact for
+	// continuous data; null when the index c came from the normal approximation.
 	Coverage *float64 `json:"coverage"`
+	// IndexMethod says where c came from: "exact" (the exact null distribution of U) or
+	// "normal" (its normal approximation, for designs beyond the exact computation's bound).
+	IndexMethod string `json:"index_method"`
+	// LevelAttainable is false when even the widest interval, from the smallest to the
+	// largest difference, has coverage below Interval.Level (1 − 2/C(m+n, m), e.g. 0.9 for
+	// 3 and 3 values); the interval is then that widest one and Coverage its coverage.
+	LevelAttainable bool `json:"level_attainable"`
+	// TiedValues: the two groups' values hold ties. Coverage is then that of continuous
+	// data, not the actual coverage, which is typically higher.
+	TiedValues bool `json:"tied_values"`
 }
 
 // GroupLetters is a group's letters in the compact letter display.
