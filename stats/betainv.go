@@ -113,7 +113,10 @@ func RegIncBeta(x, a, b float64) float64 {
 		return 1
 	}
 	p, _, _ := regIncBeta(x, 1-x, a, b)
-	return p
+	// A probability: rounding in the prefactor can carry the value a few units in the
+	// 14th digit past 1 when a or b is tiny (I_x(1e-300, 50) at x = 1/600), so it is
+	// clamped to [0, 1].
+	return min(max(p, 0), 1)
 }
 
 // regIncBeta is I_x(a, b) with y = 1 − x passed along, so that the side that was given
