@@ -78,6 +78,8 @@ type Input struct {
 	PValues    []float64 `json:"p_values,omitempty"` // p-values to adjust
 	Method     string    `json:"method,omitempty"`   // an adjustment method
 	At         *float64  `json:"at,omitempty"`       // the point of a tail probability
+	NC         *float64  `json:"noncentrality,omitempty"`
+	Sizes      []int     `json:"sizes,omitempty"` // two sample sizes m, n (untied data made from them)
 	Prob       *float64  `json:"probability,omitempty"`
 	DF         *Number   `json:"df,omitempty"` // degrees of freedom; "inf" for infinity
 	K          int       `json:"k,omitempty"`
@@ -114,7 +116,9 @@ type Source struct {
 	// its generator: one pointer to a value or an array, or one pointer per element.
 	File     string   `json:"file,omitempty"`
 	Pointers []string `json:"pointers,omitempty"`
-	// InputPointer locates the case's p_values or values in File.
+	// InputPointer locates the case's p_values or values in File (an array), or an object
+	// of File whose members x, df, nc, level, m and n hold the case's at, df,
+	// noncentrality, level and sizes.
 	InputPointer string `json:"input_pointer,omitempty"`
 }
 

@@ -67,6 +67,16 @@ func init() {
 		// Chi-square upper tail at input.at with input.df: stats.ChiSquareUpperTail.
 		"chisq.p":      chisq(false),
 		"chisq.log10p": chisq(true),
+		// Noncentral chi-square tails at input.at with input.df and input.noncentrality:
+		// stats.NoncentralChiSquareTails → P(X ≤ at) or P(X > at).
+		"noncentral-chisq.lower": noncentralTail(false),
+		"noncentral-chisq.upper": noncentralTail(true),
+		// Interval of the noncentrality from one value input.at with input.df at input.level:
+		// stats.NoncentralityInterval → [low, high].
+		"noncentrality.interval": noncentralityInterval,
+		// Interval of the population effect from the data set's H* at input.level:
+		// stats.KruskalWallisEffectInterval → its noncentrality ends [low, high].
+		"effect.noncentrality-interval": effectInterval,
 		// Type 7 quartiles of input.values: stats.Quartiles → [Q1, median, Q3].
 		"quartiles": quartiles,
 		// Exact conditional p of the data set, under the work budget runs use.
@@ -95,6 +105,9 @@ func init() {
 		"hodges-lehmann.shift":    hodgesLehmann(func(h stats.HodgesLehmann) Value { return NumberValue(h.Shift) }),
 		"hodges-lehmann.interval": hodgesLehmann(func(h stats.HodgesLehmann) Value { return NumbersValue([]float64{h.Low, h.High}) }),
 		"hodges-lehmann.coverage": hodgesLehmann(func(h stats.HodgesLehmann) Value { return NumberValue(h.Coverage) }),
+		// The Moses interval's index c and its coverage for untied samples of input.sizes
+		// at input.level: stats.HodgesLehmannShift → [c, coverage].
+		"hodges-lehmann.index": mosesIndex,
 		// Studentized range distribution: quantile at input.probability, survival at input.at.
 		"srange.quantile": srange(stats.StudentizedRangeQuantile, func(in Input) *float64 { return in.Prob }),
 		"srange.survival": srange(stats.StudentizedRangeSurvival, func(in Input) *float64 { return in.At }),
@@ -234,6 +247,67 @@ func chisq(log bool) computation {
 		}
 		return NumberValue(p), err
 	}
+}
+
+func noncentralTail(upper bool) computation {
+	return func(e *env, c *Case) (Value, error) {
+		in := c.Input
+		if in.At == nil || in.DF == nil || in.NC == nil {
+			return Value{}, errors.New("input at, df and noncentrality are required")
+		}
+		lower, up, err := stats.NoncentralChiSquareTails(*in.At, float64(*in.DF), *in.NC)
+		if upper {
+			return NumberValue(up), err
+		}
+		return NumberValue(lower), err
+	}
+}
+
+func noncentralityInterval(e *env, c *Case) (Value, error) {
+	in := c.Input
+	if in.At == nil || in.DF == nil {
+		return Value{}, errors.New("input at, df and level are required")
+	}
+	lo, hi, err := stats.NoncentralityInterval(*in.At, float64(*in.DF), in.Level)
+	return NumbersValue([]float64{lo, hi}), err
+}
+
+func effectInterval(e *env, c *Case) (Value, error) {
+	k, err := e.kw(c.Input.Dataset)
+	if err != nil {
+		return Value{}, err
+	}
+	iv, err := stats.KruskalWallisEffectInterval(k.H, k.N, k.K, c.Input.Level)
+	return NumbersValue([]float64{iv.NoncentralityLow, iv.NoncentralityHigh}), err
+}
+
+// maxMosesSize bounds each size of the hodges-lehmann.index computation's samples.
+const maxMosesSize = 100_000
+
+// mosesIndex runs stats.HodgesLehmannShift on untied samples of the sizes m and n,
+// x_i = i and y_j = 0.5 + 4j: the index c and its coverage depend on the sizes and the
+// level alone when there are no ties.
+func mosesIndex(e *env, c *Case) (Value, error) {
+	in := c.Input
+	if len(in.Sizes) != 2 || min(in.Sizes[0], in.Sizes[1]) < 1 || max(in.Sizes[0], in.Sizes[1]) > maxMosesSize {
+		return Value{}, fmt.Errorf("input sizes %v: expected two sizes from 1 to %d", in.Sizes, maxMosesSize)
+	}
+	x := make([]float64, in.Sizes[0])
+	for i := range x {
+		x[i] = float64(i)
+	}
+	y := make([]float64, in.Sizes[1])
+	for j := range y {
+		y[j] = 0.5 + float64(4*j)
+	}
+	h, err := stats.HodgesLehmannShift(x, y, in.Level)
+	if err != nil {
+		return Value{}, err
+	}
+	if h.Tied || !h.ExactIndex {
+		return Value{}, fmt.Errorf("sizes %v: the index did not come from the exact untied null", in.Sizes)
+	}
+	return NumbersValue([]float64{float64(h.C), h.Coverage}), nil
 }
 
 func quartiles(e *env, c *Case) (Value, error) {

@@ -43,14 +43,14 @@ func wrongCase() Case {
 }
 
 // TestSelftestBuiltinPasses: this build reproduces every built-in case, and the case file
-// keeps to 30-60 cases.
+// keeps to 30-80 cases.
 func TestSelftestBuiltinPasses(t *testing.T) {
 	rep, err := Run(context.Background(), Options{Now: clock(), Getenv: noEnv})
 	if err != nil {
 		t.Fatal(err)
 	}
 	s := rep.Results.Summary
-	if s.Cases < 30 || s.Cases > 60 || s.Passed != s.Cases || s.Failed != 0 || s.Outcome != Pass || s.Added != 0 {
+	if s.Cases < 30 || s.Cases > 80 || s.Passed != s.Cases || s.Failed != 0 || s.Outcome != Pass || s.Added != 0 {
 		t.Errorf("summary %+v", s)
 	}
 	for _, o := range rep.Results.Cases {
@@ -111,16 +111,54 @@ func TestSelftestCasesTraceable(t *testing.T) {
 		if got := valueAt(t, c); !sameValue(got, c.Expected) {
 			t.Errorf("%s: expected %s, but %s %v holds %s", c.ID, c.Expected, c.Source.File, c.Source.Pointers, got)
 		}
-		if c.Source.InputPointer != "" {
-			var want []float64
-			decodeAt(t, c.Source.File, c.Source.InputPointer, &want)
-			in := c.Input.Values
-			if in == nil {
-				in = c.Input.PValues
-			}
-			if !slices.Equal(in, want) {
-				t.Errorf("%s: input %v differs from %s %s", c.ID, in, c.Source.File, c.Source.InputPointer)
-			}
+		if c.Source.InputPointer == "" {
+			continue
+		}
+		if obj, ok := readAt(t, c.Source.File, c.Source.InputPointer).(map[string]any); ok {
+			inputMembers(t, c, obj)
+			continue
+		}
+		var want []float64
+		decodeAt(t, c.Source.File, c.Source.InputPointer, &want)
+		in := c.Input.Values
+		if in == nil {
+			in = c.Input.PValues
+		}
+		if !slices.Equal(in, want) {
+			t.Errorf("%s: input %v differs from %s %s", c.ID, in, c.Source.File, c.Source.InputPointer)
+		}
+	}
+}
+
+// inputMembers checks a case's scalar inputs against the members of the reference object
+// its input pointer names: at is x, df is df, noncentrality is nc, level is level, sizes
+// are m and n. Every such input the case gives must be there with the same value, and the
+// case must give at least one.
+func inputMembers(t *testing.T, c Case, obj map[string]any) {
+	t.Helper()
+	in := c.Input
+	given := map[string]float64{}
+	if in.At != nil {
+		given["x"] = *in.At
+	}
+	if in.DF != nil {
+		given["df"] = float64(*in.DF)
+	}
+	if in.NC != nil {
+		given["nc"] = *in.NC
+	}
+	if in.Level != 0 {
+		given["level"] = in.Level
+	}
+	if len(in.Sizes) == 2 {
+		given["m"], given["n"] = float64(in.Sizes[0]), float64(in.Sizes[1])
+	}
+	if len(given) == 0 {
+		t.Errorf("%s: %s %s is an object, but the case gives none of its inputs", c.ID, c.Source.File, c.Source.InputPointer)
+	}
+	for name, v := range given {
+		if ref, ok := obj[name].(float64); !ok || ref != v {
+			t.Errorf("%s: input %s = %v, but %s %s/%s holds %v", c.ID, name, v, c.Source.File, c.Source.InputPointer, name, obj[name])
 		}
 	}
 }
