@@ -134,10 +134,17 @@ func RegIncBeta(x, a, b float64) float64 {
 // It also returns the terms of the continued fraction used and whether it converged within
 // its limit of terms.
 func regIncBeta(x, y, a, b float64) (float64, int, bool) {
+	// The side is chosen once: at x = (a + 1)/(a + b + 2) rounding can put both x and,
+	// after the swap, y past their thresholds, and a second test would swap back forever.
 	if x > float64(a+1)/float64(a+b+2) {
-		p, terms, ok := regIncBeta(y, x, b, a)
+		p, terms, ok := regIncBetaDirect(y, x, b, a)
 		return 1 - p, terms, ok
 	}
+	return regIncBetaDirect(x, y, a, b)
+}
+
+// regIncBetaDirect is I_x(a, b) from the continued fraction, on whichever side it is called.
+func regIncBetaDirect(x, y, a, b float64) (float64, int, bool) {
 	cf, terms, ok := betaCF(x, y, a, b)
 	return float64(expPortable(logBetaPrefactor(x, y, a, b))*cf) / a, terms, ok
 }

@@ -107,3 +107,18 @@ func TestBetaQuantileExtremeArguments(t *testing.T) {
 		t.Fatal("BetaQuantile did not finish the table of extreme arguments")
 	}
 }
+
+// TestRegIncBetaSideBoundary: at x = (a + 1)/(a + b + 2), where the continued fraction's
+// side is chosen, rounding put both x and 1 − x past their thresholds and the evaluation
+// swapped sides until the stack overflowed (found by FuzzDistributions: x = 0.75, a = 3,
+// b = 1/3). It must return a probability that satisfies the reflection
+// I_x(a, b) = 1 − I_{1−x}(b, a) (common practice).
+func TestRegIncBetaSideBoundary(t *testing.T) {
+	for _, c := range []struct{ x, a, b float64 }{{0.75, 3, 1.0 / 3}, {0.25, 1.0 / 3, 3}, {0.5, 1, 1}, {0.6, 2, 1}} {
+		p := RegIncBeta(c.x, c.a, c.b)
+		q := RegIncBeta(1-c.x, c.b, c.a)
+		if !(p >= 0 && p <= 1) || math.Abs(p+q-1) > 1e-14 {
+			t.Errorf("I_%v(%v, %v) = %v, I_%v(%v, %v) = %v: not probabilities adding to 1", c.x, c.a, c.b, p, 1-c.x, c.b, c.a, q)
+		}
+	}
+}
