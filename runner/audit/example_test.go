@@ -4,6 +4,7 @@ import (
 	"crypto/ed25519"
 	"encoding/json"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"time"
@@ -12,7 +13,8 @@ import (
 )
 
 func ExampleCanonical() {
-	b, err := audit.Canonical(map[string]any{"z": -0.0, "a": "<&>", "n": 1e21})
+	negZero := math.Copysign(0, -1) // RFC 8785 writes -0 as 0
+	b, err := audit.Canonical(map[string]any{"z": negZero, "a": "<&>", "n": 1e21})
 	if err != nil {
 		fmt.Println(err)
 		return
