@@ -290,10 +290,9 @@ func TestKruskalWallisExactScipy(t *testing.T) {
 // TestKruskalWallisExactCriticalValues derives from the full exact distribution the
 // smallest attainable h with P(H >= h) <= alpha and checks it against the classic
 // published entries for equal sizes without ties: 5.600/7.200 (3,3,3), 5.692/7.654
-// (4,4,4), 5.780/8.000 (5,5,5) at alpha 0.05/0.01. I could not retrieve the printed
-// tables with the search tool (Meyer & Seaman's table site states the convention
-// "p-value less than or equal to the nominal level" but its excerpt has no values), so
-// these are recalled from memory, as listed in METHODS.md §1.4 (Kruskal & Wallis 1952;
+// (4,4,4), 5.780/8.000 (5,5,5) at alpha 0.05/0.01. The printed tables were not at hand
+// (Meyer & Seaman's table site states the convention "p-value less than or equal to the
+// nominal level" but shows no values in the part read), so these are recalled from memory, as listed in METHODS.md §1.4 (Kruskal & Wallis 1952;
 // Iman, Quade & Alexander 1975; 5.78 marked there as seen in a textbook table). The
 // h and the tail counts at every level are also checked against the null
 // distribution enumerated by scipy 1.10.1 stats.permutation_test, and the tail

@@ -281,7 +281,7 @@ func TestStudentizedRangePublishedTable(t *testing.T) {
 		digits int
 		source string
 	}{
-		// Found with the search tool (pages corpus):
+		// Published on these web pages:
 		{0.05, 4, 30, 3.845, 3, "profscm.com/tools/tukey-calculator (table row df 30)"},
 		{0.05, 4, 40, 3.791, 3, "profscm.com/tools/tukey-calculator (table row df 40)"},
 		{0.05, 2, 20, 2.95, 2, "davidmlane.com/hyperstat/B99130.html (df 20)"},

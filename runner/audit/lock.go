@@ -1,7 +1,5 @@
 package audit
 
-// Written by the lead, to the API of the task brief: plan locks and JSON diffs.
-
 import (
 	"bytes"
 	"encoding/json"
