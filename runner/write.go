@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 
+	"rankplan/runner/audit"
 	"rankplan/runner/results"
 	"rankplan/schemas"
 )
@@ -64,7 +65,7 @@ func WriteRun(dir string, res *results.Results) error {
 // before it is linked into place. The hard link fails when path exists, so an existing
 // file is never replaced, not even by a race.
 func writeFileAtomic(path string, b []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
+	f, err := audit.CreateTemp(path)
 	if err != nil {
 		return fmt.Errorf("write %s: %w", path, err)
 	}

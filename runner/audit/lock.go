@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"os"
-	"path/filepath"
 )
 
 // LockFormat names the layout of lock files.
@@ -40,7 +39,7 @@ func WriteLock(path string, l Lock) error {
 	if err := enc.Encode(l); err != nil {
 		return fmt.Errorf("write lock: %w", err)
 	}
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
+	f, err := CreateTemp(path)
 	if err != nil {
 		return fmt.Errorf("write lock: %w", err)
 	}

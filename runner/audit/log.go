@@ -65,7 +65,7 @@ func Create(path string, actor Actor, now func() time.Time) (*Log, error) {
 	if now == nil {
 		now = time.Now
 	}
-	f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL|os.O_APPEND, 0o644)
+	f, err := os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL|os.O_APPEND, FileMode)
 	if err != nil {
 		return nil, fmt.Errorf("create audit log: %w", err)
 	}
