@@ -272,13 +272,20 @@ func TestLockAndDeviation(t *testing.T) {
 	}
 }
 
-func TestSignature(t *testing.T) {
-	dir := t.TempDir()
-	key := filepath.Join(dir, "key")
+// signedRun makes a key pair in dir and a run signed with it by "A. Analyst".
+func signedRun(t *testing.T, dir string) (key string, rec *RunRecord) {
+	t.Helper()
+	key = filepath.Join(dir, "key")
 	if _, err := audit.GenerateKey(key, key+".pub"); err != nil {
 		t.Fatal(err)
 	}
-	_, rec := newRun(t, RunOptions{SignKey: key, Signer: "A. Analyst", Meaning: "approval"})
+	_, rec = newRun(t, RunOptions{SignKey: key, Signer: "A. Analyst", Meaning: "approval"})
+	return key, rec
+}
+
+func TestSignature(t *testing.T) {
+	dir := t.TempDir()
+	key, rec := signedRun(t, dir)
 	if r := verify(t, rec.Dir, VerifyOptions{PubKey: key + ".pub", Head: rec.Head}); r.Outcome != Verified {
 		t.Fatalf("signed run: %s %+v", r.Outcome, r.Checks)
 	}
@@ -289,10 +296,51 @@ func TestSignature(t *testing.T) {
 	}
 	sig := must(os.ReadFile(filepath.Join(rec.Dir, SignatureFile)))
 	cp := copyDir(t, rec.Dir)
+	// The run's own signature without a key: verified run, signature present but unverified.
+	r := verify(t, rec.Dir, VerifyOptions{Head: rec.Head})
+	if r.Outcome != Verified {
+		t.Fatalf("own signature without --pubkey: %s %+v", r.Outcome, r.Checks)
+	}
+	if c := findCheck(r, "signature"); c.Verdict != Skip || !strings.HasPrefix(c.Detail, "present, not verified (no --pubkey)") {
+		t.Errorf("own signature without --pubkey: %+v", c)
+	}
+	for _, c := range r.Checks {
+		if strings.Contains(c.Detail, "signed by") {
+			t.Errorf("unverified signature shown as signed: %+v", c)
+		}
+	}
 	os.WriteFile(filepath.Join(cp, SignatureFile), bytes.Replace(sig, []byte("approval"), []byte("review"), 1), 0o644)
 	if r := verify(t, cp, VerifyOptions{PubKey: key + ".pub"}); r.Outcome != ClassIntegrity {
 		t.Errorf("edited meaning: %s", r.Outcome)
 	}
+}
+
+// TestTransplantedSignature: a signature.json copied from another run, its signer renamed,
+// names that run's head and record count, which is an integrity failure with or without a key.
+func TestTransplantedSignature(t *testing.T) {
+	key, signed := signedRun(t, t.TempDir())
+	_, plain := newRun(t, RunOptions{Reason: "another run"})
+	sig := must(os.ReadFile(filepath.Join(signed.Dir, SignatureFile)))
+	sig = bytes.Replace(sig, []byte("A. Analyst"), []byte("B. Boss"), 1)
+	if err := os.WriteFile(filepath.Join(plain.Dir, SignatureFile), sig, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, pub := range []string{"", key + ".pub"} {
+		r := verify(t, plain.Dir, VerifyOptions{Head: plain.Head, PubKey: pub})
+		c := findCheck(r, "signature")
+		if r.Outcome != ClassIntegrity || c.Verdict != Fail || c.File != SignatureFile || !strings.Contains(c.Detail, SignatureFile) {
+			t.Errorf("pubkey %q: outcome %s, check %+v", pub, r.Outcome, c)
+		}
+	}
+}
+
+func findCheck(r *VerifyReport, name string) Check {
+	for _, c := range r.Checks {
+		if c.Name == name {
+			return c
+		}
+	}
+	return Check{}
 }
 
 // TestProvenance: the in-toto statement names the outputs with their SHA-256 and the plan

@@ -38,8 +38,9 @@ func newVerifyCmd(u *ui) *cobra.Command {
 the hash chain is unbroken and gap-free, the run finished, the head matches DIR/audit.head
 (and --head HASH, a copy kept elsewhere: a chain alone cannot show records removed from
 its end), every output file matches its recorded SHA-256, the plan and data files still
-match theirs, the tool version is the same (or the difference is shown), the signature
-verifies against a pinned --pubkey; then it reruns the plan from the recorded inputs and
+match theirs, the tool version is the same (or the difference is shown), a signature names
+this log's head and record count and verifies against a pinned --pubkey (without one it
+is listed as present, not verified); then it reruns the plan from the recorded inputs and
 seed and compares the results digest, naming the first field that differs.
 
 A folder written by 'rankplan selftest --out' is recognised by its first record: it gets
