@@ -229,6 +229,9 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	if !known[kind.main] && last.Event == kind.finished {
 		r.add("outputs", Fail, ClassIntegrity, AuditFile, "no record of %s", kind.main)
 	}
+	if kind == runFolder && known[ResultsFile] {
+		checkResultsDigest(r, dir, resultsDigest)
+	}
 	if entries, err := os.ReadDir(dir); err == nil {
 		for _, e := range entries {
 			if !known[e.Name()] {
@@ -357,6 +360,35 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 	r.add("rerun", Fail, ClassDiffer, ResultsFile, "rerunning gives results digest %s, recorded %s; the first field that differs is %s", digest, resultsDigest, first)
 	return r, nil
+}
+
+// checkResultsDigest requires the results.json in dir to hold the recorded results:
+//
+//	Digest(JCS(results.json)) = results_digest of its output.written record   (RFC 8785)
+//
+// The file's own SHA-256 in that record can be rewritten together with the chain by
+// whoever can write the folder; the results digest is what the rerun reproduces, so the
+// file on disk must match it as well, or the rerun would vouch for other numbers.
+func checkResultsDigest(r *VerifyReport, dir, recorded string) {
+	b, err := os.ReadFile(filepath.Join(dir, ResultsFile))
+	if err != nil {
+		r.add("results", Fail, ClassIntegrity, ResultsFile, "cannot read %s: %v", ResultsFile, unwrapPathError(err))
+		return
+	}
+	if recorded == "" {
+		r.add("results", Fail, ClassIntegrity, ResultsFile, "the log records no results digest for %s", ResultsFile)
+		return
+	}
+	canon, err := audit.Canonical(jsonRaw(b))
+	if err != nil {
+		r.add("results", Fail, ClassIntegrity, ResultsFile, "%s is not JSON: %v", ResultsFile, err)
+		return
+	}
+	if got := audit.Digest(canon); got != recorded {
+		r.add("results", Fail, ClassIntegrity, ResultsFile, "%s has results digest %s, but the log records %s: the file does not hold the recorded results", ResultsFile, got, recorded)
+		return
+	}
+	r.add("results", Pass, "", ResultsFile, "%s holds the recorded results (results digest %s)", ResultsFile, recorded)
 }
 
 func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath string) {

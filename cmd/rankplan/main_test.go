@@ -14,6 +14,7 @@ import (
 
 	"github.com/rogpeppe/go-internal/testscript"
 
+	"rankplan/internal/audittest"
 	"rankplan/runner"
 	"rankplan/runner/selftest"
 )
@@ -62,6 +63,9 @@ func wrongSelftestCase() selftest.Case {
 //	gen FILE COUNT TEXT       append TEXT to FILE COUNT times (creating it), with Go escapes
 //	                          such as \n read in TEXT and {i} replaced by the repetition
 //	                          number from 1: large or repetitive input without large archives
+//	forge DIR FILE OLD NEW    replace OLD with NEW in DIR/FILE, write the file's new SHA-256
+//	                          into its output.written record and re-chain DIR's log and
+//	                          audit.head, as a forger with write access to DIR would
 func TestScripts(t *testing.T) {
 	testscript.Run(t, testscript.Params{
 		Dir:                 "testdata/script",
@@ -106,6 +110,14 @@ func TestScripts(t *testing.T) {
 						ts.Fatalf("%s matches %v", pat, m)
 					}
 				}
+			},
+			"forge": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) != 4 {
+					ts.Fatalf("usage: forge DIR FILE OLD NEW")
+				}
+				dir := ts.MkAbs(args[0])
+				ts.Check(audittest.ForgeFile(filepath.Join(dir, runner.AuditFile), filepath.Join(dir, runner.HeadFile),
+					filepath.Join(dir, args[1]), args[1], args[2], args[3]))
 			},
 			"gen": func(ts *testscript.TestScript, neg bool, args []string) {
 				if neg || len(args) != 3 {

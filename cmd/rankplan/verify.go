@@ -37,7 +37,8 @@ func newVerifyCmd(u *ui) *cobra.Command {
 		Long: `verify checks the run folder DIR: every audit record parses and is in canonical form,
 the hash chain is unbroken and gap-free, the run finished, the head matches DIR/audit.head
 (and --head HASH, a copy kept elsewhere: a chain alone cannot show records removed from
-its end), every output file matches its recorded SHA-256, the plan and data files still
+its end), every output file matches its recorded SHA-256, results.json holds the recorded results
+(the digest of its canonical form equals the recorded results digest), the plan and data files still
 match theirs, the tool version is the same (or the difference is shown), the signature
 verifies against a pinned --pubkey; then it reruns the plan from the recorded inputs and
 seed and compares the results digest, naming the first field that differs.
