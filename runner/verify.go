@@ -126,7 +126,16 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	r := &VerifyReport{Dir: dir}
 	defer func() { r.Outcome = outcome(r.Checks) }()
 
+	// Run writes into DIR.incomplete-XXXX and renames the folder only after its last record
+	// and file: a folder still carrying the mark was stopped before that, however full its
+	// log, and one stopped before its first record holds no log or an empty one.
+	base := filepath.Base(filepath.Clean(dir))
+	marked := incompleteName.MatchString(base)
 	chain, problems, warnings, err := audit.ReadChain(filepath.Join(dir, AuditFile))
+	if marked && (errors.Is(err, fs.ErrNotExist) || err == nil && len(chain.Records) == 0 && len(problems) == 1) {
+		r.add("complete", Fail, ClassIncomplete, AuditFile, "the folder is still named %s and its audit log holds no record: the run was stopped before its first record", base)
+		return r, nil
+	}
 	if err != nil {
 		r.add("audit log", Fail, ClassIntegrity, AuditFile, "cannot read the audit log: %v", err)
 		return r, nil
@@ -158,12 +167,12 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	if chain.Records[0].Event == SelftestStarted {
 		kind = selftestFolder
 	}
-	if incompleteName.MatchString(filepath.Base(filepath.Clean(dir))) {
-		// Run writes here first and renames the folder only after its last record and file:
-		// a folder still carrying the mark was stopped before that, however full its log.
-		r.add("complete", Fail, ClassIncomplete, "", "the folder is still named %s: the run was stopped before it was moved into place",
-			filepath.Base(filepath.Clean(dir)))
+	if marked {
+		r.add("complete", Fail, ClassIncomplete, "", "the folder is still named %s: the run was stopped before it was moved into place", base)
 	}
+	// A run that did not finish never wrote its head file: a missing one is part of the
+	// incompleteness, not a sign of tampering. A head file that is there must still match.
+	unfinished := marked || last.Event != kind.finished
 	switch last.Event {
 	case kind.finished:
 		r.add("complete", Pass, "", AuditFile, "the log ends with %s (record %d)", kind.finished, last.Seq)
@@ -184,6 +193,8 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	// The head: the folder's own head file, and a copy kept elsewhere.
 	headFile, err := os.ReadFile(filepath.Join(dir, HeadFile))
 	switch {
+	case unfinished && errors.Is(err, fs.ErrNotExist):
+		r.add("head file", Fail, ClassIncomplete, HeadFile, "no %s: the run stopped before writing it", HeadFile)
 	case err != nil:
 		r.add("head file", Fail, ClassIntegrity, HeadFile, "cannot read the head file: %v", unwrapPathError(err))
 	case string(headFile) != chain.Head+"\n":
@@ -317,8 +328,12 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 
 	// Rerun.
-	if failed(r.Checks, ClassIntegrity) || last.Event != "run.finished" {
+	switch {
+	case failed(r.Checks, ClassIntegrity):
 		r.add("rerun", Skip, "", "", "not rerun: the record itself did not verify")
+		return r, nil
+	case last.Event != "run.finished":
+		r.add("rerun", Skip, "", "", "not rerun: the run did not finish")
 		return r, nil
 	}
 	dataPath := dataRec.AbsolutePath

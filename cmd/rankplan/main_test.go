@@ -63,6 +63,8 @@ func wrongSelftestCase() selftest.Case {
 //	gen FILE COUNT TEXT       append TEXT to FILE COUNT times (creating it), with Go escapes
 //	                          such as \n read in TEXT and {i} replaced by the repetition
 //	                          number from 1: large or repetitive input without large archives
+//	cutlog DIR N              keep only the first N records of DIR's audit log, as a run
+//	                          stopped after its N-th record leaves it
 //	forge DIR FILE OLD NEW    replace OLD with NEW in DIR/FILE, write the file's new SHA-256
 //	                          into its output.written record and re-chain DIR's log and
 //	                          audit.head, as a forger with write access to DIR would
@@ -110,6 +112,19 @@ func TestScripts(t *testing.T) {
 						ts.Fatalf("%s matches %v", pat, m)
 					}
 				}
+			},
+			"cutlog": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) != 2 {
+					ts.Fatalf("usage: cutlog DIR N")
+				}
+				n, err := strconv.Atoi(args[1])
+				ts.Check(err)
+				path := filepath.Join(ts.MkAbs(args[0]), runner.AuditFile)
+				lines := strings.SplitAfter(ts.ReadFile(path), "\n")
+				if n < 0 || n >= len(lines) {
+					ts.Fatalf("cutlog: the log has %d records", len(lines)-1)
+				}
+				ts.Check(os.WriteFile(path, []byte(strings.Join(lines[:n], "")), 0o644))
 			},
 			"forge": func(ts *testscript.TestScript, neg bool, args []string) {
 				if neg || len(args) != 4 {
