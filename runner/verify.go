@@ -13,6 +13,7 @@ import (
 	"regexp"
 	"slices"
 	"strings"
+	"unicode/utf8"
 
 	"rankplan/runner/audit"
 	"rankplan/runner/report"
@@ -101,6 +102,25 @@ type VerifyOptions struct {
 	Selftest func(ctx context.Context) (string, error)
 }
 
+// ParseHead reads an audit head as people copy it: "sha256:" followed by 64 hex digits,
+// or the 64 hex digits alone, in either case. It returns the head as the log writes it,
+//
+//	"sha256:" + lowercase hex(SHA-256)    (the form of audit.Digest, FIPS 180-4)
+//
+// and an error naming what is wrong for anything else.
+func ParseHead(s string) (string, error) {
+	hexPart := strings.TrimPrefix(s, "sha256:")
+	if len(hexPart) != 64 {
+		return "", fmt.Errorf("%q is not an audit head: want 64 hex digits, with or without the sha256: prefix (found %d characters)", s, utf8.RuneCountInString(hexPart))
+	}
+	for _, c := range hexPart {
+		if !(c >= '0' && c <= '9' || c >= 'a' && c <= 'f' || c >= 'A' && c <= 'F') {
+			return "", fmt.Errorf("%q is not an audit head: want 64 hex digits, with or without the sha256: prefix (found %q)", s, c)
+		}
+	}
+	return "sha256:" + strings.ToLower(hexPart), nil
+}
+
 func (r *VerifyReport) add(name, verdict, class, file, format string, args ...any) {
 	if verdict != Fail {
 		class = ""
@@ -122,6 +142,13 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 			err = errors.New("not a folder")
 		}
 		return nil, &InputError{Err: fmt.Errorf("verify %s: %w", dir, err)}
+	}
+	if opt.Head != "" {
+		head, err := ParseHead(opt.Head)
+		if err != nil {
+			return nil, &InputError{Err: fmt.Errorf("verify %s: head kept elsewhere: %w", dir, err)}
+		}
+		opt.Head = head
 	}
 	r := &VerifyReport{Dir: dir}
 	defer func() { r.Outcome = outcome(r.Checks) }()

@@ -63,6 +63,8 @@ func wrongSelftestCase() selftest.Case {
 //	gen FILE COUNT TEXT       append TEXT to FILE COUNT times (creating it), with Go escapes
 //	                          such as \n read in TEXT and {i} replaced by the repetition
 //	                          number from 1: large or repetitive input without large archives
+//	headenv DIR NAME          set $NAME to the head in DIR/audit.head and $NAME_HEX to its
+//	                          64 hex digits without the sha256: prefix
 //	cutlog DIR N              keep only the first N records of DIR's audit log, as a run
 //	                          stopped after its N-th record leaves it
 //	forge DIR FILE OLD NEW    replace OLD with NEW in DIR/FILE, write the file's new SHA-256
@@ -112,6 +114,14 @@ func TestScripts(t *testing.T) {
 						ts.Fatalf("%s matches %v", pat, m)
 					}
 				}
+			},
+			"headenv": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) != 2 {
+					ts.Fatalf("usage: headenv DIR NAME")
+				}
+				head := strings.TrimSpace(ts.ReadFile(filepath.Join(args[0], runner.HeadFile)))
+				ts.Setenv(args[1], head)
+				ts.Setenv(args[1]+"_HEX", strings.TrimPrefix(head, "sha256:"))
 			},
 			"cutlog": func(ts *testscript.TestScript, neg bool, args []string) {
 				if neg || len(args) != 2 {
