@@ -13,6 +13,7 @@ import (
 	"regexp"
 	"slices"
 	"strings"
+	"unicode/utf8"
 
 	"rankplan/runner/audit"
 	"rankplan/runner/report"
@@ -101,6 +102,25 @@ type VerifyOptions struct {
 	Selftest func(ctx context.Context) (string, error)
 }
 
+// ParseHead reads an audit head as people copy it: "sha256:" followed by 64 hex digits,
+// or the 64 hex digits alone, in either case. It returns the head as the log writes it,
+//
+//	"sha256:" + lowercase hex(SHA-256)    (the form of audit.Digest, FIPS 180-4)
+//
+// and an error naming what is wrong for anything else.
+func ParseHead(s string) (string, error) {
+	hexPart := strings.TrimPrefix(s, "sha256:")
+	if len(hexPart) != 64 {
+		return "", fmt.Errorf("%q is not an audit head: want 64 hex digits, with or without the sha256: prefix (found %d characters)", s, utf8.RuneCountInString(hexPart))
+	}
+	for _, c := range hexPart {
+		if !(c >= '0' && c <= '9' || c >= 'a' && c <= 'f' || c >= 'A' && c <= 'F') {
+			return "", fmt.Errorf("%q is not an audit head: want 64 hex digits, with or without the sha256: prefix (found %q)", s, c)
+		}
+	}
+	return "sha256:" + strings.ToLower(hexPart), nil
+}
+
 func (r *VerifyReport) add(name, verdict, class, file, format string, args ...any) {
 	if verdict != Fail {
 		class = ""
@@ -123,10 +143,26 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		}
 		return nil, &InputError{Err: fmt.Errorf("verify %s: %w", dir, err)}
 	}
+	if opt.Head != "" {
+		head, err := ParseHead(opt.Head)
+		if err != nil {
+			return nil, &InputError{Err: fmt.Errorf("verify %s: head kept elsewhere: %w", dir, err)}
+		}
+		opt.Head = head
+	}
 	r := &VerifyReport{Dir: dir}
 	defer func() { r.Outcome = outcome(r.Checks) }()
 
+	// Run writes into DIR.incomplete-XXXX and renames the folder only after its last record
+	// and file: a folder still carrying the mark was stopped before that, however full its
+	// log, and one stopped before its first record holds no log or an empty one.
+	base := filepath.Base(filepath.Clean(dir))
+	marked := incompleteName.MatchString(base)
 	chain, problems, warnings, err := audit.ReadChain(filepath.Join(dir, AuditFile))
+	if marked && (errors.Is(err, fs.ErrNotExist) || err == nil && len(chain.Records) == 0 && len(problems) == 1) {
+		r.add("complete", Fail, ClassIncomplete, AuditFile, "the folder is still named %s and its audit log holds no record: the run was stopped before its first record", base)
+		return r, nil
+	}
 	if err != nil {
 		r.add("audit log", Fail, ClassIntegrity, AuditFile, "cannot read the audit log: %v", err)
 		return r, nil
@@ -158,12 +194,12 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	if chain.Records[0].Event == SelftestStarted {
 		kind = selftestFolder
 	}
-	if incompleteName.MatchString(filepath.Base(filepath.Clean(dir))) {
-		// Run writes here first and renames the folder only after its last record and file:
-		// a folder still carrying the mark was stopped before that, however full its log.
-		r.add("complete", Fail, ClassIncomplete, "", "the folder is still named %s: the run was stopped before it was moved into place",
-			filepath.Base(filepath.Clean(dir)))
+	if marked {
+		r.add("complete", Fail, ClassIncomplete, "", "the folder is still named %s: the run was stopped before it was moved into place", base)
 	}
+	// A run that did not finish never wrote its head file: a missing one is part of the
+	// incompleteness, not a sign of tampering. A head file that is there must still match.
+	unfinished := marked || last.Event != kind.finished
 	switch last.Event {
 	case kind.finished:
 		r.add("complete", Pass, "", AuditFile, "the log ends with %s (record %d)", kind.finished, last.Seq)
@@ -184,6 +220,8 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	// The head: the folder's own head file, and a copy kept elsewhere.
 	headFile, err := os.ReadFile(filepath.Join(dir, HeadFile))
 	switch {
+	case unfinished && errors.Is(err, fs.ErrNotExist):
+		r.add("head file", Fail, ClassIncomplete, HeadFile, "no %s: the run stopped before writing it", HeadFile)
 	case err != nil:
 		r.add("head file", Fail, ClassIntegrity, HeadFile, "cannot read the head file: %v", unwrapPathError(err))
 	case string(headFile) != chain.Head+"\n":
@@ -228,6 +266,9 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 	if !known[kind.main] && last.Event == kind.finished {
 		r.add("outputs", Fail, ClassIntegrity, AuditFile, "no record of %s", kind.main)
+	}
+	if kind == runFolder && known[ResultsFile] {
+		checkResultsDigest(r, dir, resultsDigest)
 	}
 	if entries, err := os.ReadDir(dir); err == nil {
 		for _, e := range entries {
@@ -314,8 +355,12 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 
 	// Rerun.
-	if failed(r.Checks, ClassIntegrity) || last.Event != "run.finished" {
+	switch {
+	case failed(r.Checks, ClassIntegrity):
 		r.add("rerun", Skip, "", "", "not rerun: the record itself did not verify")
+		return r, nil
+	case last.Event != "run.finished":
+		r.add("rerun", Skip, "", "", "not rerun: the run did not finish")
 		return r, nil
 	}
 	dataPath := dataRec.AbsolutePath
@@ -357,6 +402,35 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 	r.add("rerun", Fail, ClassDiffer, ResultsFile, "rerunning gives results digest %s, recorded %s; the first field that differs is %s", digest, resultsDigest, first)
 	return r, nil
+}
+
+// checkResultsDigest requires the results.json in dir to hold the recorded results:
+//
+//	Digest(JCS(results.json)) = results_digest of its output.written record   (RFC 8785)
+//
+// The file's own SHA-256 in that record can be rewritten together with the chain by
+// whoever can write the folder; the results digest is what the rerun reproduces, so the
+// file on disk must match it as well, or the rerun would vouch for other numbers.
+func checkResultsDigest(r *VerifyReport, dir, recorded string) {
+	b, err := os.ReadFile(filepath.Join(dir, ResultsFile))
+	if err != nil {
+		r.add("results", Fail, ClassIntegrity, ResultsFile, "cannot read %s: %v", ResultsFile, unwrapPathError(err))
+		return
+	}
+	if recorded == "" {
+		r.add("results", Fail, ClassIntegrity, ResultsFile, "the log records no results digest for %s", ResultsFile)
+		return
+	}
+	canon, err := audit.Canonical(jsonRaw(b))
+	if err != nil {
+		r.add("results", Fail, ClassIntegrity, ResultsFile, "%s is not JSON: %v", ResultsFile, err)
+		return
+	}
+	if got := audit.Digest(canon); got != recorded {
+		r.add("results", Fail, ClassIntegrity, ResultsFile, "%s has results digest %s, but the log records %s: the file does not hold the recorded results", ResultsFile, got, recorded)
+		return
+	}
+	r.add("results", Pass, "", ResultsFile, "%s holds the recorded results (results digest %s)", ResultsFile, recorded)
 }
 
 func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath string) {

@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math/rand/v2"
 	"os"
@@ -16,10 +17,9 @@ import (
 )
 
 // TestCrash kills `rankplan run` with SIGKILL at random moments, until 20 runs died before
-// finishing, and requires
-// that no kill leaves a run folder that verify accepts unless the run really finished:
-// either DIR is absent (only DIR.incomplete-XXXX remains, which verify reports as
-// incomplete or broken), or DIR verifies completely.
+// finishing, and requires that every kill leaves either DIR verified completely (the run
+// finished) or no DIR and a DIR.incomplete-XXXX that `rankplan verify` reports as
+// incomplete, exit code 5: a stopped run is never taken for tampering.
 func TestCrash(t *testing.T) {
 	if testing.Short() {
 		t.Skip("builds the binary")
@@ -74,9 +74,9 @@ func TestCrash(t *testing.T) {
 		}
 		tmps, _ := filepath.Glob(out + ".incomplete-*")
 		for _, tmp := range tmps {
-			rep, verr := runner.Verify(context.Background(), tmp, runner.VerifyOptions{})
-			if verr == nil && rep.Outcome == runner.Verified {
-				t.Errorf("kill %d: verify accepts the unfinished folder %s", i, tmp)
+			if code := verifyExitCode(t, bin, tmp); code != exitIncomplete {
+				rep, verr := runner.Verify(context.Background(), tmp, runner.VerifyOptions{})
+				t.Errorf("kill %d: verify %s exits %d, want %d (incomplete): %v %+v", i, tmp, code, exitIncomplete, verr, rep)
 			}
 		}
 	}
@@ -84,4 +84,19 @@ func TestCrash(t *testing.T) {
 	if killed < 20 {
 		t.Errorf("only %d runs were killed before they finished (a whole run takes %v): the test checks too little", killed, whole)
 	}
+}
+
+// verifyExitCode runs `bin verify dir --quiet` and returns its exit code.
+func verifyExitCode(t *testing.T, bin, dir string) int {
+	t.Helper()
+	err := exec.Command(bin, "verify", dir, "--quiet").Run()
+	var ee *exec.ExitError
+	switch {
+	case err == nil:
+		return 0
+	case errors.As(err, &ee):
+		return ee.ExitCode()
+	}
+	t.Fatalf("verify %s: %v", dir, err)
+	return -1
 }

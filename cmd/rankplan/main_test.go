@@ -14,6 +14,7 @@ import (
 
 	"github.com/rogpeppe/go-internal/testscript"
 
+	"rankplan/internal/audittest"
 	"rankplan/runner"
 	"rankplan/runner/selftest"
 )
@@ -62,6 +63,13 @@ func wrongSelftestCase() selftest.Case {
 //	gen FILE COUNT TEXT       append TEXT to FILE COUNT times (creating it), with Go escapes
 //	                          such as \n read in TEXT and {i} replaced by the repetition
 //	                          number from 1: large or repetitive input without large archives
+//	headenv DIR NAME          set $NAME to the head in DIR/audit.head and $NAME_HEX to its
+//	                          64 hex digits without the sha256: prefix
+//	cutlog DIR N              keep only the first N records of DIR's audit log, as a run
+//	                          stopped after its N-th record leaves it
+//	forge DIR FILE OLD NEW    replace OLD with NEW in DIR/FILE, write the file's new SHA-256
+//	                          into its output.written record and re-chain DIR's log and
+//	                          audit.head, as a forger with write access to DIR would
 func TestScripts(t *testing.T) {
 	testscript.Run(t, testscript.Params{
 		Dir:                 "testdata/script",
@@ -106,6 +114,35 @@ func TestScripts(t *testing.T) {
 						ts.Fatalf("%s matches %v", pat, m)
 					}
 				}
+			},
+			"headenv": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) != 2 {
+					ts.Fatalf("usage: headenv DIR NAME")
+				}
+				head := strings.TrimSpace(ts.ReadFile(filepath.Join(args[0], runner.HeadFile)))
+				ts.Setenv(args[1], head)
+				ts.Setenv(args[1]+"_HEX", strings.TrimPrefix(head, "sha256:"))
+			},
+			"cutlog": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) != 2 {
+					ts.Fatalf("usage: cutlog DIR N")
+				}
+				n, err := strconv.Atoi(args[1])
+				ts.Check(err)
+				path := filepath.Join(ts.MkAbs(args[0]), runner.AuditFile)
+				lines := strings.SplitAfter(ts.ReadFile(path), "\n")
+				if n < 0 || n >= len(lines) {
+					ts.Fatalf("cutlog: the log has %d records", len(lines)-1)
+				}
+				ts.Check(os.WriteFile(path, []byte(strings.Join(lines[:n], "")), 0o644))
+			},
+			"forge": func(ts *testscript.TestScript, neg bool, args []string) {
+				if neg || len(args) != 4 {
+					ts.Fatalf("usage: forge DIR FILE OLD NEW")
+				}
+				dir := ts.MkAbs(args[0])
+				ts.Check(audittest.ForgeFile(filepath.Join(dir, runner.AuditFile), filepath.Join(dir, runner.HeadFile),
+					filepath.Join(dir, args[1]), args[1], args[2], args[3]))
 			},
 			"gen": func(ts *testscript.TestScript, neg bool, args []string) {
 				if neg || len(args) != 3 {

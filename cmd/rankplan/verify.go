@@ -36,11 +36,13 @@ func newVerifyCmd(u *ui) *cobra.Command {
 		Short: "Check a run folder and prove that its results reproduce",
 		Long: `verify checks the run folder DIR: every audit record parses and is in canonical form,
 the hash chain is unbroken and gap-free, the run finished, the head matches DIR/audit.head
-(and --head HASH, a copy kept elsewhere: a chain alone cannot show records removed from
-its end), every output file matches its recorded SHA-256, the plan and data files still
-match theirs, the tool version is the same (or the difference is shown), a signature names
-this log's head and record count and verifies against a pinned --pubkey (without one it
-is listed as present, not verified); then it reruns the plan from the recorded inputs and
+(and --head HASH, a copy kept elsewhere, with or without its sha256: prefix: a chain alone
+cannot show records removed from its end), every output file matches its recorded SHA-256,
+results.json holds the recorded results (the digest of its canonical form equals the
+recorded results digest), the plan and data files still match theirs, the tool version is
+the same (or the difference is shown), a signature names this log's head and record count
+and verifies against a pinned --pubkey (without one it is listed as present, not
+verified); then it reruns the plan from the recorded inputs and
 seed and compares the results digest, naming the first field that differs.
 
 A folder written by 'rankplan selftest --out' is recognised by its first record: it gets
@@ -72,6 +74,13 @@ the rerun (not with --json or --quiet).`,
 			o.Selftest = selftest.ResultsDigest // for a folder written by selftest --out
 			if jsonOut && mdOut {
 				return usageErrorf("verify: --json and --markdown cannot be used together")
+			}
+			if o.Head != "" {
+				head, err := runner.ParseHead(o.Head)
+				if err != nil {
+					return usageErrorf("verify: --head: %w", err)
+				}
+				o.Head = head
 			}
 			ctx := c.Context()
 			bar := u.progressBar(quiet(c), jsonOut || mdOut)
@@ -122,7 +131,7 @@ the rerun (not with --json or --quiet).`,
 		},
 	}
 	f := c.Flags()
-	f.StringVar(&o.Head, "head", "", "the audit head kept elsewhere (sha256:...), to rule out truncation")
+	f.StringVar(&o.Head, "head", "", "the audit head kept elsewhere (64 hex digits, sha256: prefix optional), to rule out truncation")
 	f.StringVar(&o.PubKey, "pubkey", "", "the pinned Ed25519 public key the signature must verify against")
 	f.StringVar(&o.Data, "data", "", "rerun on this data file and report changed conclusions (drift check)")
 	f.IntVar(&o.Workers, "workers", 0, "goroutines for resampling (0: one per core)")
