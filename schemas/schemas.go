@@ -17,6 +17,8 @@ const (
 	ResultsID = "https://rankplan.invalid/schema/results-v1.json"
 	// ValidationID names the schema of validation.json, the record `rankplan selftest` writes.
 	ValidationID = "https://rankplan.invalid/schema/validation-v1.json"
+	// AuditRecordID names the schema of one audit record (a line of audit.jsonl).
+	AuditRecordID = "https://rankplan.invalid/schema/audit-record-v1.json"
 )
 
 var (
@@ -26,12 +28,15 @@ var (
 	resultsJSON []byte
 	//go:embed validation.schema.json
 	validationJSON []byte
+	//go:embed audit-record.schema.json
+	auditRecordJSON []byte
 )
 
 // Names lists the schemas that [Source] knows, in the order `rankplan schema` documents them.
-var Names = []string{"plan", "results", "validation"}
+var Names = []string{"plan", "results", "validation", "audit-record"}
 
-// Source returns the JSON text of the named schema ("plan", "results" or "validation").
+// Source returns the JSON text of the named schema ("plan", "results", "validation" or
+// "audit-record").
 func Source(name string) ([]byte, error) {
 	switch name {
 	case "plan":
@@ -40,8 +45,10 @@ func Source(name string) ([]byte, error) {
 		return bytes.Clone(resultsJSON), nil
 	case "validation":
 		return bytes.Clone(validationJSON), nil
+	case "audit-record":
+		return bytes.Clone(auditRecordJSON), nil
 	}
-	return nil, fmt.Errorf("no schema named %q (known: plan, results, validation)", name)
+	return nil, fmt.Errorf("no schema named %q (known: plan, results, validation, audit-record)", name)
 }
 
 type compiled struct {
@@ -51,7 +58,7 @@ type compiled struct {
 	err    error
 }
 
-var plan, results, validation compiled
+var plan, results, validation, auditRecord compiled
 
 func (c *compiled) load(id string, src []byte) (*jsonschema.Schema, any, error) {
 	c.once.Do(func() {
@@ -107,4 +114,9 @@ func Check(schema *jsonschema.Schema, id, what string, b []byte) error {
 		return fmt.Errorf("%s do not match %s: %w", what, id, err)
 	}
 	return nil
+}
+
+// AuditRecord returns the compiled schema of one audit record and its decoded JSON tree.
+func AuditRecord() (*jsonschema.Schema, any, error) {
+	return auditRecord.load(AuditRecordID, auditRecordJSON)
 }

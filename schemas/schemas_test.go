@@ -11,6 +11,7 @@ func TestCompile(t *testing.T) {
 		func() (any, any, error) { return Plan() },
 		func() (any, any, error) { return Results() },
 		func() (any, any, error) { return Validation() },
+		func() (any, any, error) { return AuditRecord() },
 	} {
 		s, tree, err := load()
 		if err != nil || s == nil || tree == nil {

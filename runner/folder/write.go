@@ -1,0 +1,195 @@
+package folder
+
+import (
+	"crypto/rand"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"regexp"
+	"time"
+
+	"golang.org/x/sys/unix"
+
+	"rankplan/runner/audit"
+)
+
+// ErrExists is returned when the destination of a folder already exists: rankplan never
+// writes into, and so never overwrites, an existing folder.
+var ErrExists = errors.New("the output folder already exists; rankplan never overwrites earlier results, so name a new folder")
+
+// IncompleteName matches the working folder of a run that was never moved into place:
+// DIR.incomplete- and eight lowercase hex digits.
+var IncompleteName = regexp.MustCompile(`\.incomplete-[0-9a-f]{8}$`)
+
+// Writer writes a folder of a [Kind]. Everything goes into DIR.incomplete-XXXX beside
+// DIR; each audit record is canonical, hash-chained and synced before the next step; each
+// file goes through a synced temporary file and a hard link and is recorded with its
+// SHA-256; the head file is written last, and the folder is renamed to DIR with
+// renameat2(RENAME_NOREPLACE), so DIR appears only complete and never replaces anything.
+// A folder that is not finished stays under its working name, its log closed by the
+// kind's Failed record.
+type Writer struct {
+	kind     *Kind
+	out, tmp string
+	log      *audit.Log
+	closed   bool
+}
+
+// Create creates the working folder of out (which the caller has checked not to exist)
+// and starts its audit log with actor and the clock now (time.Now when nil).
+func Create(out string, kind *Kind, actor audit.Actor, now func() time.Time) (*Writer, error) {
+	var b [4]byte
+	rand.Read(b[:])
+	tmp := filepath.Clean(out) + ".incomplete-" + hex.EncodeToString(b[:])
+	if err := os.Mkdir(tmp, 0o755); err != nil {
+		return nil, fmt.Errorf("create the working folder: %w", err)
+	}
+	log, err := audit.Create(filepath.Join(tmp, AuditFile), actor, now)
+	if err != nil {
+		return nil, err
+	}
+	return &Writer{kind: kind, out: out, tmp: tmp, log: log}, nil
+}
+
+// WorkDir returns the working folder, DIR.incomplete-XXXX.
+func (w *Writer) WorkDir() string { return w.tmp }
+
+// Record appends the next audit record.
+func (w *Writer) Record(r Record) error {
+	if _, err := w.log.Append(r.Event(), r); err != nil {
+		return fmt.Errorf("write audit log: %w", err)
+	}
+	return nil
+}
+
+// WriteFile writes the file name into the folder and records it with an output.written
+// record: rec with its File, Bytes and SHA256 filled in.
+func (w *Writer) WriteFile(name string, b []byte, rec OutputWritten) error {
+	if err := WriteNew(filepath.Join(w.tmp, name), b); err != nil {
+		return err
+	}
+	rec.File, rec.Bytes, rec.SHA256 = name, len(b), audit.Digest(b)
+	return w.Record(rec)
+}
+
+// Head returns the audit head and record number so far.
+func (w *Writer) Head() (string, int64) { return w.log.Head(), w.log.Seq() }
+
+// Seal makes the file that seals a finished log (the signature over its head), or
+// returns "" to write none.
+type Seal func(head string, seq int64) (name string, b []byte, err error)
+
+// Finish appends the closing record, writes the head file and the seal, if any, and moves
+// the folder into place. It returns the final head and its record number. When the folder
+// cannot be moved into place (another run took DIR first), the head file and seal are
+// removed again and the Failed record closes the log, so that the folder left behind is
+// an incomplete one and its log never ends in success.
+func (w *Writer) Finish(closing Record, seal Seal) (head string, seq int64, err error) {
+	if err := w.Record(closing); err != nil {
+		return "", 0, err
+	}
+	head, seq = w.log.Head(), w.log.Seq()
+	headPath := filepath.Join(w.tmp, HeadFile)
+	var written []string
+	undo := func(cause error) (string, int64, error) {
+		for _, p := range written {
+			os.Remove(p)
+		}
+		w.Abandon(Failure{Error: cause.Error()})
+		return "", 0, cause
+	}
+	if err := WriteNew(headPath, []byte(head+"\n")); err != nil {
+		return undo(err)
+	}
+	written = append(written, headPath)
+	if seal != nil {
+		name, b, err := seal(head, seq)
+		if err != nil {
+			return undo(err)
+		}
+		if name != "" {
+			p := filepath.Join(w.tmp, name)
+			if err := WriteNew(p, b); err != nil {
+				return undo(err)
+			}
+			written = append(written, p)
+		}
+	}
+	if err := renameNoReplace(w.tmp, w.out); err != nil {
+		return undo(fmt.Errorf("move the finished folder into place (it stays in %s): %w", w.tmp, err))
+	}
+	w.closed = true
+	if err := w.log.Close(); err != nil {
+		return "", 0, fmt.Errorf("close audit log: %w", err)
+	}
+	syncDir(filepath.Dir(w.out))
+	return head, seq, nil
+}
+
+// Abandon closes the log with the kind's Failed record (run.failed, selftest.failed);
+// the working folder stays, named .incomplete. It does nothing after Finish or a first
+// Abandon.
+func (w *Writer) Abandon(f Failure) {
+	if w.closed {
+		return
+	}
+	w.closed = true
+	w.log.Append(w.kind.Failed, f)
+	w.log.Close()
+}
+
+// WriteNew writes b to path through a temporary file in the same folder, synced before it
+// is linked into place. The hard link fails when path exists, so an existing file is never
+// replaced, not even by a race. The file gets the mode of the audit log (audit.FileMode,
+// filtered by the umask).
+func WriteNew(path string, b []byte) error {
+	f, err := audit.CreateTemp(path)
+	if err != nil {
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	tmp := f.Name()
+	_, werr := f.Write(b)
+	serr := f.Sync()
+	cerr := f.Close()
+	if err := errors.Join(werr, serr, cerr); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	err = os.Link(tmp, path)
+	os.Remove(tmp)
+	if err != nil {
+		return fmt.Errorf("write %s: %w", path, err)
+	}
+	syncDir(filepath.Dir(path))
+	return nil
+}
+
+// renameNoReplace renames the folder from to to, failing if to exists (renameat2 with
+// RENAME_NOREPLACE, Linux 3.15 and later), so that a finished run never replaces anything.
+// Where the kernel or file system lacks the flag, it falls back to checking and renaming,
+// which leaves a small window only against a concurrent writer of the same name.
+func renameNoReplace(from, to string) error {
+	err := unix.Renameat2(unix.AT_FDCWD, from, unix.AT_FDCWD, to, unix.RENAME_NOREPLACE)
+	if errors.Is(err, unix.ENOSYS) || errors.Is(err, unix.EINVAL) {
+		if _, err := os.Lstat(to); err == nil {
+			return fmt.Errorf("%s: %w", to, ErrExists)
+		}
+		return os.Rename(from, to)
+	}
+	if errors.Is(err, unix.EEXIST) {
+		return fmt.Errorf("%s: %w", to, ErrExists)
+	}
+	if err != nil {
+		return &os.LinkError{Op: "rename", Old: from, New: to, Err: err}
+	}
+	return nil
+}
+
+func syncDir(dir string) {
+	if d, err := os.Open(dir); err == nil {
+		d.Sync()
+		d.Close()
+	}
+}
