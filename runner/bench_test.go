@@ -110,13 +110,13 @@ func BenchmarkRenderings(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	res, err := Execute(context.Background(), prep, Options{})
+	ex, err := execute(context.Background(), prep, Options{})
 	if err != nil {
 		b.Fatal(err)
 	}
 	b.ReportAllocs()
 	for b.Loop() {
-		if _, err := renderings(res, report.Meta{}, prep, "run"); err != nil {
+		if _, err := renderings(ex.results, report.Meta{}, ex.sorted, "run"); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -68,9 +68,24 @@ func (o Options) progress(analysis, task string) stats.Progress {
 }
 
 // Execute runs every analysis of a prepared plan and assembles the results. It reads no
-// files and depends on nothing but its input, so the same input gives the same results,
-// whatever opt holds.
+// files, leaves prep as it was, and depends on nothing but its input, so the same input
+// gives the same results, whatever opt holds.
 func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results, error) {
+	ex, err := execute(ctx, prep, opt)
+	if err != nil {
+		return nil, err
+	}
+	return ex.results, nil
+}
+
+// execution is what [execute] computes: the results, and for the renderings' plots each
+// analysis's groups sorted ascending (nil for an analysis that was not ranked).
+type execution struct {
+	results *results.Results
+	sorted  [][][]float64
+}
+
+func execute(ctx context.Context, prep *Prepared, opt Options) (*execution, error) {
 	if opt.Progress == nil {
 		opt.Progress, _ = ctx.Value(progressKey{}).(func(analysis, task string, done, total int64))
 	}
@@ -92,6 +107,7 @@ func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results
 	// The omnibus tests first: decisions across analyses need every omnibus p-value,
 	// and post-hoc gating needs the decisions.
 	ranks := make([]*stats.Ranking, len(prep.Analyses))
+	sorted := make([][][]float64, len(prep.Analyses))
 	for i := range prep.Analyses {
 		a, r, err := analyse(ctx, p, i, &prep.Analyses[i], opt)
 		if err != nil {
@@ -100,7 +116,7 @@ func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results
 		res.Analyses = append(res.Analyses, a)
 		ranks[i] = r
 		if r != nil {
-			prep.Analyses[i].Sorted = r.Sorted
+			sorted[i] = r.Sorted
 		}
 	}
 	if p.Multiplicity != nil {
@@ -121,7 +137,7 @@ func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results
 		}
 		ranks[i] = nil
 	}
-	return res, nil
+	return &execution{results: res, sorted: sorted}, nil
 }
 
 // analyse runs the omnibus test of one analysis and its effect sizes, and returns the

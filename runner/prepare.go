@@ -51,9 +51,6 @@ type Input struct {
 	Values   []float64 // per observation: the outcome
 	Counts   []int     // per group: observations
 	Excluded []results.Exclusion
-	// Sorted holds each group's values ascending once Execute has ranked them (nil before,
-	// and when the analysis is not computable): for the report's plots.
-	Sorted [][]float64
 
 	exact *exactOutcome // the exact p-value once computed (see exactP), or nil
 }

@@ -3,8 +3,6 @@ package runner
 import (
 	"bytes"
 	"context"
-	"crypto/rand"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"os"
@@ -16,25 +14,27 @@ import (
 
 	"rankplan/internal/infile"
 	"rankplan/runner/audit"
+	"rankplan/runner/folder"
 	"rankplan/runner/report"
 	"rankplan/runner/results"
+	"rankplan/schemas"
 	"rankplan/spec"
 	"rankplan/stats"
 	"rankplan/stats/stream"
 )
 
-// The files of a run folder.
+// The files of a run folder (see package folder, which owns the folder's contract).
 const (
-	ResultsFile    = "results.json"
-	AuditFile      = "audit.jsonl"
-	HeadFile       = "audit.head"
-	PlanCopyFile   = "plan.yaml"
-	LockCopyFile   = "lock.json"
-	SignatureFile  = "signature.json"
-	ProvenanceFile = "provenance.intoto.json"
-	ReportFile     = "report.html"
-	SummaryFile    = "summary.md"
-	PairsFile      = "pairs.csv"
+	ResultsFile    = folder.ResultsFile
+	AuditFile      = folder.AuditFile
+	HeadFile       = folder.HeadFile
+	PlanCopyFile   = folder.PlanCopyFile
+	LockCopyFile   = folder.LockCopyFile
+	SignatureFile  = folder.SignatureFile
+	ProvenanceFile = folder.ProvenanceFile
+	ReportFile     = folder.ReportFile
+	SummaryFile    = folder.SummaryFile
+	PairsFile      = folder.PairsFile
 )
 
 // RunOptions are the inputs of [Run] besides the plan.
@@ -69,26 +69,65 @@ type RunRecord struct {
 }
 
 // Deviation is one difference between the locked plan and the plan that ran.
-type Deviation struct {
-	Changed  []string `json:"changed"` // key paths that differ from the locked plan
-	Reason   string   `json:"reason"`
-	DataSeen bool     `json:"data_seen"`
-}
+type Deviation = folder.Deviation
 
 // Run validates the plan and its data, runs every analysis and writes the run folder:
 // results.json, a copy of the plan, the hash-chained audit log, its head, and optionally a
-// lock copy and a signature. Everything is written into a fresh sibling folder named
-// DIR.incomplete-XXXX, each file synced, and that folder is renamed to DIR only after the
-// last record; the rename refuses an existing DIR. A run that fails or is killed leaves no
-// DIR, only the .incomplete folder, whose log `verify` reports as incomplete.
+// lock copy and a signature (package folder states the folder's contract and writes it).
+// Everything is written into a fresh sibling folder named DIR.incomplete-XXXX, each file
+// synced, and that folder is renamed to DIR only after the last record; the rename refuses
+// an existing DIR. A run that fails or is stopped leaves no DIR, only the .incomplete
+// folder, whose log ends with run.failed (or, when killed, wherever it stopped) and which
+// `verify` reports as incomplete.
+//
+// It is a pipeline: bind the inputs (read and validate everything; nothing is written
+// when this fails) → open the folder and record the inputs → execute → write the outputs
+// and close the folder.
 func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, error) {
-	now := opt.Now
-	if now == nil {
-		now = time.Now
+	in, err := bindInputs(ctx, planPath, opt)
+	if err != nil {
+		return nil, err
 	}
-	getenv := opt.Getenv
-	if getenv == nil {
-		getenv = os.Getenv
+	w, err := openRunFolder(in, opt)
+	if err != nil {
+		return nil, err
+	}
+	ex, err := execute(ctx, in.prep, Options{Workers: opt.Workers})
+	if err != nil {
+		w.Abandon(Failure(ctx, err))
+		return nil, err
+	}
+	rec, err := closeRunFolder(w, in, ex, opt)
+	if err != nil {
+		w.Abandon(Failure(ctx, err))
+		return nil, err
+	}
+	return rec, nil
+}
+
+// runInputs are the inputs of a run, read and validated before anything is written.
+type runInputs struct {
+	planPath, absPlan string
+	raw, canon        []byte // the plan file and its canonical form
+	plan              *spec.Plan
+	lock              folder.LockState
+	lockBytes         []byte
+	devs              []Deviation
+	prep              *Prepared
+	absData           string
+	signKey           []byte
+	tool              ToolInfo
+	exe               string
+	exeSize           int64
+	now               func() time.Time
+}
+
+// bindInputs reads and checks everything a run needs: the output folder's name, the
+// plan, its lock and deviations, the data, the work's size and the signing key.
+func bindInputs(ctx context.Context, planPath string, opt RunOptions) (*runInputs, error) {
+	in := &runInputs{planPath: planPath, now: opt.Now}
+	if in.now == nil {
+		in.now = time.Now
 	}
 	if err := CheckNewFile(opt.Out); err != nil {
 		return nil, err
@@ -96,229 +135,182 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	if parent := filepath.Dir(opt.Out); !isDir(parent) {
 		return nil, &InputError{Err: fmt.Errorf("--out %s: the folder %s does not exist; create it first, or name a folder inside an existing one", opt.Out, parent)}
 	}
-	raw, err := spec.ReadFile(planPath)
-	if err != nil {
+	var err error
+	if in.raw, err = spec.ReadFile(planPath); err != nil {
 		return nil, &InputError{Err: err}
 	}
-	p, err := spec.Parse(planPath, raw)
-	if err != nil {
+	if in.plan, err = spec.Parse(planPath, in.raw); err != nil {
 		return nil, &InputError{Err: err}
 	}
-	p.Dir = filepath.Dir(planPath)
-	canon, err := PlanCanonical(p)
-	if err != nil {
+	in.plan.Dir = filepath.Dir(planPath)
+	if in.canon, err = PlanCanonical(in.plan); err != nil {
 		return nil, err
 	}
-	lockInfo, devs, lockBytes, err := checkLock(p, canon, opt)
-	if err != nil {
+	if in.lock, in.devs, in.lockBytes, err = checkLock(in.plan, in.canon, opt); err != nil {
 		return nil, err
 	}
-	prep, err := Prepare(p)
-	if err != nil {
+	if in.prep, err = Prepare(in.plan); err != nil {
 		return nil, err
 	}
-	if err := prep.CheckWork(ctx); err != nil {
+	if err := in.prep.CheckWork(ctx); err != nil {
 		return nil, err
 	}
-	var signKey []byte
 	if opt.SignKey != "" {
 		if _, err := infile.ReadFile(opt.SignKey, MaxKeyBytes); err != nil {
 			return nil, &InputError{Err: fmt.Errorf("--sign %s: cannot open the key file: %w", opt.SignKey, err)}
 		}
-		k, err := audit.LoadPrivateKey(opt.SignKey)
-		if err != nil {
+		if in.signKey, err = audit.LoadPrivateKey(opt.SignKey); err != nil {
 			return nil, &InputError{Err: fmt.Errorf("--sign: %w", err)}
 		}
-		signKey = k
 	}
+	in.absPlan, _ = filepath.Abs(planPath)
+	in.absData, _ = filepath.Abs(in.prep.DataPath)
+	in.tool = Tool()
+	in.exe, in.exeSize = Executable()
+	return in, nil
+}
 
-	tmp, err := makeTemp(opt.Out)
+// openRunFolder creates the working folder and records the bound inputs: run.started,
+// plan.bound, data.bound and exclusions.applied.
+func openRunFolder(in *runInputs, opt RunOptions) (*folder.Writer, error) {
+	getenv := opt.Getenv
+	if getenv == nil {
+		getenv = os.Getenv
+	}
+	w, err := folder.Create(opt.Out, folder.Run, audit.CurrentActor(getenv, opt.Signer, opt.Reason), in.now)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("create run folder: %w", err)
 	}
-	actor := audit.CurrentActor(getenv, opt.Signer, opt.Reason)
-	log, err := audit.Create(filepath.Join(tmp, AuditFile), actor, now)
-	if err != nil {
-		return nil, fmt.Errorf("create audit log: %w", err)
-	}
-	defer log.Close()
-	fail := func(err error) (*RunRecord, error) {
-		log.Append("run.failed", map[string]any{"error": err.Error()})
-		return nil, err
-	}
-
-	tool := Tool()
-	exe, exeSize := Executable()
-	if _, err := log.Append("run.started", map[string]any{
-		"tool":    tool.Record(exe, exeSize),
-		"command": opt.Args,
-		"workers": opt.Workers, "cpus": runtime.NumCPU(),
-		"note": "the plan and its data were validated before this record was written",
-	}); err != nil {
-		return nil, fmt.Errorf("write audit log: %w", err)
-	}
-	absPlan, _ := filepath.Abs(planPath)
-	if _, err := log.Append("plan.bound", map[string]any{
-		"path": planPath, "absolute_path": absPlan, "bytes": len(raw),
-		"raw_sha256": audit.Digest(raw), "canonical_sha256": audit.Digest(canon),
-		"plan_id": p.ID, "plan_format": spec.FormatVersion, "schema": "https://rankplan.invalid/schema/plan-v1.json",
-		"lock": lockInfo, "deviations": devs,
-	}); err != nil {
-		return fail(err)
-	}
-	absData, _ := filepath.Abs(prep.DataPath)
-	if _, err := log.Append("data.bound", map[string]any{
-		"path": prep.DataPath, "absolute_path": absData, "bytes": prep.Data.Bytes,
-		"sha256": "sha256:" + prep.Data.SHA256, "rows": prep.Data.Rows,
-		"high_precision_cells": prep.Data.HighPrecisionCells,
-	}); err != nil {
-		return fail(err)
-	}
-	var excl []map[string]any
-	for _, in := range prep.Analyses {
+	p, prep := in.plan, in.prep
+	excl := folder.ExclusionsApplied{Analyses: []folder.Exclusions{}}
+	for _, a := range prep.Analyses {
 		counts := map[string]int{}
-		for j, g := range in.Groups {
-			counts[g] = in.Counts[j]
+		for j, g := range a.Groups {
+			counts[g] = a.Counts[j]
 		}
-		excl = append(excl, map[string]any{
-			"analysis": in.Analysis.ID, "outcome": in.Analysis.Outcome, "n": len(in.Values),
-			"rows_per_group": counts, "excluded": in.Excluded,
-			"rule": "missing policy " + string(p.Data.Missing.Policy) + "; each row counted once, first reason of: missing-group, group-not-included, outside-subset, missing-outcome",
+		excl.Analyses = append(excl.Analyses, folder.Exclusions{
+			Analysis: a.Analysis.ID, Outcome: a.Analysis.Outcome, N: len(a.Values),
+			RowsPerGroup: counts, Excluded: a.Excluded,
+			Rule: "missing policy " + string(p.Data.Missing.Policy) + "; each row counted once, first reason of: missing-group, group-not-included, outside-subset, missing-outcome",
 		})
 	}
-	if _, err := log.Append("exclusions.applied", map[string]any{"analyses": excl}); err != nil {
-		return fail(err)
+	for _, r := range []folder.Record{
+		folder.RunStarted{
+			Tool: in.tool.Record(in.exe, in.exeSize), Command: opt.Args, Workers: opt.Workers, CPUs: runtime.NumCPU(),
+			Note: "the plan and its data were validated before this record was written",
+		},
+		folder.PlanBound{
+			Path: in.planPath, AbsolutePath: in.absPlan, Bytes: len(in.raw),
+			RawSHA256: audit.Digest(in.raw), CanonicalSHA256: audit.Digest(in.canon),
+			PlanID: p.ID, PlanFormat: spec.FormatVersion, Schema: schemas.PlanID,
+			Lock: in.lock, Deviations: in.devs,
+		},
+		folder.DataBound{
+			Path: prep.DataPath, AbsolutePath: in.absData, Bytes: prep.Data.Bytes,
+			SHA256: "sha256:" + prep.Data.SHA256, Rows: prep.Data.Rows, HighPrecisionCells: prep.Data.HighPrecisionCells,
+		},
+		excl,
+	} {
+		if err := w.Record(r); err != nil {
+			w.Abandon(folder.Failure{Error: err.Error()})
+			return nil, err
+		}
 	}
+	return w, nil
+}
 
-	res, err := Execute(ctx, prep, Options{Workers: opt.Workers})
-	if err != nil {
-		return fail(err)
-	}
+// closeRunFolder records how each analysis ended, writes the outputs (results.json and the
+// other computed files, then the renderings for people, which show the audit head as it
+// stands after every computed output was recorded), closes the log with run.finished and
+// moves the folder into place, signed when a key was given.
+func closeRunFolder(w *folder.Writer, in *runInputs, ex *execution, opt RunOptions) (*RunRecord, error) {
+	res, p := ex.results, in.plan
 	for _, a := range res.Analyses {
-		d := map[string]any{"analysis": a.ID, "status": a.Status}
-		if a.PValue != nil {
-			d["p_value_requested"], d["p_value_method"], d["reason"] = a.PValue.Requested, a.PValue.Method, a.PValue.Reason
-		}
-		d["random_stream"] = map[string]any{
-			"generator": stream.Generator, "scheme": stream.Label, "key_layout": stream.KeyLayout,
-			"seed": p.Seed.String(),
-			"uses": []map[string]any{
-				{"purpose": stats.PermutationPurpose, "block_size": stats.PermutationBlockSize},
-				{"purpose": stats.BootstrapPurpose, "block_size": stats.BootstrapBlockSize},
+		d := folder.AnalysisFinished{Analysis: a.ID, Status: a.Status, RandomStream: folder.RandomStream{
+			Generator: stream.Generator, Scheme: stream.Label, KeyLayout: stream.KeyLayout, Seed: p.Seed.String(),
+			Uses: []folder.StreamUse{
+				{Purpose: stats.PermutationPurpose, BlockSize: stats.PermutationBlockSize},
+				{Purpose: stats.BootstrapPurpose, BlockSize: stats.BootstrapBlockSize},
 			},
+		}}
+		if a.PValue != nil {
+			d.PValueRequested, d.PValueMethod, d.Reason = a.PValue.Requested, a.PValue.Method, a.PValue.Reason
 		}
-		if _, err := log.Append("analysis.finished", d); err != nil {
-			return fail(err)
+		if err := w.Record(d); err != nil {
+			return nil, err
 		}
 	}
-
 	resBytes, err := EncodeResults(res)
 	if err != nil {
-		return fail(err)
+		return nil, err
 	}
 	digest, err := ResultsDigest(res)
 	if err != nil {
-		return fail(err)
-	}
-	outputs := []struct {
-		name string
-		b    []byte
-	}{{ResultsFile, resBytes}, {PlanCopyFile, raw}}
-	if lockBytes != nil {
-		outputs = append(outputs, struct {
-			name string
-			b    []byte
-		}{LockCopyFile, lockBytes})
-	}
-	prov, err := provenance(outputs[:2], absPlan, raw, absData, "sha256:"+prep.Data.SHA256, exe, tool)
-	if err != nil {
-		return fail(err)
-	}
-	outputs = append(outputs, struct {
-		name string
-		b    []byte
-	}{ProvenanceFile, prov})
-	for _, o := range outputs {
-		if err := writeFileAtomic(filepath.Join(tmp, o.name), o.b); err != nil {
-			return fail(err)
-		}
-		d := map[string]any{"file": o.name, "bytes": len(o.b), "sha256": audit.Digest(o.b)}
-		if o.name == ResultsFile {
-			d["results_digest"] = digest
-			d["results_digest_rule"] = "SHA-256 of the RFC 8785 canonical form of results.json (which holds no times, hosts or paths)"
-		}
-		if _, err := log.Append("output.written", d); err != nil {
-			return fail(err)
-		}
-	}
-	// The renderings for people come last, so that they can show the audit chain's head as
-	// it stands after every computed output was recorded.
-	meta := reportMeta(p, planPath, raw, canon, prep, lockInfo, devs, tool, log.Head(), log.Seq())
-	renders, err := renderings(res, meta, prep, opt.Out)
-	if err != nil {
-		return fail(err)
-	}
-	for _, o := range renders {
-		if err := writeFileAtomic(filepath.Join(tmp, o.name), o.b); err != nil {
-			return fail(err)
-		}
-		d := map[string]any{"file": o.name, "bytes": len(o.b), "sha256": audit.Digest(o.b),
-			"note": "a rendering of results.json for people; it shows the audit head at record " + strconv.FormatInt(meta.AuditSeq, 10)}
-		if _, err := log.Append("output.written", d); err != nil {
-			return fail(err)
-		}
-	}
-	if _, err := log.Append("run.finished", map[string]any{"status": "ok", "exit_code": 0, "analyses": len(res.Analyses)}); err != nil {
-		return fail(err)
-	}
-	head, seq := log.Head(), log.Seq()
-	if err := log.Close(); err != nil {
-		return nil, fmt.Errorf("close audit log: %w", err)
-	}
-	if err := writeFileAtomic(filepath.Join(tmp, HeadFile), []byte(head+"\n")); err != nil {
 		return nil, err
 	}
-	rec := &RunRecord{Dir: opt.Out, Prepared: prep, Results: res, Head: head, Seq: seq, Deviations: devs}
-	if signKey != nil {
-		meaning := opt.Meaning
-		if meaning == "" {
-			meaning = "authorship"
+	outputs := []namedBytes{{ResultsFile, resBytes}, {PlanCopyFile, in.raw}}
+	if in.lockBytes != nil {
+		outputs = append(outputs, namedBytes{LockCopyFile, in.lockBytes})
+	}
+	prov, err := provenance(outputs[:2], in.absPlan, in.raw, in.absData, "sha256:"+in.prep.Data.SHA256, in.exe, in.tool)
+	if err != nil {
+		return nil, err
+	}
+	outputs = append(outputs, namedBytes{ProvenanceFile, prov})
+	for _, o := range outputs {
+		var rec folder.OutputWritten
+		if o.name == ResultsFile {
+			rec.ResultsDigest, rec.ResultsDigestRule = digest, folder.ResultsDigestRuleRun
 		}
-		sig, err := audit.Sign(signKey, head, seq, opt.Signer, meaning, now())
-		if err != nil {
-			return nil, fmt.Errorf("sign: %w", err)
-		}
-		b, err := EncodeJSON(sig)
-		if err != nil {
+		if err := w.WriteFile(o.name, o.b, rec); err != nil {
 			return nil, err
 		}
-		if err := writeFileAtomic(filepath.Join(tmp, SignatureFile), b); err != nil {
+	}
+	head, seq := w.Head()
+	meta := reportMeta(p, in.planPath, in.raw, in.canon, in.prep, in.lock, in.devs, in.tool, head, seq)
+	renders, err := renderings(res, meta, ex.sorted, opt.Out)
+	if err != nil {
+		return nil, err
+	}
+	for _, o := range renders {
+		note := "a rendering of results.json for people; it shows the audit head at record " + strconv.FormatInt(seq, 10)
+		if err := w.WriteFile(o.name, o.b, folder.OutputWritten{Note: note}); err != nil {
 			return nil, err
 		}
-		rec.Signature = &sig
 	}
-	if err := renameNoReplace(tmp, opt.Out); err != nil {
-		return nil, fmt.Errorf("move the finished run into place (it stays in %s): %w", tmp, err)
+	rec := &RunRecord{Dir: opt.Out, Prepared: in.prep, Results: res, Deviations: in.devs}
+	var seal folder.Seal
+	if in.signKey != nil {
+		seal = func(head string, seq int64) (string, []byte, error) {
+			meaning := opt.Meaning
+			if meaning == "" {
+				meaning = "authorship"
+			}
+			sig, err := audit.Sign(in.signKey, head, seq, opt.Signer, meaning, in.now())
+			if err != nil {
+				return "", nil, fmt.Errorf("sign: %w", err)
+			}
+			b, err := EncodeJSON(sig)
+			rec.Signature = &sig
+			return SignatureFile, b, err
+		}
 	}
-	syncDir(filepath.Dir(opt.Out))
+	rec.Head, rec.Seq, err = w.Finish(folder.RunFinished{Status: "ok", ExitCode: 0, Analyses: len(res.Analyses)}, seal)
+	if err != nil {
+		return nil, err
+	}
 	return rec, nil
+}
+
+// Failure is what the log's closing run.failed record says of err.
+func Failure(ctx context.Context, err error) folder.Failure {
+	return folder.Failure{Error: err.Error()}
 }
 
 // isDir reports whether path names a directory (after following symbolic links).
 func isDir(path string) bool {
 	fi, err := os.Stat(path)
 	return err == nil && fi.IsDir()
-}
-
-// makeTemp creates the run's working folder beside out.
-func makeTemp(out string) (string, error) {
-	var b [4]byte
-	rand.Read(b[:])
-	tmp := filepath.Clean(out) + ".incomplete-" + hex.EncodeToString(b[:])
-	if err := os.Mkdir(tmp, 0o755); err != nil {
-		return "", fmt.Errorf("create run folder: %w", err)
-	}
-	return tmp, nil
 }
 
 // ResultsDigest is the SHA-256 of the canonical (RFC 8785) form of the results: the
@@ -341,56 +333,57 @@ func PlanCanonical(p *spec.Plan) ([]byte, error) {
 	return audit.Canonical(p)
 }
 
+// goamd64 is the amd64 microarchitecture level the running binary was built for, from its
+// build information (the GOAMD64 setting at build time; never the environment at run
+// time, which does not change the code that runs).
 func goamd64() string {
-	if v := os.Getenv("GOAMD64"); v != "" {
-		return v
-	}
 	return buildSetting("GOAMD64")
 }
 
 // checkLock compares the plan with the lock named in opt, if any. It returns what the
 // audit log records about the lock, the deviations, and the lock file's bytes.
-func checkLock(p *spec.Plan, canon []byte, opt RunOptions) (map[string]any, []Deviation, []byte, error) {
+func checkLock(p *spec.Plan, canon []byte, opt RunOptions) (folder.LockState, []Deviation, []byte, error) {
+	var none folder.LockState
 	if opt.LockPath == "" {
 		if len(opt.Deviations) > 0 {
-			return nil, nil, nil, &InputError{Err: errors.New("--deviation needs --lock: a deviation is a difference from a locked plan")}
+			return none, nil, nil, &InputError{Err: errors.New("--deviation needs --lock: a deviation is a difference from a locked plan")}
 		}
-		return map[string]any{"status": "none"}, nil, nil, nil
+		return folder.LockState{Status: folder.LockNone}, nil, nil, nil
 	}
 	lockBytes, err := infile.ReadFile(opt.LockPath, MaxLockBytes)
 	if err != nil {
-		return nil, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: cannot open the lock file: %w", opt.LockPath, err)}
+		return none, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: cannot open the lock file: %w", opt.LockPath, err)}
 	}
 	l, err := audit.ReadLock(opt.LockPath)
 	if err != nil {
-		return nil, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: %w", opt.LockPath, err)}
+		return none, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: %w", opt.LockPath, err)}
 	}
-	info := map[string]any{"path": opt.LockPath, "lock_sha256": audit.Digest(lockBytes), "locked_at": l.LockedAt,
-		"locked_plan_sha256": l.PlanSHA256}
+	info := folder.LockState{Path: opt.LockPath, LockSHA256: audit.Digest(lockBytes), LockedAt: l.LockedAt,
+		LockedPlanSHA256: l.PlanSHA256}
 	if l.PlanSHA256 == audit.Digest(canon) {
 		if len(opt.Deviations) > 0 {
-			return nil, nil, nil, &InputError{Err: errors.New("--deviation given, but the plan matches its lock")}
+			return none, nil, nil, &InputError{Err: errors.New("--deviation given, but the plan matches its lock")}
 		}
-		info["status"] = "matches"
+		info.Status = folder.LockMatches
 		return info, nil, lockBytes, nil
 	}
 	changed, err := audit.Diff(l.Plan, canon)
 	if err != nil {
-		return nil, nil, nil, err
+		return none, nil, nil, err
 	}
 	if len(opt.Deviations) == 0 {
-		return nil, nil, nil, &InputError{Err: fmt.Errorf("the plan differs from its lock %s (locked %s) at: %s; "+
+		return none, nil, nil, &InputError{Err: fmt.Errorf("the plan differs from its lock %s (locked %s) at: %s; "+
 			"to run it anyway, state each reason with --deviation \"...\" and say whether the data had been seen with --data-seen=true|false",
 			opt.LockPath, l.LockedAt, joinMax(changed, 10))}
 	}
 	if opt.DataSeen == nil {
-		return nil, nil, nil, &InputError{Err: errors.New("a deviation must say whether the data had been seen: add --data-seen=true or --data-seen=false")}
+		return none, nil, nil, &InputError{Err: errors.New("a deviation must say whether the data had been seen: add --data-seen=true or --data-seen=false")}
 	}
 	var devs []Deviation
 	for _, r := range opt.Deviations {
 		devs = append(devs, Deviation{Changed: changed, Reason: r, DataSeen: *opt.DataSeen})
 	}
-	info["status"] = "deviates"
+	info.Status = folder.LockDeviates
 	return info, devs, lockBytes, nil
 }
 
@@ -412,10 +405,7 @@ func joinMax(s []string, n int) string {
 // standard) for supply-chain tooling: the outputs are its subjects, and the plan, the data
 // and the executable are the resolved dependencies of a SLSA Provenance v1 predicate. It
 // holds no times, so that it is the same for the same inputs.
-func provenance(outputs []struct {
-	name string
-	b    []byte
-}, planPath string, plan []byte, dataPath, dataDigest, exeDigest string, tool ToolInfo) ([]byte, error) {
+func provenance(outputs []namedBytes, planPath string, plan []byte, dataPath, dataDigest, exeDigest string, tool ToolInfo) ([]byte, error) {
 	hexOf := func(d string) string { return strings.TrimPrefix(d, "sha256:") }
 	var subjects []map[string]any
 	for _, o := range outputs {
@@ -453,7 +443,7 @@ type namedBytes struct {
 
 // reportMeta collects what the renderings show beyond the results: fingerprints, lock
 // status, tool and stream identity, and the audit head so far.
-func reportMeta(p *spec.Plan, planPath string, raw, canon []byte, prep *Prepared, lockInfo map[string]any,
+func reportMeta(p *spec.Plan, planPath string, raw, canon []byte, prep *Prepared, lock folder.LockState,
 	devs []Deviation, tool ToolInfo, head string, seq int64) report.Meta {
 	m := report.Meta{
 		PlanFile: planPath, PlanSHA256: audit.Digest(raw), PlanCanonicalSHA256: audit.Digest(canon),
@@ -462,11 +452,11 @@ func reportMeta(p *spec.Plan, planPath string, raw, canon []byte, prep *Prepared
 		Seed: p.Seed.String(), RNG: "ChaCha8Rand (C2SP chacha8rand), scheme " + stream.Label,
 		AuditHead: head, AuditSeq: seq,
 	}
-	switch lockInfo["status"] {
-	case "matches":
-		m.Lock = fmt.Sprintf("locked: the plan matches its lock %v (locked %v)", lockInfo["lock_sha256"], lockInfo["locked_at"])
-	case "deviates":
-		m.Lock = fmt.Sprintf("locked, with deviations: the plan differs from its lock %v (locked %v)", lockInfo["lock_sha256"], lockInfo["locked_at"])
+	switch lock.Status {
+	case folder.LockMatches:
+		m.Lock = fmt.Sprintf("locked: the plan matches its lock %s (locked %s)", lock.LockSHA256, lock.LockedAt)
+	case folder.LockDeviates:
+		m.Lock = fmt.Sprintf("locked, with deviations: the plan differs from its lock %s (locked %s)", lock.LockSHA256, lock.LockedAt)
 	default:
 		m.Lock = "no lock: the plan was not locked before this run"
 	}
@@ -492,11 +482,11 @@ func orUnknown(s string) string {
 const maxPlotPoints = 1000
 
 // renderings writes report.html, summary.md and pairs.csv from the results.
-func renderings(res *results.Results, meta report.Meta, prep *Prepared, dir string) ([]namedBytes, error) {
-	values := make([]report.AnalysisValues, len(prep.Analyses))
-	for i, in := range prep.Analyses {
-		values[i].ID = in.Analysis.ID
-		for _, g := range in.Sorted {
+func renderings(res *results.Results, meta report.Meta, sorted [][][]float64, dir string) ([]namedBytes, error) {
+	values := make([]report.AnalysisValues, len(sorted))
+	for i, groups := range sorted {
+		values[i].ID = res.Analyses[i].ID
+		for _, g := range groups {
 			values[i].Groups = append(values[i].Groups, thin(g, maxPlotPoints))
 		}
 	}

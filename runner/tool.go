@@ -1,6 +1,9 @@
 package runner
 
 import (
+	"os"
+	"rankplan/runner/audit"
+	"rankplan/runner/folder"
 	"runtime"
 	"runtime/debug"
 )
@@ -48,10 +51,21 @@ func (t ToolInfo) RevisionText() string {
 
 // Record is the build's identity as the audit log records it (in run.started and
 // selftest.started), with the executable's SHA-256 and size from [Executable].
-func (t ToolInfo) Record(exe string, exeSize int64) map[string]any {
-	return map[string]any{
-		"name": "rankplan", "version": t.Version, "revision": t.Revision, "modified": t.Modified,
-		"executable_sha256": exe, "executable_bytes": exeSize,
-		"go": t.GoVersion, "goos": t.GOOS, "goarch": t.GOARCH, "goamd64": goamd64(),
+func (t ToolInfo) Record(exe string, exeSize int64) folder.Tool {
+	return folder.Tool{
+		Name: "rankplan", Version: t.Version, Revision: t.Revision, Modified: t.Modified,
+		ExecutableSHA256: exe, ExecutableBytes: exeSize,
+		Go: t.GoVersion, GOOS: t.GOOS, GOARCH: t.GOARCH, GOAMD64: goamd64(),
 	}
+}
+
+// Executable returns the SHA-256 and size of the running executable ("" and 0 when it
+// cannot be read).
+func Executable() (digest string, size int64) {
+	path, err := os.Executable()
+	if err != nil {
+		return "", 0
+	}
+	digest, size, _ = audit.DigestFile(path)
+	return digest, size
 }

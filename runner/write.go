@@ -9,14 +9,14 @@ import (
 	"os"
 	"path/filepath"
 
-	"rankplan/runner/audit"
+	"rankplan/runner/folder"
 	"rankplan/runner/results"
 	"rankplan/schemas"
 )
 
 // ErrOutExists is returned when the output folder of a run already exists: rankplan never
 // writes into, and so never overwrites, an existing folder.
-var ErrOutExists = errors.New("the output folder already exists; rankplan never overwrites earlier results, so name a new folder")
+var ErrOutExists = folder.ErrExists
 
 // EncodeResults returns the bytes of results.json: indented JSON without HTML escaping,
 // ending in a newline. It checks the value against the results schema first, so that a
@@ -61,33 +61,9 @@ func WriteRun(dir string, res *results.Results) error {
 	return writeFileAtomic(filepath.Join(dir, "results.json"), b)
 }
 
-// writeFileAtomic writes b to path through a temporary file in the same folder, synced
-// before it is linked into place. The hard link fails when path exists, so an existing
-// file is never replaced, not even by a race.
-func writeFileAtomic(path string, b []byte) error {
-	f, err := audit.CreateTemp(path)
-	if err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	tmp := f.Name()
-	_, werr := f.Write(b)
-	serr := f.Sync()
-	cerr := f.Close()
-	if err := errors.Join(werr, serr, cerr); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	err = os.Link(tmp, path)
-	os.Remove(tmp)
-	if err != nil {
-		return fmt.Errorf("write %s: %w", path, err)
-	}
-	if d, err := os.Open(filepath.Dir(path)); err == nil {
-		d.Sync()
-		d.Close()
-	}
-	return nil
-}
+// writeFileAtomic writes b to path, which must not exist, through a synced temporary
+// file (folder.WriteNew).
+func writeFileAtomic(path string, b []byte) error { return folder.WriteNew(path, b) }
 
 // CheckNewFile fails when path exists, before any work is done for a file that could not
 // be written anyway.

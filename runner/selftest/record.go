@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"rankplan/runner"
+	"rankplan/runner/folder"
 	"rankplan/schemas"
 )
 
@@ -14,54 +15,50 @@ import (
 const ReportFile = "report.html"
 
 // writeFolder writes the selftest folder opt.Out with the guarantees of a run folder
-// ([runner.OutputFolder]): validation.json, report.html, the hash-chained audit log and
+// ([folder.Writer]): validation.json, report.html, the hash-chained audit log and
 // its head. Records: selftest.started (the build), cases.bound (the case file),
 // cases.evaluated (the verdicts), output.written for each file, selftest.finished.
 func writeFolder(rep *Report, opt Options, now func() time.Time) error {
-	f, err := runner.CreateOutputFolder(opt.Out, rep.Actor, now)
+	f, err := folder.Create(opt.Out, folder.Selftest, rep.Actor, now)
 	if err != nil {
 		return err
 	}
 	fail := func(err error) error {
-		f.Abandon(runner.SelftestFailed, err)
+		f.Abandon(folder.Failure{Error: err.Error()})
 		return err
 	}
 	res := rep.Results
-	if err := f.Append(runner.SelftestStarted, map[string]any{
-		"tool":    rep.Tool.Record(rep.Executable, rep.ExeBytes),
-		"command": opt.Args,
-		"note":    "installation and operational qualification: this build computes the built-in reference cases and compares each with its published or library value",
-	}); err != nil {
-		return fail(err)
-	}
 	var datasets []string
 	for _, d := range res.Datasets {
 		datasets = append(datasets, d.Name)
 	}
-	if err := f.Append("cases.bound", map[string]any{
-		"file": CasesFile + " (embedded in the executable)", "sha256": res.CaseFile,
-		"cases": res.Summary.Cases - res.Summary.Added, "added_cases": res.Summary.Added, "datasets": datasets,
-	}); err != nil {
-		return fail(err)
-	}
-	var failed []string
+	failed := []string{}
 	for _, o := range res.Cases {
 		if o.Verdict != Pass {
 			failed = append(failed, o.ID)
 		}
 	}
-	if err := f.Append("cases.evaluated", map[string]any{
-		"cases": res.Summary.Cases, "passed": res.Summary.Passed, "failed": res.Summary.Failed, "failed_cases": failed,
-	}); err != nil {
-		return fail(err)
+	for _, r := range []folder.Record{
+		folder.SelftestStarted{
+			Tool: rep.Tool.Record(rep.Executable, rep.ExeBytes), Command: opt.Args,
+			Note: "installation and operational qualification: this build computes the built-in reference cases and compares each with its published or library value",
+		},
+		folder.CasesBound{
+			File: CasesFile + " (embedded in the executable)", SHA256: res.CaseFile,
+			Cases: res.Summary.Cases - res.Summary.Added, AddedCases: res.Summary.Added, Datasets: datasets,
+		},
+		folder.CasesEvaluated{Cases: res.Summary.Cases, Passed: res.Summary.Passed, Failed: res.Summary.Failed, FailedCases: failed},
+	} {
+		if err := f.Record(r); err != nil {
+			return fail(err)
+		}
 	}
 	b, err := EncodeRecord(rep)
 	if err != nil {
 		return fail(err)
 	}
-	if err := f.WriteFile(runner.ValidationFile, b, map[string]any{
-		"results_digest":      rep.Digest,
-		"results_digest_rule": "SHA-256 of the RFC 8785 canonical form of the results member of validation.json (which holds no times, hosts or paths)",
+	if err := f.WriteFile(folder.ValidationFile, b, folder.OutputWritten{
+		ResultsDigest: rep.Digest, ResultsDigestRule: folder.ResultsDigestRuleCases,
 	}); err != nil {
 		return fail(err)
 	}
@@ -70,14 +67,14 @@ func writeFolder(rep *Report, opt Options, now func() time.Time) error {
 	if err := HTML(&h, rep, head, seq); err != nil {
 		return fail(err)
 	}
-	if err := f.WriteFile(ReportFile, h.Bytes(), map[string]any{
-		"note": "a rendering of validation.json for people; it shows the audit head at record " + strconv.FormatInt(seq, 10),
+	if err := f.WriteFile(ReportFile, h.Bytes(), folder.OutputWritten{
+		Note: "a rendering of validation.json for people; it shows the audit head at record " + strconv.FormatInt(seq, 10),
 	}); err != nil {
 		return fail(err)
 	}
-	rep.Head, rep.Seq, err = f.Finish(runner.SelftestFinished, map[string]any{
-		"status": res.Summary.Outcome, "cases": res.Summary.Cases, "passed": res.Summary.Passed, "failed": res.Summary.Failed,
-	})
+	rep.Head, rep.Seq, err = f.Finish(folder.SelftestFinished{
+		Status: res.Summary.Outcome, Cases: res.Summary.Cases, Passed: res.Summary.Passed, Failed: res.Summary.Failed,
+	}, nil)
 	if err != nil {
 		return err
 	}

@@ -17,6 +17,7 @@ import (
 
 	"rankplan/runner"
 	"rankplan/runner/audit"
+	"rankplan/runner/folder"
 )
 
 // repoRoot is the repository root, seen from this package's folder.
@@ -515,6 +516,16 @@ func TestSelftestFolderVerifies(t *testing.T) {
 	want := []string{runner.SelftestStarted, "cases.bound", "cases.evaluated", "output.written", "output.written", runner.SelftestFinished}
 	if !slices.Equal(events, want) || chain.Head != rep.Head {
 		t.Errorf("events %v head %s, want %v %s", events, chain.Head, want, rep.Head)
+	}
+	// Every record is of the audit-record schema and decodes into its typed record.
+	f, err := folder.Read(dir)
+	if err != nil || len(f.Problems) > 0 || f.Kind != folder.Selftest {
+		t.Fatalf("folder.Read: %v %v", err, f.Problems)
+	}
+	for _, r := range f.Chain.Records {
+		if _, err := folder.Typed(r); err != nil {
+			t.Error(err)
+		}
 	}
 	b, err := os.ReadFile(filepath.Join(dir, runner.ValidationFile))
 	if err != nil {
