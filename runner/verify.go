@@ -10,12 +10,11 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
-	"regexp"
-	"slices"
 	"strings"
 	"unicode/utf8"
 
 	"rankplan/runner/audit"
+	"rankplan/runner/folder"
 	"rankplan/runner/report"
 	"rankplan/runner/results"
 	"rankplan/spec"
@@ -40,34 +39,13 @@ const (
 )
 
 // The records and the main file of a selftest folder (rankplan selftest --out), which
-// verify tells from a run folder by its first record.
+// verify tells from a run folder by its first record (see package folder).
 const (
-	ValidationFile   = "validation.json"
-	SelftestStarted  = "selftest.started"
-	SelftestFinished = "selftest.finished"
-	SelftestFailed   = "selftest.failed"
+	ValidationFile   = folder.ValidationFile
+	SelftestStarted  = folder.EventSelftestStarted
+	SelftestFinished = folder.EventSelftestFinished
+	SelftestFailed   = folder.EventSelftestFailed
 )
-
-// folderKind is what verify expects of a kind of folder: the events that open and close
-// its log, the records that must come first, and the file whose results digest it records.
-type folderKind struct {
-	started, finished, failed string
-	sequence                  []string
-	sequenceOK                string
-	main                      string
-}
-
-var (
-	runFolder = &folderKind{"run.started", "run.finished", "run.failed",
-		[]string{"run.started", "plan.bound", "data.bound", "exclusions.applied"},
-		"the plan was bound before the data, the data before any result", ResultsFile}
-	selftestFolder = &folderKind{SelftestStarted, SelftestFinished, SelftestFailed,
-		[]string{SelftestStarted, "cases.bound"},
-		"the reference cases were bound before any result", ValidationFile}
-)
-
-// incompleteName matches the working folder of a run that was never moved into place.
-var incompleteName = regexp.MustCompile(`\.incomplete-[0-9a-f]{8}$`)
 
 // Check is one verdict of [Verify].
 type Check struct {
@@ -128,13 +106,18 @@ func (r *VerifyReport) add(name, verdict, class, file, format string, args ...an
 	r.Checks = append(r.Checks, Check{Name: name, Verdict: verdict, Class: class, File: file, Detail: fmt.Sprintf(format, args...)})
 }
 
-// Verify checks a run folder: the audit log's records and hash chain, that the run
-// finished, its head (against the folder's head file and, if given, a copy kept
-// elsewhere), every output file against its recorded hash, the plan and data against
-// theirs, the tool version, the signature; then it reruns the plan from the recorded
-// inputs and seed and compares the results digest, naming the first field that differs.
-// With opt.Data it reruns on that file instead and reports which conclusions at the
-// plan's alpha changed. Only an unusable folder is an error; everything else is a check.
+// Verify checks a run folder: the audit log's records and hash chain, each record against
+// the audit-record schema and the order package folder prescribes, that the run finished,
+// its head (against the folder's head file and, if given, a copy kept elsewhere), every
+// output file against its recorded hash, the signature, the tool version; then the plan and
+// data against theirs; then it reruns the plan from the recorded inputs and seed and
+// compares the results digest, naming the first field that differs. With opt.Data it
+// reruns on that file instead and reports which conclusions at the plan's alpha changed.
+// Only an unusable folder is an error; everything else is a check.
+//
+// It is a pipeline: read the folder → integrity checks → inputs → rerun → compare. A stage
+// runs only when the ones before it allow: nothing a log names outside the folder is read
+// before the log itself verified.
 func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, error) {
 	st, err := os.Stat(dir)
 	if err != nil || !st.IsDir() {
@@ -153,71 +136,100 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	r := &VerifyReport{Dir: dir}
 	defer func() { r.Outcome = outcome(r.Checks) }()
 
+	f := readLog(r, dir)
+	if f == nil {
+		return r, nil
+	}
+	resultsDigest := checkFolder(r, f, opt)
+	if f.Kind == folder.Selftest {
+		rerunSelftest(ctx, r, f.Last(), resultsDigest, opt.Selftest)
+		return r, nil
+	}
+	if failed(r.Checks, ClassIntegrity) {
+		r.add("inputs", Skip, "", "", "the recorded plan and data were not read: the record itself did not verify")
+		r.add("rerun", Skip, "", "", "not rerun: the record itself did not verify")
+		return r, nil
+	}
+	dataPath, ok := checkInputs(r, f, opt)
+	switch {
+	case !f.Finished():
+		r.add("rerun", Skip, "", "", "not rerun: the run did not finish")
+		return r, nil
+	case !ok:
+		r.add("rerun", Skip, "", "", "not rerun: the recorded data are not at hand")
+		return r, nil
+	}
+	return r, rerunAndCompare(ctx, r, dir, dataPath, resultsDigest, opt)
+}
+
+// readLog reads the folder's audit log and checks the chain, the records' schema, whether
+// the run finished, and the order of the records. It returns nil when nothing more can be
+// checked.
+func readLog(r *VerifyReport, dir string) *folder.Folder {
 	// Run writes into DIR.incomplete-XXXX and renames the folder only after its last record
 	// and file: a folder still carrying the mark was stopped before that, however full its
 	// log, and one stopped before its first record holds no log or an empty one.
 	base := filepath.Base(filepath.Clean(dir))
-	marked := incompleteName.MatchString(base)
-	chain, problems, warnings, err := audit.ReadChain(filepath.Join(dir, AuditFile))
-	if marked && (errors.Is(err, fs.ErrNotExist) || err == nil && len(chain.Records) == 0 && len(problems) == 1) {
+	f, err := folder.Read(dir)
+	if f.Marked && (errors.Is(err, fs.ErrNotExist) || err == nil && len(f.Chain.Records) == 0 && len(f.Problems) == 1) {
 		r.add("complete", Fail, ClassIncomplete, AuditFile, "the folder is still named %s and its audit log holds no record: the run was stopped before its first record", base)
-		return r, nil
+		return nil
 	}
 	if err != nil {
 		r.add("audit log", Fail, ClassIntegrity, AuditFile, "cannot read the audit log: %v", err)
-		return r, nil
+		return nil
 	}
-	for _, p := range problems {
+	for _, p := range f.Problems {
 		r.add("audit log", Fail, ClassIntegrity, AuditFile, "%v", p)
 	}
-	for _, w := range warnings {
+	for _, w := range f.Warnings {
 		r.add("timestamps", Warn, "", AuditFile, "%v", w)
 	}
-	if len(problems) > 0 || len(chain.Records) == 0 {
-		if len(problems) == 0 {
+	records := f.Chain.Records
+	if len(f.Problems) > 0 || len(records) == 0 {
+		if len(f.Problems) == 0 {
 			r.add("audit log", Fail, ClassIntegrity, AuditFile, "the audit log has no records")
 		}
-		return r, nil
+		return nil
 	}
-	r.add("audit log", Pass, "", AuditFile, "%d records; each line canonical; seq 1..%d without gaps; every prev link holds",
-		len(chain.Records), len(chain.Records))
-	r.Records, r.Head = int64(len(chain.Records)), chain.Head
+	r.add("audit log", Pass, "", AuditFile, "%d records; each line canonical and of the audit-record schema; seq 1..%d without gaps; every prev link holds",
+		len(records), len(records))
+	r.Records, r.Head = int64(len(records)), f.Chain.Head
 
-	events := map[string][]audit.Record{}
-	var order []string
-	for _, rec := range chain.Records {
-		events[rec.Event] = append(events[rec.Event], rec)
-		order = append(order, rec.Event)
-	}
-	last := chain.Records[len(chain.Records)-1]
-	kind := runFolder
-	if chain.Records[0].Event == SelftestStarted {
-		kind = selftestFolder
-	}
-	if marked {
+	kind, last := f.Kind, f.Last()
+	if f.Marked {
 		r.add("complete", Fail, ClassIncomplete, "", "the folder is still named %s: the run was stopped before it was moved into place", base)
 	}
+	switch last.Event {
+	case kind.Finished:
+		r.add("complete", Pass, "", AuditFile, "the log ends with %s (record %d)", kind.Finished, last.Seq)
+	case kind.Failed:
+		var d folder.Failure
+		folder.Decode(last, &d)
+		by := ""
+		if d.Signal != "" {
+			by = " (stopped by " + d.Signal + ")"
+		}
+		r.add("complete", Fail, ClassIncomplete, AuditFile, "the run failed and produced no results%s: %s", by, d.Error)
+	default:
+		r.add("complete", Fail, ClassIncomplete, AuditFile, "the log stops at record %d (%s) without %s: the run did not finish, or records were cut off", last.Seq, last.Event, kind.Finished)
+	}
+	if msg := kind.CheckOrder(f.Events()); msg != "" {
+		r.add("sequence", Fail, ClassIntegrity, AuditFile, "%s", msg)
+		return nil
+	}
+	r.add("sequence", Pass, "", AuditFile, "%s", kind.SequenceText)
+	return f
+}
+
+// checkFolder checks what the folder holds against its log: the head file and a head kept
+// elsewhere, every output, the results digest of the main file, files the log does not
+// name, the signature and the tool. It returns the recorded results digest.
+func checkFolder(r *VerifyReport, f *folder.Folder, opt VerifyOptions) string {
+	dir, kind, chain := f.Dir, f.Kind, f.Chain
 	// A run that did not finish never wrote its head file: a missing one is part of the
 	// incompleteness, not a sign of tampering. A head file that is there must still match.
-	unfinished := marked || last.Event != kind.finished
-	switch last.Event {
-	case kind.finished:
-		r.add("complete", Pass, "", AuditFile, "the log ends with %s (record %d)", kind.finished, last.Seq)
-	case kind.failed:
-		var d struct{ Error string }
-		json.Unmarshal(last.Data, &d)
-		r.add("complete", Fail, ClassIncomplete, AuditFile, "the run failed and produced no results: %s", d.Error)
-	default:
-		r.add("complete", Fail, ClassIncomplete, AuditFile, "the log stops at record %d (%s) without %s: the run did not finish, or records were cut off", last.Seq, last.Event, kind.finished)
-	}
-	want := kind.sequence
-	if n := min(len(order), len(want)); !slices.Equal(order[:n], want[:n]) {
-		r.add("sequence", Fail, ClassIntegrity, AuditFile, "the records do not start with %s", strings.Join(want, ", "))
-		return r, nil
-	}
-	r.add("sequence", Pass, "", AuditFile, "%s", kind.sequenceOK)
-
-	// The head: the folder's own head file, and a copy kept elsewhere.
+	unfinished := f.Marked || !f.Finished()
 	headFile, err := os.ReadFile(filepath.Join(dir, HeadFile))
 	switch {
 	case unfinished && errors.Is(err, fs.ErrNotExist):
@@ -238,63 +250,51 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 
 	// Output files.
-	known := map[string]bool{AuditFile: true, HeadFile: true, SignatureFile: true}
+	known := map[string]bool{}
 	var resultsDigest string
-	for _, rec := range events["output.written"] {
-		var d struct {
-			File          string
-			SHA256        string `json:"sha256"`
-			ResultsDigest string `json:"results_digest"`
-		}
-		if err := json.Unmarshal(rec.Data, &d); err != nil || d.File == "" || filepath.Base(d.File) != d.File {
-			r.add("outputs", Fail, ClassIntegrity, AuditFile, "record %d names no valid output file", rec.Seq)
+	for _, o := range f.Outputs() {
+		if known[o.File] || kind.Files(o.File) {
+			r.add("outputs", Fail, ClassIntegrity, AuditFile, "record %d writes %s, which is already part of the folder", o.Seq, o.File)
 			continue
 		}
-		known[d.File] = true
-		if d.File == kind.main {
-			resultsDigest = d.ResultsDigest
+		known[o.File] = true
+		if o.File == kind.Main {
+			resultsDigest = o.ResultsDigest
 		}
-		got, _, err := audit.DigestFile(filepath.Join(dir, d.File))
+		got, _, err := audit.DigestFile(filepath.Join(dir, o.File))
 		switch {
 		case err != nil:
-			r.add("outputs", Fail, ClassIntegrity, d.File, "%s is missing or unreadable: %v", d.File, unwrapPathError(err))
-		case got != d.SHA256:
-			r.add("outputs", Fail, ClassIntegrity, d.File, "%s has SHA-256 %s, but record %d wrote %s: the file was changed", d.File, got, rec.Seq, d.SHA256)
+			r.add("outputs", Fail, ClassIntegrity, o.File, "%s is missing or unreadable: %v", o.File, unwrapPathError(err))
+		case got != o.SHA256:
+			r.add("outputs", Fail, ClassIntegrity, o.File, "%s has SHA-256 %s, but record %d wrote %s: the file was changed", o.File, got, o.Seq, o.SHA256)
 		default:
-			r.add("outputs", Pass, "", d.File, "%s matches record %d", d.File, rec.Seq)
+			r.add("outputs", Pass, "", o.File, "%s matches record %d", o.File, o.Seq)
 		}
 	}
-	if !known[kind.main] && last.Event == kind.finished {
-		r.add("outputs", Fail, ClassIntegrity, AuditFile, "no record of %s", kind.main)
+	if !known[kind.Main] && f.Finished() {
+		r.add("outputs", Fail, ClassIntegrity, AuditFile, "no record of %s", kind.Main)
 	}
-	if kind == runFolder && known[ResultsFile] {
+	if kind == folder.Run && known[ResultsFile] {
 		checkResultsDigest(r, dir, resultsDigest)
 	}
 	if entries, err := os.ReadDir(dir); err == nil {
 		for _, e := range entries {
-			if !known[e.Name()] {
+			if !known[e.Name()] && !kind.Files(e.Name()) {
 				r.add("outputs", Warn, "", e.Name(), "%s is not part of the run's record", e.Name())
 			}
 		}
 	}
-
-	// Signature.
 	verifySignature(r, dir, chain, opt.PubKey)
+	checkTool(r, f)
+	return resultsDigest
+}
 
-	// Tool version.
+// checkTool compares the build that wrote the folder with the running one.
+func checkTool(r *VerifyReport, f *folder.Folder) {
 	var started struct {
-		Tool struct {
-			Version, Revision string
-			Exe               string `json:"executable_sha256"`
-		}
+		Tool folder.Tool `json:"tool"`
 	}
-	firstData := func(event string) json.RawMessage {
-		if recs := events[event]; len(recs) > 0 {
-			return recs[0].Data
-		}
-		return json.RawMessage("{}")
-	}
-	json.Unmarshal(firstData(kind.started), &started)
+	json.Unmarshal(f.Chain.Records[0].Data, &started)
 	cur := Tool()
 	exe := ""
 	if path, err := os.Executable(); err == nil {
@@ -307,101 +307,86 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	if started.Tool.Revision != cur.Revision {
 		diffs = append(diffs, fmt.Sprintf("revision %q, now %q", started.Tool.Revision, cur.Revision))
 	}
-	if started.Tool.Exe != exe {
-		diffs = append(diffs, fmt.Sprintf("executable %s, now %s", started.Tool.Exe, exe))
+	if started.Tool.ExecutableSHA256 != exe {
+		diffs = append(diffs, fmt.Sprintf("executable %s, now %s", started.Tool.ExecutableSHA256, exe))
 	}
 	if len(diffs) == 0 {
 		r.add("tool", Pass, "", "", "the same rankplan build (version %s) ran it", cur.Version)
 	} else {
 		r.add("tool", Warn, "", "", "another rankplan build ran it: %s", strings.Join(diffs, "; "))
 	}
-	if kind == selftestFolder {
-		rerunSelftest(ctx, r, last, resultsDigest, opt.Selftest)
-		return r, nil
-	}
+}
 
-	// Inputs: the plan (the copy in the folder is checked above as an output) and the data.
-	var planRec struct {
-		AbsolutePath string `json:"absolute_path"`
-		Raw          string `json:"raw_sha256"`
-	}
-	json.Unmarshal(firstData("plan.bound"), &planRec)
-	if planRec.AbsolutePath == "" {
+// checkInputs checks the plan and data files the log names, once the log has verified:
+// the plan (the copy in the folder was checked as an output) and the data. It returns the
+// data file to rerun on (opt.Data when given) and whether it is at hand.
+func checkInputs(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, bool) {
+	var plan folder.PlanBound
+	if !f.First(folder.EventPlanBound, &plan) {
 		r.add("plan file", Skip, "", "", "the log records no plan")
-	} else if got, _, err := audit.DigestFile(planRec.AbsolutePath); err != nil {
-		r.add("plan file", Skip, "", "", "the original plan %s is not at hand (%v); the copy in the run folder is used", planRec.AbsolutePath, unwrapPathError(err))
-	} else if got != planRec.Raw {
-		r.add("plan file", Fail, ClassDiffer, planRec.AbsolutePath, "the plan %s has changed since the run (SHA-256 %s, recorded %s)", planRec.AbsolutePath, got, planRec.Raw)
+	} else if got, _, err := audit.DigestFile(plan.AbsolutePath); err != nil {
+		r.add("plan file", Skip, "", "", "the original plan %s is not at hand (%v); the copy in the run folder is used", plan.AbsolutePath, unwrapPathError(err))
+	} else if got != plan.RawSHA256 {
+		r.add("plan file", Fail, ClassDiffer, plan.AbsolutePath, "the plan %s has changed since the run (SHA-256 %s, recorded %s)", plan.AbsolutePath, got, plan.RawSHA256)
 	} else {
-		r.add("plan file", Pass, "", planRec.AbsolutePath, "the original plan is unchanged")
+		r.add("plan file", Pass, "", plan.AbsolutePath, "the original plan is unchanged")
 	}
-	var dataRec struct {
-		AbsolutePath string `json:"absolute_path"`
-		SHA256       string `json:"sha256"`
-	}
-	json.Unmarshal(firstData("data.bound"), &dataRec)
-	dataOK := false
-	if dataRec.AbsolutePath == "" {
-		r.add("data file", Skip, "", "", "the log records no data file")
-	} else if opt.Data == "" {
-		if got, _, err := audit.DigestFile(dataRec.AbsolutePath); err != nil {
-			r.add("data file", Fail, ClassDiffer, dataRec.AbsolutePath, "the data file %s cannot be read: %v", dataRec.AbsolutePath, unwrapPathError(err))
-		} else if got != dataRec.SHA256 {
-			r.add("data file", Fail, ClassDiffer, dataRec.AbsolutePath, "the data file %s has changed since the run (SHA-256 %s, recorded %s)", dataRec.AbsolutePath, got, dataRec.SHA256)
-		} else {
-			dataOK = true
-			r.add("data file", Pass, "", dataRec.AbsolutePath, "the data are unchanged (%s)", got)
-		}
-	}
-
-	// Rerun.
+	var data folder.DataBound
 	switch {
-	case failed(r.Checks, ClassIntegrity):
-		r.add("rerun", Skip, "", "", "not rerun: the record itself did not verify")
-		return r, nil
-	case last.Event != "run.finished":
-		r.add("rerun", Skip, "", "", "not rerun: the run did not finish")
-		return r, nil
+	case !f.First(folder.EventDataBound, &data):
+		r.add("data file", Skip, "", "", "the log records no data file")
+		return "", false
+	case opt.Data != "":
+		return opt.Data, true
 	}
-	dataPath := dataRec.AbsolutePath
-	if opt.Data != "" {
-		dataPath = opt.Data
-	} else if !dataOK {
-		r.add("rerun", Skip, "", "", "not rerun: the recorded data are not at hand")
-		return r, nil
+	got, _, err := audit.DigestFile(data.AbsolutePath)
+	switch {
+	case err != nil:
+		r.add("data file", Fail, ClassDiffer, data.AbsolutePath, "the data file %s cannot be read: %v", data.AbsolutePath, unwrapPathError(err))
+	case got != data.SHA256:
+		r.add("data file", Fail, ClassDiffer, data.AbsolutePath, "the data file %s has changed since the run (SHA-256 %s, recorded %s)", data.AbsolutePath, got, data.SHA256)
+	default:
+		r.add("data file", Pass, "", data.AbsolutePath, "the data are unchanged (%s)", got)
+		return data.AbsolutePath, true
 	}
+	return "", false
+}
+
+// rerunAndCompare reruns the plan copy on dataPath and compares: the results digest with
+// the recorded one, or, with opt.Data, the conclusions at alpha.
+func rerunAndCompare(ctx context.Context, r *VerifyReport, dir, dataPath, resultsDigest string, opt VerifyOptions) error {
 	fresh, err := rerun(ctx, filepath.Join(dir, PlanCopyFile), dataPath, opt.Workers)
 	if err != nil {
 		r.add("rerun", Fail, ClassDiffer, "", "the plan does not run on %s: %v", dataPath, err)
-		return r, nil
+		return nil
 	}
 	old, err := os.ReadFile(filepath.Join(dir, ResultsFile))
 	if err != nil {
 		r.add("rerun", Fail, ClassIntegrity, ResultsFile, "cannot read %s: %v", ResultsFile, err)
-		return r, nil
+		return nil
 	}
 	newBytes, err := EncodeResults(fresh)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	digest, err := ResultsDigest(fresh)
 	if err != nil {
-		return nil, err
+		return err
 	}
 	if opt.Data != "" {
 		compareConclusions(r, old, fresh, dataPath)
-		return r, nil
+		return nil
 	}
 	if digest == resultsDigest {
 		r.add("rerun", Pass, "", ResultsFile, "rerunning the plan on the recorded data reproduces the results digest %s", digest)
-		return r, nil
+		return nil
 	}
 	first := "(no field differs: the digests disagree)"
 	if d, err := audit.Diff(jsonRaw(old), jsonRaw(newBytes)); err == nil && len(d) > 0 {
 		first = d[0]
 	}
 	r.add("rerun", Fail, ClassDiffer, ResultsFile, "rerunning gives results digest %s, recorded %s; the first field that differs is %s", digest, resultsDigest, first)
-	return r, nil
+	return nil
 }
 
 // checkResultsDigest requires the results.json in dir to hold the recorded results:

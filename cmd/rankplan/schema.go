@@ -10,9 +10,9 @@ import (
 
 func newSchemaCmd() *cobra.Command {
 	return &cobra.Command{
-		Use:       "schema plan|results|validation",
-		Short:     "Print the JSON Schema of plans, of results.json or of validation.json",
-		Args:      exactArgs(1, "plan, results or validation"),
+		Use:       "schema plan|results|validation|audit-record",
+		Short:     "Print the JSON Schema of plans, results.json, validation.json or an audit record",
+		Args:      exactArgs(1, "plan, results, validation or audit-record"),
 		ValidArgs: schemas.Names,
 		RunE: func(c *cobra.Command, args []string) error {
 			b, err := schemas.Source(args[0])
