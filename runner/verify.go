@@ -85,8 +85,10 @@ type VerifyReport struct {
 	Records int64   `json:"records"`
 	Head    string  `json:"head"`
 	Checks  []Check `json:"checks"`
-	// ConclusionChanges lists, for verify --data, every decision that differs from the run's.
-	ConclusionChanges []string `json:"conclusion_changes,omitempty"`
+	// ConclusionChanges lists, for verify --data, every conclusion at alpha that differs
+	// from the run's ([ConclusionChange]); Conclusions counts what was compared.
+	ConclusionChanges []ConclusionChange `json:"conclusion_changes,omitempty"`
+	Conclusions       *ConclusionCounts  `json:"conclusions,omitempty"`
 }
 
 // VerifyOptions select the optional checks of [Verify].
@@ -492,52 +494,10 @@ func rerun(ctx context.Context, planCopy, dataPath string, workers int) (*result
 	return Execute(ctx, prep, Options{Workers: workers})
 }
 
-// compareConclusions reports, for verify --data, which decisions at alpha changed.
+// compareConclusions reports, for verify --data, which conclusions at alpha changed
+// ([reportConclusions]).
 func compareConclusions(r *VerifyReport, old []byte, fresh *results.Results, dataPath string) {
-	var was results.Results
-	if err := json.Unmarshal(old, &was); err != nil {
-		r.add("conclusions", Fail, ClassIntegrity, ResultsFile, "cannot read %s: %v", ResultsFile, err)
-		return
-	}
-	byID := map[string]results.Analysis{}
-	for _, a := range was.Analyses {
-		byID[a.ID] = a
-	}
-	moved := 0
-	for _, a := range fresh.Analyses {
-		b, ok := byID[a.ID]
-		if !ok {
-			continue
-		}
-		if decision(b) != decision(a) {
-			r.ConclusionChanges = append(r.ConclusionChanges, fmt.Sprintf("analysis %s: %s before, %s on %s", a.ID, decision(b), decision(a), dataPath))
-		}
-		if pv(b) != pv(a) {
-			moved++
-		}
-	}
-	if len(r.ConclusionChanges) > 0 {
-		r.add("conclusions", Fail, ClassConclusion, "", "%s", strings.Join(r.ConclusionChanges, "; "))
-		return
-	}
-	r.add("conclusions", Pass, "", "", "no conclusion at alpha changed on %s (%d of %d p-values moved)", dataPath, moved, len(fresh.Analyses))
-}
-
-func decision(a results.Analysis) string {
-	switch {
-	case a.Status != "ok":
-		return "not computable"
-	case a.Decision.Reject:
-		return "reject at alpha"
-	}
-	return "do not reject at alpha"
-}
-
-func pv(a results.Analysis) float64 {
-	if a.PValue == nil {
-		return -1
-	}
-	return a.PValue.Log10
+	reportConclusions(r, old, fresh, dataPath)
 }
 
 func failed(checks []Check, class string) bool {

@@ -49,8 +49,14 @@ A folder written by 'rankplan selftest --out' is recognised by its first record:
 the same checks of its record and files, and its reference cases are rerun and compared by
 their results digest (a build that computes other values, or has other cases, differs).
 
-With --data FILE it reruns the plan on new data instead and says whether any conclusion at
-the plan's alpha changed (a drift check for CI).
+With --data FILE it reruns the plan on new data instead and compares every conclusion at
+the plan's alpha with the recorded one (a drift check for CI): each analysis's omnibus
+decision (its decision in the multiplicity family, for members), whether its comparisons
+ran, every pair's decision after the adjustment (or not computable), and each group's
+compact letters. Each changed conclusion is listed on its own line with the p-value it
+rests on before and now (the adjusted p for pairs); an analysis, pair or group found on
+one side only is a changed conclusion too. Otherwise it says how many conclusions were
+compared and how many of their p-values moved.
 
 Each check is reported with its own verdict; a skipped check never counts as passed.
 
