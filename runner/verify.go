@@ -98,6 +98,9 @@ type VerifyOptions struct {
 	Data    string // drift mode: rerun the plan on this data file instead of the recorded one
 	Workers int
 	Getenv  func(string) string
+	// IntegrityOnly makes every check but the rerun, which is listed as skipped: quick on
+	// big data. It cannot be combined with Data.
+	IntegrityOnly bool
 	// Selftest reruns the built-in reference cases of `rankplan selftest` and returns the
 	// digest of their results, for a selftest folder (the command line passes
 	// selftest.ResultsDigest); nil skips that rerun.
@@ -136,7 +139,8 @@ func (r *VerifyReport) add(name, verdict, class, file, format string, args ...an
 // theirs, the tool version, the signature; then it reruns the plan from the recorded
 // inputs and seed and compares the results digest, naming the first field that differs.
 // With opt.Data it reruns on that file instead and reports which conclusions at the
-// plan's alpha changed. Only an unusable folder is an error; everything else is a check.
+// plan's alpha changed; with opt.IntegrityOnly it makes every check but the rerun. Only
+// an unusable folder is an error; everything else is a check.
 func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, error) {
 	st, err := os.Stat(dir)
 	if err != nil || !st.IsDir() {
@@ -144,6 +148,9 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 			err = errors.New("not a folder")
 		}
 		return nil, &InputError{Err: fmt.Errorf("verify %s: %w", dir, err)}
+	}
+	if opt.IntegrityOnly && opt.Data != "" {
+		return nil, &InputError{Err: fmt.Errorf("verify %s: --integrity-only makes no rerun, so it cannot be combined with --data", dir)}
 	}
 	if opt.Head != "" {
 		head, err := ParseHead(opt.Head)
@@ -318,6 +325,10 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		r.add("tool", Warn, "", "", "another rankplan build ran it: %s", strings.Join(diffs, "; "))
 	}
 	if kind == selftestFolder {
+		if opt.IntegrityOnly {
+			r.add("rerun", Skip, "", "", "not rerun: --integrity-only")
+			return r, nil
+		}
 		rerunSelftest(ctx, r, last, resultsDigest, opt.Selftest)
 		return r, nil
 	}
@@ -358,6 +369,9 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 
 	// Rerun.
 	switch {
+	case opt.IntegrityOnly:
+		r.add("rerun", Skip, "", "", "not rerun: --integrity-only")
+		return r, nil
 	case failed(r.Checks, ClassIntegrity):
 		r.add("rerun", Skip, "", "", "not rerun: the record itself did not verify")
 		return r, nil

@@ -58,6 +58,11 @@ rests on before and now (the adjusted p for pairs); an analysis, pair or group f
 one side only is a changed conclusion too. Otherwise it says how many conclusions were
 compared and how many of their p-values moved.
 
+With --integrity-only it makes every check but the rerun: the log, chain, head, outputs,
+results digest, signature, tool, and the plan and data files against their recorded
+hashes; the rerun is listed as skipped, so a CI step stays quick on big data. It cannot
+be combined with --data.
+
 Each check is reported with its own verdict; a skipped check never counts as passed.
 
 Exit codes:
@@ -80,6 +85,9 @@ the rerun (not with --json or --quiet).`,
 			o.Selftest = selftest.ResultsDigest // for a folder written by selftest --out
 			if jsonOut && mdOut {
 				return usageErrorf("verify: --json and --markdown cannot be used together")
+			}
+			if o.IntegrityOnly && o.Data != "" {
+				return usageErrorf("verify: --integrity-only and --data cannot be used together: --integrity-only makes no rerun")
 			}
 			if o.Head != "" {
 				head, err := runner.ParseHead(o.Head)
@@ -140,6 +148,7 @@ the rerun (not with --json or --quiet).`,
 	f.StringVar(&o.Head, "head", "", "the audit head kept elsewhere (64 hex digits, sha256: prefix optional), to rule out truncation")
 	f.StringVar(&o.PubKey, "pubkey", "", "the pinned Ed25519 public key the signature must verify against")
 	f.StringVar(&o.Data, "data", "", "rerun on this data file and report changed conclusions (drift check)")
+	f.BoolVar(&o.IntegrityOnly, "integrity-only", false, "every check but the rerun (quick on big data); not with --data")
 	f.IntVar(&o.Workers, "workers", 0, "goroutines for resampling (0: one per core)")
 	f.BoolVar(&jsonOut, "json", false, "print the verdicts as JSON")
 	f.BoolVar(&mdOut, "markdown", false, "print the verdicts as a Markdown section (for CI step summaries)")
