@@ -63,8 +63,10 @@ type VerifyReport struct {
 	Records int64   `json:"records"`
 	Head    string  `json:"head"`
 	Checks  []Check `json:"checks"`
-	// ConclusionChanges lists, for verify --data, every decision that differs from the run's.
-	ConclusionChanges []string `json:"conclusion_changes,omitempty"`
+	// ConclusionChanges lists, for verify --data, every conclusion at alpha that differs
+	// from the run's ([ConclusionChange]); Conclusions counts what was compared.
+	ConclusionChanges []ConclusionChange `json:"conclusion_changes,omitempty"`
+	Conclusions       *ConclusionCounts  `json:"conclusions,omitempty"`
 }
 
 // VerifyOptions select the optional checks of [Verify].
@@ -74,6 +76,9 @@ type VerifyOptions struct {
 	Data    string // drift mode: rerun the plan on this data file instead of the recorded one
 	Workers int
 	Getenv  func(string) string
+	// IntegrityOnly makes every check but the rerun, which is listed as skipped: quick on
+	// big data. It cannot be combined with Data.
+	IntegrityOnly bool
 	// Selftest reruns the built-in reference cases of `rankplan selftest` and returns the
 	// digest of their results, for a selftest folder (the command line passes
 	// selftest.ResultsDigest); nil skips that rerun.
@@ -117,7 +122,8 @@ func (r *VerifyReport) add(name, verdict, class, file, format string, args ...an
 //
 // It is a pipeline: read the folder → integrity checks → inputs → rerun → compare. A stage
 // runs only when the ones before it allow: nothing a log names outside the folder is read
-// before the log itself verified.
+// before the log itself verified. With opt.IntegrityOnly it makes every check but the
+// rerun.
 func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, error) {
 	st, err := os.Stat(dir)
 	if err != nil || !st.IsDir() {
@@ -125,6 +131,9 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 			err = errors.New("not a folder")
 		}
 		return nil, &InputError{Err: fmt.Errorf("verify %s: %w", dir, err)}
+	}
+	if opt.IntegrityOnly && opt.Data != "" {
+		return nil, &InputError{Err: fmt.Errorf("verify %s: --integrity-only makes no rerun, so it cannot be combined with --data", dir)}
 	}
 	if opt.Head != "" {
 		head, err := ParseHead(opt.Head)
@@ -142,6 +151,10 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 	resultsDigest := checkFolder(r, f, opt)
 	if f.Kind == folder.Selftest {
+		if opt.IntegrityOnly {
+			r.add("rerun", Skip, "", "", "not rerun: --integrity-only")
+			return r, nil
+		}
 		rerunSelftest(ctx, r, f.Last(), resultsDigest, opt.Selftest)
 		return r, nil
 	}
@@ -152,6 +165,9 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 	dataPath, ok := checkInputs(r, f, opt)
 	switch {
+	case opt.IntegrityOnly:
+		r.add("rerun", Skip, "", "", "not rerun: --integrity-only")
+		return r, nil
 	case !f.Finished():
 		r.add("rerun", Skip, "", "", "not rerun: the run did not finish")
 		return r, nil
@@ -477,52 +493,10 @@ func rerun(ctx context.Context, planCopy, dataPath string, workers int) (*result
 	return Execute(ctx, prep, Options{Workers: workers})
 }
 
-// compareConclusions reports, for verify --data, which decisions at alpha changed.
+// compareConclusions reports, for verify --data, which conclusions at alpha changed
+// ([reportConclusions]).
 func compareConclusions(r *VerifyReport, old []byte, fresh *results.Results, dataPath string) {
-	var was results.Results
-	if err := json.Unmarshal(old, &was); err != nil {
-		r.add("conclusions", Fail, ClassIntegrity, ResultsFile, "cannot read %s: %v", ResultsFile, err)
-		return
-	}
-	byID := map[string]results.Analysis{}
-	for _, a := range was.Analyses {
-		byID[a.ID] = a
-	}
-	moved := 0
-	for _, a := range fresh.Analyses {
-		b, ok := byID[a.ID]
-		if !ok {
-			continue
-		}
-		if decision(b) != decision(a) {
-			r.ConclusionChanges = append(r.ConclusionChanges, fmt.Sprintf("analysis %s: %s before, %s on %s", a.ID, decision(b), decision(a), dataPath))
-		}
-		if pv(b) != pv(a) {
-			moved++
-		}
-	}
-	if len(r.ConclusionChanges) > 0 {
-		r.add("conclusions", Fail, ClassConclusion, "", "%s", strings.Join(r.ConclusionChanges, "; "))
-		return
-	}
-	r.add("conclusions", Pass, "", "", "no conclusion at alpha changed on %s (%d of %d p-values moved)", dataPath, moved, len(fresh.Analyses))
-}
-
-func decision(a results.Analysis) string {
-	switch {
-	case a.Status != "ok":
-		return "not computable"
-	case a.Decision.Reject:
-		return "reject at alpha"
-	}
-	return "do not reject at alpha"
-}
-
-func pv(a results.Analysis) float64 {
-	if a.PValue == nil {
-		return -1
-	}
-	return a.PValue.Log10
+	reportConclusions(r, old, fresh, dataPath)
 }
 
 func failed(checks []Check, class string) bool {

@@ -49,8 +49,19 @@ A folder written by 'rankplan selftest --out' is recognised by its first record:
 the same checks of its record and files, and its reference cases are rerun and compared by
 their results digest (a build that computes other values, or has other cases, differs).
 
-With --data FILE it reruns the plan on new data instead and says whether any conclusion at
-the plan's alpha changed (a drift check for CI).
+With --data FILE it reruns the plan on new data instead and compares every conclusion at
+the plan's alpha with the recorded one (a drift check for CI): each analysis's omnibus
+decision (its decision in the multiplicity family, for members), whether its comparisons
+ran, every pair's decision after the adjustment (or not computable), and each group's
+compact letters. Each changed conclusion is listed on its own line with the p-value it
+rests on before and now (the adjusted p for pairs); an analysis, pair or group found on
+one side only is a changed conclusion too. Otherwise it says how many conclusions were
+compared and how many of their p-values moved.
+
+With --integrity-only it makes every check but the rerun: the log, chain, head, outputs,
+results digest, signature, tool, and the plan and data files against their recorded
+hashes; the rerun is listed as skipped, so a CI step stays quick on big data. It cannot
+be combined with --data.
 
 Each check is reported with its own verdict; a skipped check never counts as passed.
 
@@ -74,6 +85,9 @@ the rerun (not with --json or --quiet).`,
 			o.Selftest = selftest.ResultsDigest // for a folder written by selftest --out
 			if jsonOut && mdOut {
 				return usageErrorf("verify: --json and --markdown cannot be used together")
+			}
+			if o.IntegrityOnly && o.Data != "" {
+				return usageErrorf("verify: --integrity-only and --data cannot be used together: --integrity-only makes no rerun")
 			}
 			if o.Head != "" {
 				head, err := runner.ParseHead(o.Head)
@@ -134,6 +148,7 @@ the rerun (not with --json or --quiet).`,
 	f.StringVar(&o.Head, "head", "", "the audit head kept elsewhere (64 hex digits, sha256: prefix optional), to rule out truncation")
 	f.StringVar(&o.PubKey, "pubkey", "", "the pinned Ed25519 public key the signature must verify against")
 	f.StringVar(&o.Data, "data", "", "rerun on this data file and report changed conclusions (drift check)")
+	f.BoolVar(&o.IntegrityOnly, "integrity-only", false, "every check but the rerun (quick on big data); not with --data")
 	f.IntVar(&o.Workers, "workers", 0, "goroutines for resampling (0: one per core)")
 	f.BoolVar(&jsonOut, "json", false, "print the verdicts as JSON")
 	f.BoolVar(&mdOut, "markdown", false, "print the verdicts as a Markdown section (for CI step summaries)")
