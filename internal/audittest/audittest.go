@@ -90,3 +90,55 @@ func ForgeFile(logPath, headPath, filePath, name, old, new string) error {
 	}
 	return nil
 }
+
+// EditData lets edit change the data of every record of the log at logPath for which
+// match reports true, then re-chains the log with [Rechain] and returns the new head.
+// edit receives the record's data as a JSON object, numbers kept as [json.Number] so that
+// they are written back exactly as read; a record whose data is not an object, or a log in
+// which no record matches, is an error.
+func EditData(logPath, headPath string, match func(audit.Record) bool, edit func(data map[string]any)) (string, error) {
+	var failure error
+	matched := 0
+	head, err := Rechain(logPath, headPath, func(recs []audit.Record) []audit.Record {
+		for i, rec := range recs {
+			if failure != nil || !match(rec) {
+				continue
+			}
+			matched++
+			dec := json.NewDecoder(bytes.NewReader(rec.Data))
+			dec.UseNumber()
+			var d map[string]any
+			err := dec.Decode(&d)
+			if err == nil && d == nil {
+				err = errors.New("null")
+			}
+			if err != nil {
+				failure = fmt.Errorf("record %d (%s): the data are not a JSON object: %w", rec.Seq, rec.Event, err)
+				continue
+			}
+			edit(d)
+			b, err := json.Marshal(d)
+			if err != nil {
+				failure = fmt.Errorf("record %d (%s): %w", rec.Seq, rec.Event, err)
+				continue
+			}
+			recs[i].Data = b
+		}
+		return recs
+	})
+	switch {
+	case err != nil:
+		return "", fmt.Errorf("edit data: %w", err)
+	case failure != nil:
+		return "", fmt.Errorf("edit data of %s: %w", logPath, failure)
+	case matched == 0:
+		return "", fmt.Errorf("edit data of %s: no record matches", logPath)
+	}
+	return head, nil
+}
+
+// RecordsOutput reports whether rec is the output.written record of the file name.
+func RecordsOutput(rec audit.Record, name string) bool {
+	var d struct{ File string }
+	return rec.Event == "output.written" && json.Unmarshal(rec.Data, &d) == nil && d.File == name
+}
