@@ -117,6 +117,9 @@ type runInputs struct {
 	absData           string
 	signKey           []byte
 	tool              ToolInfo
+	planRec           folder.PlanBound
+	dataRec           folder.DataBound
+	toolRec           folder.Tool
 	exe               string
 	exeSize           int64
 	now               func() time.Time
@@ -167,6 +170,18 @@ func bindInputs(ctx context.Context, planPath string, opt RunOptions) (*runInput
 	in.absData, _ = filepath.Abs(in.prep.DataPath)
 	in.tool = Tool()
 	in.exe, in.exeSize = Executable()
+	in.toolRec = in.tool.Record(in.exe, in.exeSize)
+	p, prep := in.plan, in.prep
+	in.planRec = folder.PlanBound{
+		Path: planPath, AbsolutePath: in.absPlan, Bytes: len(in.raw),
+		RawSHA256: audit.Digest(in.raw), CanonicalSHA256: audit.Digest(in.canon),
+		PlanID: p.ID, PlanFormat: spec.FormatVersion, Schema: schemas.PlanID,
+		Lock: in.lock, Deviations: in.devs,
+	}
+	in.dataRec = folder.DataBound{
+		Path: prep.DataPath, AbsolutePath: in.absData, Bytes: prep.Data.Bytes,
+		SHA256: "sha256:" + prep.Data.SHA256, Rows: prep.Data.Rows, HighPrecisionCells: prep.Data.HighPrecisionCells,
+	}
 	return in, nil
 }
 
@@ -196,19 +211,11 @@ func openRunFolder(in *runInputs, opt RunOptions) (*folder.Writer, error) {
 	}
 	for _, r := range []folder.Record{
 		folder.RunStarted{
-			Tool: in.tool.Record(in.exe, in.exeSize), Command: opt.Args, Workers: opt.Workers, CPUs: runtime.NumCPU(),
+			Tool: in.toolRec, Command: opt.Args, Out: opt.Out, Workers: opt.Workers, CPUs: runtime.NumCPU(),
 			Note: "the plan and its data were validated before this record was written",
 		},
-		folder.PlanBound{
-			Path: in.planPath, AbsolutePath: in.absPlan, Bytes: len(in.raw),
-			RawSHA256: audit.Digest(in.raw), CanonicalSHA256: audit.Digest(in.canon),
-			PlanID: p.ID, PlanFormat: spec.FormatVersion, Schema: schemas.PlanID,
-			Lock: in.lock, Deviations: in.devs,
-		},
-		folder.DataBound{
-			Path: prep.DataPath, AbsolutePath: in.absData, Bytes: prep.Data.Bytes,
-			SHA256: "sha256:" + prep.Data.SHA256, Rows: prep.Data.Rows, HighPrecisionCells: prep.Data.HighPrecisionCells,
-		},
+		in.planRec,
+		in.dataRec,
 		excl,
 	} {
 		if err := w.Record(r); err != nil {
@@ -267,7 +274,7 @@ func closeRunFolder(w *folder.Writer, in *runInputs, ex *execution, opt RunOptio
 		}
 	}
 	head, seq := w.Head()
-	meta := reportMeta(p, in.planPath, in.raw, in.canon, in.prep, in.lock, in.devs, in.tool, head, seq)
+	meta := reportMeta(in.planRec, in.dataRec, in.toolRec, p.Seed.String(), head, seq)
 	renders, err := renderings(res, meta, ex.sorted, opt.Out)
 	if err != nil {
 		return nil, err
@@ -442,17 +449,17 @@ type namedBytes struct {
 }
 
 // reportMeta collects what the renderings show beyond the results: fingerprints, lock
-// status, tool and stream identity, and the audit head so far.
-func reportMeta(p *spec.Plan, planPath string, raw, canon []byte, prep *Prepared, lock folder.LockState,
-	devs []Deviation, tool ToolInfo, head string, seq int64) report.Meta {
+// status, tool and stream identity, and the audit head so far. It takes them from the
+// records of the bound inputs alone, so that verify can render the same from a log.
+func reportMeta(plan folder.PlanBound, data folder.DataBound, tool folder.Tool, seed, head string, seq int64) report.Meta {
 	m := report.Meta{
-		PlanFile: planPath, PlanSHA256: audit.Digest(raw), PlanCanonicalSHA256: audit.Digest(canon),
-		DataFile: prep.DataPath, DataSHA256: "sha256:" + prep.Data.SHA256,
-		Tool: fmt.Sprintf("rankplan %s (revision %s, %s, %s/%s)", tool.Version, orUnknown(tool.Revision), tool.GoVersion, tool.GOOS, tool.GOARCH),
-		Seed: p.Seed.String(), RNG: "ChaCha8Rand (C2SP chacha8rand), scheme " + stream.Label,
+		PlanFile: plan.Path, PlanSHA256: plan.RawSHA256, PlanCanonicalSHA256: plan.CanonicalSHA256,
+		DataFile: data.Path, DataSHA256: data.SHA256,
+		Tool: fmt.Sprintf("rankplan %s (revision %s, %s, %s/%s)", tool.Version, orUnknown(tool.Revision), tool.Go, tool.GOOS, tool.GOARCH),
+		Seed: seed, RNG: "ChaCha8Rand (C2SP chacha8rand), scheme " + stream.Label,
 		AuditHead: head, AuditSeq: seq,
 	}
-	switch lock.Status {
+	switch lock := plan.Lock; lock.Status {
 	case folder.LockMatches:
 		m.Lock = fmt.Sprintf("locked: the plan matches its lock %s (locked %s)", lock.LockSHA256, lock.LockedAt)
 	case folder.LockDeviates:
@@ -460,7 +467,7 @@ func reportMeta(p *spec.Plan, planPath string, raw, canon []byte, prep *Prepared
 	default:
 		m.Lock = "no lock: the plan was not locked before this run"
 	}
-	for _, d := range devs {
+	for _, d := range plan.Deviations {
 		seen := "before the data were seen"
 		if d.DataSeen {
 			seen = "after the data were seen"
@@ -483,6 +490,20 @@ const maxPlotPoints = 1000
 
 // renderings writes report.html, summary.md and pairs.csv from the results.
 func renderings(res *results.Results, meta report.Meta, sorted [][][]float64, dir string) ([]namedBytes, error) {
+	h, err := renderReport(res, meta, sorted)
+	if err != nil {
+		return nil, err
+	}
+	texts, err := renderTexts(res, meta, dir)
+	if err != nil {
+		return nil, err
+	}
+	return append([]namedBytes{{ReportFile, h}}, texts...), nil
+}
+
+// renderReport writes report.html; sorted holds each analysis's groups sorted ascending,
+// for the plots.
+func renderReport(res *results.Results, meta report.Meta, sorted [][][]float64) ([]byte, error) {
 	values := make([]report.AnalysisValues, len(sorted))
 	for i, groups := range sorted {
 		values[i].ID = res.Analyses[i].ID
@@ -490,17 +511,23 @@ func renderings(res *results.Results, meta report.Meta, sorted [][][]float64, di
 			values[i].Groups = append(values[i].Groups, thin(g, maxPlotPoints))
 		}
 	}
-	var h, md, pc bytes.Buffer
+	var h bytes.Buffer
 	if err := report.HTML(&h, res, meta, values); err != nil {
 		return nil, fmt.Errorf("write %s: %w", ReportFile, err)
 	}
+	return h.Bytes(), nil
+}
+
+// renderTexts writes summary.md and pairs.csv, which need no more than the results.
+func renderTexts(res *results.Results, meta report.Meta, dir string) ([]namedBytes, error) {
+	var md, pc bytes.Buffer
 	if err := report.Markdown(&md, res, meta, dir); err != nil {
 		return nil, fmt.Errorf("write %s: %w", SummaryFile, err)
 	}
 	if err := report.PairsCSV(&pc, res); err != nil {
 		return nil, fmt.Errorf("write %s: %w", PairsFile, err)
 	}
-	return []namedBytes{{ReportFile, h.Bytes()}, {SummaryFile, md.Bytes()}, {PairsFile, pc.Bytes()}}, nil
+	return []namedBytes{{SummaryFile, md.Bytes()}, {PairsFile, pc.Bytes()}}, nil
 }
 
 // thin returns at most m evenly spaced order statistics of the sorted s (all of s when it

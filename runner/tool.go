@@ -6,6 +6,7 @@ import (
 	"rankplan/runner/folder"
 	"runtime"
 	"runtime/debug"
+	"sync"
 )
 
 // Version is rankplan's release version.
@@ -60,12 +61,20 @@ func (t ToolInfo) Record(exe string, exeSize int64) folder.Tool {
 }
 
 // Executable returns the SHA-256 and size of the running executable ("" and 0 when it
-// cannot be read).
+// cannot be read). The executable is hashed once per process.
 func Executable() (digest string, size int64) {
+	e := executable()
+	return e.digest, e.size
+}
+
+var executable = sync.OnceValue(func() (e struct {
+	digest string
+	size   int64
+}) {
 	path, err := os.Executable()
 	if err != nil {
-		return "", 0
+		return e
 	}
-	digest, size, _ = audit.DigestFile(path)
-	return digest, size
-}
+	e.digest, e.size, _ = audit.DigestFile(path)
+	return e
+})

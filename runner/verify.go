@@ -149,7 +149,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	if f == nil {
 		return r, nil
 	}
-	resultsDigest := checkFolder(r, f, opt)
+	resultsDigest, sameBuild := checkFolder(r, f, opt)
 	if f.Kind == folder.Selftest {
 		if opt.IntegrityOnly {
 			r.add("rerun", Skip, "", "", "not rerun: --integrity-only")
@@ -179,7 +179,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		r.add("rerun", Skip, "", "", "not rerun: the recorded data are not at hand")
 		return r, nil
 	}
-	return r, rerunAndCompare(ctx, r, dir, dataPath, resultsDigest, opt)
+	return r, rerunAndCompare(ctx, r, f, sameBuild, dataPath, resultsDigest, opt)
 }
 
 // readLog reads the folder's audit log and checks the chain, the records' schema, whether
@@ -244,8 +244,10 @@ func readLog(r *VerifyReport, dir string) *folder.Folder {
 
 // checkFolder checks what the folder holds against its log: the head file and a head kept
 // elsewhere, every output, the results digest of the main file, files the log does not
-// name, the signature and the tool. It returns the recorded results digest.
-func checkFolder(r *VerifyReport, f *folder.Folder, opt VerifyOptions) string {
+// name, the signature and the tool; then, for a finished run, how its files tie together
+// (crossCheck). It returns the recorded results digest, and whether this build wrote the
+// folder.
+func checkFolder(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, bool) {
 	dir, kind, chain := f.Dir, f.Kind, f.Chain
 	// A run that did not finish never wrote its head file: a missing one is part of the
 	// incompleteness, not a sign of tampering. A head file that is there must still match.
@@ -304,22 +306,23 @@ func checkFolder(r *VerifyReport, f *folder.Folder, opt VerifyOptions) string {
 			}
 		}
 	}
-	verifySignature(r, dir, chain, opt.PubKey)
-	checkTool(r, f)
-	return resultsDigest
+	verifySignature(r, dir, chain, opt.PubKey, f.Finished())
+	sameBuild := checkTool(r, f)
+	if kind == folder.Run && f.Finished() && !failed(r.Checks, ClassIntegrity) {
+		crossCheck(r, f, sameBuild)
+	}
+	return resultsDigest, sameBuild
 }
 
-// checkTool compares the build that wrote the folder with the running one.
-func checkTool(r *VerifyReport, f *folder.Folder) {
+// checkTool compares the build that wrote the folder with the running one, and reports
+// whether they are the same.
+func checkTool(r *VerifyReport, f *folder.Folder) bool {
 	var started struct {
 		Tool folder.Tool `json:"tool"`
 	}
 	json.Unmarshal(f.Chain.Records[0].Data, &started)
 	cur := Tool()
-	exe := ""
-	if path, err := os.Executable(); err == nil {
-		exe, _, _ = audit.DigestFile(path)
-	}
+	exe, _ := Executable()
 	var diffs []string
 	if started.Tool.Version != cur.Version {
 		diffs = append(diffs, fmt.Sprintf("version %s, now %s", started.Tool.Version, cur.Version))
@@ -332,9 +335,10 @@ func checkTool(r *VerifyReport, f *folder.Folder) {
 	}
 	if len(diffs) == 0 {
 		r.add("tool", Pass, "", "", "the same rankplan build (version %s) ran it", cur.Version)
-	} else {
-		r.add("tool", Warn, "", "", "another rankplan build ran it: %s", strings.Join(diffs, "; "))
+		return true
 	}
+	r.add("tool", Warn, "", "", "another rankplan build ran it: %s", strings.Join(diffs, "; "))
+	return false
 }
 
 // checkInputs checks the plan and data files the log names, once the log has verified:
@@ -374,8 +378,13 @@ func checkInputs(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, 
 
 // rerunAndCompare reruns the plan copy on dataPath and compares: the results digest with
 // the recorded one, or, with opt.Data, the conclusions at alpha.
-func rerunAndCompare(ctx context.Context, r *VerifyReport, dir, dataPath, resultsDigest string, opt VerifyOptions) error {
-	fresh, err := rerun(ctx, filepath.Join(dir, PlanCopyFile), dataPath, opt.Workers)
+func rerunAndCompare(ctx context.Context, r *VerifyReport, f *folder.Folder, sameBuild bool, dataPath, resultsDigest string, opt VerifyOptions) error {
+	dir := f.Dir
+	ex, err := rerun(ctx, filepath.Join(dir, PlanCopyFile), dataPath, opt.Workers)
+	var fresh *results.Results
+	if ex != nil {
+		fresh = ex.results
+	}
 	if err != nil {
 		r.add("rerun", Fail, ClassDiffer, "", "the plan does not run on %s: %v", dataPath, err)
 		return nil
@@ -399,6 +408,9 @@ func rerunAndCompare(ctx context.Context, r *VerifyReport, dir, dataPath, result
 	}
 	if digest == resultsDigest {
 		r.add("rerun", Pass, "", ResultsFile, "rerunning the plan on the recorded data reproduces the results digest %s", digest)
+		if sameBuild {
+			checkReport(r, f, fresh, ex.sorted)
+		}
 		return nil
 	}
 	first := "(no field differs: the digests disagree)"
@@ -438,10 +450,13 @@ func checkResultsDigest(r *VerifyReport, dir, recorded string) {
 	r.add("results", Pass, "", ResultsFile, "%s holds the recorded results (results digest %s)", ResultsFile, recorded)
 }
 
-func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath string) {
+func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath string, finished bool) {
 	b, err := os.ReadFile(filepath.Join(dir, SignatureFile))
 	if errors.Is(err, fs.ErrNotExist) {
-		if pubPath != "" {
+		if pubPath != "" && !finished {
+			// A run signs its log only once it has finished.
+			r.add("signature", Fail, ClassIncomplete, SignatureFile, "--pubkey given, but the run did not finish, and a run is signed only when it finishes")
+		} else if pubPath != "" {
 			r.add("signature", Fail, ClassIntegrity, SignatureFile, "--pubkey given, but the run folder holds no %s", SignatureFile)
 		} else {
 			r.add("signature", Skip, "", "", "the run is not signed")
@@ -480,7 +495,7 @@ func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath st
 }
 
 // rerun runs the plan copy on the data file at dataPath, writing nothing.
-func rerun(ctx context.Context, planCopy, dataPath string, workers int) (*results.Results, error) {
+func rerun(ctx context.Context, planCopy, dataPath string, workers int) (*execution, error) {
 	p, err := spec.Load(planCopy)
 	if err != nil {
 		return nil, err
@@ -494,7 +509,7 @@ func rerun(ctx context.Context, planCopy, dataPath string, workers int) (*result
 	if err != nil {
 		return nil, err
 	}
-	return Execute(ctx, prep, Options{Workers: workers})
+	return execute(ctx, prep, Options{Workers: workers})
 }
 
 // compareConclusions reports, for verify --data, which conclusions at alpha changed

@@ -25,6 +25,7 @@ type Tool struct {
 type RunStarted struct {
 	Tool    Tool     `json:"tool"`
 	Command []string `json:"command"`
+	Out     string   `json:"out"` // the folder as named on the command line (the renderings show it)
 	Workers int      `json:"workers"`
 	CPUs    int      `json:"cpus"`
 	Note    string   `json:"note"`
