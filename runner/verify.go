@@ -195,8 +195,19 @@ func readLog(r *VerifyReport, dir string) *folder.Folder {
 		r.add("complete", Fail, ClassIncomplete, AuditFile, "the folder is still named %s and its audit log holds no record: the run was stopped before its first record", base)
 		return nil
 	}
+	if f.Marked && folder.Busy(dir) {
+		r.add("complete", Fail, ClassIncomplete, "", "the folder %s is still being written: a running rankplan holds it; verify it when that run has ended", base)
+		return nil
+	}
 	if err != nil {
 		r.add("audit log", Fail, ClassIntegrity, AuditFile, "cannot read the audit log: %v", err)
+		return nil
+	}
+	if f.Marked && f.Chain.Torn > 0 && onlyLine(f.Problems, f.Chain.Torn) {
+		// A run stopped in the middle of writing a record (killed, or out of disk space)
+		// leaves its last line cut off; the records before it still verify.
+		r.add("audit log", Pass, "", AuditFile, "the %d records before line %d are canonical and chained", f.Chain.Torn-1, f.Chain.Torn)
+		r.add("complete", Fail, ClassIncomplete, AuditFile, "the folder is still named %s and the last line of its log (line %d) was cut off while it was written: the run was stopped", base, f.Chain.Torn)
 		return nil
 	}
 	for _, p := range f.Problems {
@@ -240,6 +251,16 @@ func readLog(r *VerifyReport, dir string) *folder.Folder {
 	}
 	r.add("sequence", Pass, "", AuditFile, "%s", kind.SequenceText)
 	return f
+}
+
+// onlyLine reports whether every problem is on line n.
+func onlyLine(problems []audit.Problem, n int) bool {
+	for _, p := range problems {
+		if p.Line != n {
+			return false
+		}
+	}
+	return true
 }
 
 // checkFolder checks what the folder holds against its log: the head file and a head kept

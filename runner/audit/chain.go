@@ -24,6 +24,9 @@ func (p Problem) Error() string { return fmt.Sprintf("%s:%d: %s", p.File, p.Line
 type Chain struct {
 	Records []Record // every line that parsed as a record, in file order
 	Head    string   // Digest of the last record's canonical bytes ("" if none)
+	// Torn is the number of the last line when it does not end in "\n": a write cut off
+	// (by a crash or a full disk) or a tampering; 0 when the log ends cleanly.
+	Torn int
 }
 
 // ReadChain reads the log at path and checks it. For line n (1-based):
@@ -76,6 +79,7 @@ func checkChain(file string, content []byte) (*Chain, []Problem, []Problem) {
 		i := bytes.IndexByte(content, '\n')
 		if i < 0 {
 			line, content = content, nil
+			ch.Torn = lineNo
 			add(lineNo, "torn write: last line does not end in a newline")
 		} else {
 			line, content = content[:i], content[i+1:]

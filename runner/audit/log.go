@@ -56,6 +56,7 @@ type Log struct {
 	now    func() time.Time
 	seq    int64
 	head   string
+	size   int64 // bytes of the complete records written
 	broken error // set when a write or sync failed; later appends refuse
 }
 
@@ -114,14 +115,20 @@ func (l *Log) Append(event string, data any) (Record, error) {
 	}
 	head := Digest(line)
 	line = append(line, '\n')
+	// A write or sync that fails (a full disk) may leave part of the line in the file:
+	// cut the file back to its last complete record, which a full disk allows, so that
+	// the log ends cleanly where the run stopped.
 	if _, err := l.f.Write(line); err != nil {
 		l.broken = err
+		l.f.Truncate(l.size)
 		return Record{}, fmt.Errorf("append audit record %s to %s: %w", event, l.path, err)
 	}
 	if err := l.f.Sync(); err != nil {
 		l.broken = err
+		l.f.Truncate(l.size)
 		return Record{}, fmt.Errorf("sync audit log %s: %w", l.path, err)
 	}
+	l.size += int64(len(line))
 	l.seq = rec.Seq
 	l.head = head
 	return rec, nil

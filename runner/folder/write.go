@@ -34,6 +34,7 @@ type Writer struct {
 	kind     *Kind
 	out, tmp string
 	log      *audit.Log
+	lock     *os.File // the working folder, held under an exclusive flock until the end
 	closed   bool
 }
 
@@ -46,11 +47,38 @@ func Create(out string, kind *Kind, actor audit.Actor, now func() time.Time) (*W
 	if err := os.Mkdir(tmp, 0o755); err != nil {
 		return nil, fmt.Errorf("create the working folder: %w", err)
 	}
+	// The lock tells verify that the folder is still being written (see [Busy]); the
+	// kernel drops it when the process ends, however it ends.
+	lock, err := os.Open(tmp)
+	if err != nil {
+		return nil, fmt.Errorf("open the working folder: %w", err)
+	}
+	if err := unix.Flock(int(lock.Fd()), unix.LOCK_EX|unix.LOCK_NB); err != nil {
+		lock.Close()
+		return nil, fmt.Errorf("lock the working folder: %w", err)
+	}
 	log, err := audit.Create(filepath.Join(tmp, AuditFile), actor, now)
 	if err != nil {
+		lock.Close()
 		return nil, err
 	}
-	return &Writer{kind: kind, out: out, tmp: tmp, log: log}, nil
+	return &Writer{kind: kind, out: out, tmp: tmp, log: log, lock: lock}, nil
+}
+
+// Busy reports whether a running writer still holds the folder at dir (its working
+// folder, DIR.incomplete-XXXX): an exclusive flock(2) taken by [Create] and held until
+// the folder is finished or abandoned.
+func Busy(dir string) bool {
+	d, err := os.Open(dir)
+	if err != nil {
+		return false
+	}
+	defer d.Close()
+	if err := unix.Flock(int(d.Fd()), unix.LOCK_SH|unix.LOCK_NB); err != nil {
+		return errors.Is(err, unix.EWOULDBLOCK)
+	}
+	unix.Flock(int(d.Fd()), unix.LOCK_UN)
+	return false
 }
 
 // WorkDir returns the working folder, DIR.incomplete-XXXX.
@@ -121,6 +149,7 @@ func (w *Writer) Finish(closing Record, seal Seal) (head string, seq int64, err 
 		return undo(fmt.Errorf("move the finished folder into place (it stays in %s): %w", w.tmp, err))
 	}
 	w.closed = true
+	defer w.lock.Close()
 	if err := w.log.Close(); err != nil {
 		return "", 0, fmt.Errorf("close audit log: %w", err)
 	}
@@ -138,6 +167,7 @@ func (w *Writer) Abandon(f Failure) {
 	w.closed = true
 	w.log.Append(w.kind.Failed, f)
 	w.log.Close()
+	w.lock.Close()
 }
 
 // WriteNew writes b to path through a temporary file in the same folder, synced before it
