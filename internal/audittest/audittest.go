@@ -11,6 +11,7 @@ import (
 	"os"
 
 	"rankplan/runner/audit"
+	"rankplan/runner/folder"
 )
 
 // Rechain reads the audit log at logPath, lets edit change its records, and writes them
@@ -74,7 +75,7 @@ func ForgeFile(logPath, headPath, filePath, name, old, new string) error {
 				File   string
 				SHA256 string `json:"sha256"`
 			}
-			if rec.Event != "output.written" || json.Unmarshal(rec.Data, &d) != nil || d.File != name {
+			if rec.Event != folder.EventOutputWritten || json.Unmarshal(rec.Data, &d) != nil || d.File != name {
 				continue
 			}
 			recs[i].Data = bytes.Replace(rec.Data, []byte(`"`+d.SHA256+`"`), []byte(`"`+newSum+`"`), 1)
@@ -140,5 +141,5 @@ func EditData(logPath, headPath string, match func(audit.Record) bool, edit func
 // RecordsOutput reports whether rec is the output.written record of the file name.
 func RecordsOutput(rec audit.Record, name string) bool {
 	var d struct{ File string }
-	return rec.Event == "output.written" && json.Unmarshal(rec.Data, &d) == nil && d.File == name
+	return rec.Event == folder.EventOutputWritten && json.Unmarshal(rec.Data, &d) == nil && d.File == name
 }
