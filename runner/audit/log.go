@@ -7,6 +7,8 @@ import (
 	"os"
 	"sync"
 	"time"
+
+	"rankplan/internal/infile"
 )
 
 // timeLayout is RFC 3339 in UTC with nine fixed fractional digits.
@@ -55,6 +57,7 @@ type Log struct {
 	actor  Actor
 	now    func() time.Time
 	seq    int64
+	size   int64 // bytes written
 	head   string
 	broken error // set when a write or sync failed; later appends refuse
 }
@@ -112,6 +115,13 @@ func (l *Log) Append(event string, data any) (Record, error) {
 	if err != nil {
 		return Record{}, fmt.Errorf("append audit record %s: %w", event, err)
 	}
+	if len(line) > MaxRecordBytes {
+		return Record{}, fmt.Errorf("append audit record %s: the record has %d bytes, more than the limit of %d bytes (%s) for one record",
+			event, len(line), MaxRecordBytes, infile.Bytes(MaxRecordBytes))
+	}
+	if l.size+int64(len(line))+1 > MaxLogBytes {
+		return Record{}, fmt.Errorf("append audit record %s: the log would pass its limit of %d bytes (%s)", event, MaxLogBytes, infile.Bytes(MaxLogBytes))
+	}
 	head := Digest(line)
 	line = append(line, '\n')
 	if _, err := l.f.Write(line); err != nil {
@@ -123,6 +133,7 @@ func (l *Log) Append(event string, data any) (Record, error) {
 		return Record{}, fmt.Errorf("sync audit log %s: %w", l.path, err)
 	}
 	l.seq = rec.Seq
+	l.size += int64(len(line))
 	l.head = head
 	return rec, nil
 }
