@@ -113,23 +113,16 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	if err != nil {
 		return nil, err
 	}
+	signKey, err := loadSignKey(opt)
+	if err != nil {
+		return nil, err
+	}
 	prep, err := Prepare(p)
 	if err != nil {
 		return nil, err
 	}
 	if err := prep.CheckWork(ctx); err != nil {
 		return nil, err
-	}
-	var signKey []byte
-	if opt.SignKey != "" {
-		if _, err := infile.ReadFile(opt.SignKey, MaxKeyBytes); err != nil {
-			return nil, &InputError{Err: fmt.Errorf("--sign %s: cannot open the key file: %w", opt.SignKey, err)}
-		}
-		k, err := audit.LoadPrivateKey(opt.SignKey)
-		if err != nil {
-			return nil, &InputError{Err: fmt.Errorf("--sign: %w", err)}
-		}
-		signKey = k
 	}
 
 	tmp, err := makeTemp(opt.Out)
@@ -361,7 +354,7 @@ func checkLock(p *spec.Plan, canon []byte, opt RunOptions) (map[string]any, []De
 	if err != nil {
 		return nil, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: cannot open the lock file: %w", opt.LockPath, err)}
 	}
-	l, err := audit.ReadLock(opt.LockPath)
+	l, err := audit.ParseLock(lockBytes)
 	if err != nil {
 		return nil, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: %w", opt.LockPath, err)}
 	}

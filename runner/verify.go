@@ -100,6 +100,10 @@ type VerifyOptions struct {
 	// digest of their results, for a selftest folder (the command line passes
 	// selftest.ResultsDigest); nil skips that rerun.
 	Selftest func(ctx context.Context) (string, error)
+	// AllowExtra accepts regular files in the folder that the log does not name, as
+	// warnings; without it they fail integrity. Symbolic links and special files fail
+	// either way.
+	AllowExtra bool
 }
 
 // ParseHead reads an audit head as people copy it: "sha256:" followed by 64 hex digits,
@@ -150,6 +154,10 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		}
 		opt.Head = head
 	}
+	pub, err := checkVerifyFlags(opt)
+	if err != nil {
+		return nil, err
+	}
 	r := &VerifyReport{Dir: dir}
 	defer func() { r.Outcome = outcome(r.Checks) }()
 
@@ -164,7 +172,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		return r, nil
 	}
 	if err != nil {
-		r.add("audit log", Fail, ClassIntegrity, AuditFile, "cannot read the audit log: %v", err)
+		r.add("audit log", Fail, ClassIntegrity, AuditFile, "cannot read the audit log: %v", reasonOf(err))
 		return r, nil
 	}
 	for _, p := range problems {
@@ -218,7 +226,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	r.add("sequence", Pass, "", AuditFile, "%s", kind.sequenceOK)
 
 	// The head: the folder's own head file, and a copy kept elsewhere.
-	headFile, err := os.ReadFile(filepath.Join(dir, HeadFile))
+	headFile, err := readFolderFile(dir, HeadFile, MaxHeadBytes)
 	switch {
 	case unfinished && errors.Is(err, fs.ErrNotExist):
 		r.add("head file", Fail, ClassIncomplete, HeadFile, "no %s: the run stopped before writing it", HeadFile)
@@ -243,6 +251,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	for _, rec := range events["output.written"] {
 		var d struct {
 			File          string
+			Bytes         int64
 			SHA256        string `json:"sha256"`
 			ResultsDigest string `json:"results_digest"`
 		}
@@ -254,10 +263,12 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		if d.File == kind.main {
 			resultsDigest = d.ResultsDigest
 		}
-		got, _, err := audit.DigestFile(filepath.Join(dir, d.File))
+		got, size, err := digestOutput(dir, d.File, d.Bytes)
 		switch {
 		case err != nil:
 			r.add("outputs", Fail, ClassIntegrity, d.File, "%s is missing or unreadable: %v", d.File, unwrapPathError(err))
+		case size != d.Bytes:
+			r.add("outputs", Fail, ClassIntegrity, d.File, "%s has %d bytes, but record %d wrote %d: the file was changed", d.File, size, rec.Seq, d.Bytes)
 		case got != d.SHA256:
 			r.add("outputs", Fail, ClassIntegrity, d.File, "%s has SHA-256 %s, but record %d wrote %s: the file was changed", d.File, got, rec.Seq, d.SHA256)
 		default:
@@ -270,16 +281,10 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	if kind == runFolder && known[ResultsFile] {
 		checkResultsDigest(r, dir, resultsDigest)
 	}
-	if entries, err := os.ReadDir(dir); err == nil {
-		for _, e := range entries {
-			if !known[e.Name()] {
-				r.add("outputs", Warn, "", e.Name(), "%s is not part of the run's record", e.Name())
-			}
-		}
-	}
+	checkFolderEntries(r, dir, known, kind, unfinished, opt.AllowExtra)
 
 	// Signature.
-	verifySignature(r, dir, chain, opt.PubKey)
+	verifySignature(r, dir, chain, opt.PubKey, pub)
 
 	// Tool version.
 	var started struct {
@@ -321,6 +326,12 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 
 	// Inputs: the plan (the copy in the folder is checked above as an output) and the data.
+	// A log that did not verify may name any path, so nothing it names is read.
+	if failed(r.Checks, ClassIntegrity) {
+		r.add("inputs", Skip, "", "", "the plan and data files the log names are not read: the record itself did not verify")
+		r.add("rerun", Skip, "", "", "not rerun: the record itself did not verify")
+		return r, nil
+	}
 	var planRec struct {
 		AbsolutePath string `json:"absolute_path"`
 		Raw          string `json:"raw_sha256"`
@@ -328,7 +339,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	json.Unmarshal(firstData("plan.bound"), &planRec)
 	if planRec.AbsolutePath == "" {
 		r.add("plan file", Skip, "", "", "the log records no plan")
-	} else if got, _, err := audit.DigestFile(planRec.AbsolutePath); err != nil {
+	} else if got, _, err := digestInput(planRec.AbsolutePath); err != nil {
 		r.add("plan file", Skip, "", "", "the original plan %s is not at hand (%v); the copy in the run folder is used", planRec.AbsolutePath, unwrapPathError(err))
 	} else if got != planRec.Raw {
 		r.add("plan file", Fail, ClassDiffer, planRec.AbsolutePath, "the plan %s has changed since the run (SHA-256 %s, recorded %s)", planRec.AbsolutePath, got, planRec.Raw)
@@ -344,7 +355,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	if dataRec.AbsolutePath == "" {
 		r.add("data file", Skip, "", "", "the log records no data file")
 	} else if opt.Data == "" {
-		if got, _, err := audit.DigestFile(dataRec.AbsolutePath); err != nil {
+		if got, _, err := digestInput(dataRec.AbsolutePath); err != nil {
 			r.add("data file", Fail, ClassDiffer, dataRec.AbsolutePath, "the data file %s cannot be read: %v", dataRec.AbsolutePath, unwrapPathError(err))
 		} else if got != dataRec.SHA256 {
 			r.add("data file", Fail, ClassDiffer, dataRec.AbsolutePath, "the data file %s has changed since the run (SHA-256 %s, recorded %s)", dataRec.AbsolutePath, got, dataRec.SHA256)
@@ -375,7 +386,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		r.add("rerun", Fail, ClassDiffer, "", "the plan does not run on %s: %v", dataPath, err)
 		return r, nil
 	}
-	old, err := os.ReadFile(filepath.Join(dir, ResultsFile))
+	old, err := readFolderFile(dir, ResultsFile, MaxOutputBytes)
 	if err != nil {
 		r.add("rerun", Fail, ClassIntegrity, ResultsFile, "cannot read %s: %v", ResultsFile, err)
 		return r, nil
@@ -412,7 +423,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 // whoever can write the folder; the results digest is what the rerun reproduces, so the
 // file on disk must match it as well, or the rerun would vouch for other numbers.
 func checkResultsDigest(r *VerifyReport, dir, recorded string) {
-	b, err := os.ReadFile(filepath.Join(dir, ResultsFile))
+	b, err := readFolderFile(dir, ResultsFile, MaxOutputBytes)
 	if err != nil {
 		r.add("results", Fail, ClassIntegrity, ResultsFile, "cannot read %s: %v", ResultsFile, unwrapPathError(err))
 		return
@@ -433,8 +444,8 @@ func checkResultsDigest(r *VerifyReport, dir, recorded string) {
 	r.add("results", Pass, "", ResultsFile, "%s holds the recorded results (results digest %s)", ResultsFile, recorded)
 }
 
-func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath string) {
-	b, err := os.ReadFile(filepath.Join(dir, SignatureFile))
+func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath string, pub ed25519.PublicKey) {
+	b, err := readFolderFile(dir, SignatureFile, audit.MaxSignatureBytes)
 	if errors.Is(err, fs.ErrNotExist) {
 		if pubPath != "" {
 			r.add("signature", Fail, ClassIntegrity, SignatureFile, "--pubkey given, but the run folder holds no %s", SignatureFile)
@@ -445,7 +456,7 @@ func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath st
 	}
 	var sig audit.Signature
 	if err == nil {
-		err = json.Unmarshal(b, &sig)
+		sig, err = audit.ParseSignature(b)
 	}
 	if err != nil {
 		r.add("signature", Fail, ClassIntegrity, SignatureFile, "cannot read %s: %v", SignatureFile, err)
@@ -462,12 +473,7 @@ func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath st
 		r.add("signature", Skip, "", SignatureFile, "present, not verified (no --pubkey); its head and record count match this log; give the pinned public key with --pubkey to check who signed")
 		return
 	}
-	pub, err := audit.LoadPublicKey(pubPath)
-	if err != nil {
-		r.add("signature", Fail, ClassIntegrity, pubPath, "cannot read the public key: %v", err)
-		return
-	}
-	if err := sig.Verify(ed25519.PublicKey(pub)); err != nil {
+	if err := sig.Verify(pub); err != nil {
 		r.add("signature", Fail, ClassIntegrity, SignatureFile, "the signature does not verify against %s: %v", pubPath, err)
 		return
 	}

@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 
+	"rankplan/internal/infile"
 	"rankplan/runner/audit"
 	"rankplan/runner/results"
 	"rankplan/schemas"
@@ -62,9 +63,14 @@ func WriteRun(dir string, res *results.Results) error {
 }
 
 // writeFileAtomic writes b to path through a temporary file in the same folder, synced
-// before it is linked into place. The hard link fails when path exists, so an existing
+// before it is linked into place. It refuses more than [MaxOutputBytes], the most that
+// verify reads of a file. The hard link fails when path exists, so an existing
 // file is never replaced, not even by a race.
 func writeFileAtomic(path string, b []byte) error {
+	if len(b) > MaxOutputBytes {
+		return fmt.Errorf("write %s: %d bytes, more than the limit of %d bytes (%s) for an output file, which verify would refuse to read",
+			path, len(b), MaxOutputBytes, infile.Bytes(MaxOutputBytes))
+	}
 	f, err := audit.CreateTemp(path)
 	if err != nil {
 		return fmt.Errorf("write %s: %w", path, err)

@@ -130,7 +130,7 @@ func GrewError(limit int64) *Error {
 func checkNoFollow(path string, fi fs.FileInfo, limit int64) error {
 	if fi.Mode()&fs.ModeSymlink != 0 {
 		if target, err := os.Readlink(path); err == nil {
-			return &Error{Reason: "it is a symbolic link (to " + printable(target) + "), not a regular file"}
+			return &Error{Reason: "it is a symbolic link (to " + Printable(target) + "), not a regular file"}
 		}
 		return &Error{Reason: "it is a symbolic link, not a regular file"}
 	}
@@ -204,10 +204,10 @@ func osError(err error) error {
 	return &Error{Reason: err.Error(), Err: err}
 }
 
-// printable returns s as it is when it holds printable characters only, and quoted with
-// Go escapes otherwise, so that a link target written by anyone cannot break a line of
-// a report.
-func printable(s string) string {
+// Printable returns s as it is when it is UTF-8 of printable characters only, and
+// quoted with Go escapes otherwise, so that a file name or link target written by anyone
+// cannot break a line of a report.
+func Printable(s string) string {
 	if !utf8.ValidString(s) {
 		return strconv.Quote(s)
 	}
