@@ -20,13 +20,15 @@ import (
 // catches for results.json. They run after the hash checks of the folder.
 
 // requiredOutputs are the files a finished run folder records, in the order Run writes
-// them; lock.json is required when the plan was locked.
+// them (folder.Run.Writes); lock.json is required when the plan was locked, and only then.
 func requiredOutputs(locked bool) []string {
-	out := []string{ResultsFile, PlanCopyFile}
-	if locked {
-		out = append(out, LockCopyFile)
+	var out []string
+	for _, name := range folder.Run.Writes {
+		if name != LockCopyFile || locked {
+			out = append(out, name)
+		}
 	}
-	return append(out, ProvenanceFile, ReportFile, SummaryFile, PairsFile)
+	return out
 }
 
 // crossCheck ties the files of a finished run folder to its log: the required outputs in
@@ -74,10 +76,8 @@ func crossCheck(r *VerifyReport, f *folder.Folder, sameBuild bool) *results.Resu
 		fail(ResultsFile, "cannot read %s: %v", ResultsFile, unwrapPathError(err))
 		return nil
 	}
-	var res results.Results
-	dec := json.NewDecoder(bytes.NewReader(resBytes))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&res); err != nil {
+	res, err := decodeResults(resBytes)
+	if err != nil {
 		fail(ResultsFile, "%s is not of the results format: %v", ResultsFile, err)
 		return nil
 	}
@@ -112,12 +112,12 @@ func crossCheck(r *VerifyReport, f *folder.Folder, sameBuild bool) *results.Resu
 	}
 	if !sameBuild {
 		r.add("contract", Warn, "", "", "another build wrote the folder: %s, %s and %s were not rendered again for comparison", ProvenanceFile, SummaryFile, PairsFile)
-		return &res
+		return res
 	}
 	planCopy, err := os.ReadFile(filepath.Join(dir, PlanCopyFile))
 	if err != nil {
 		fail(PlanCopyFile, "cannot read %s: %v", PlanCopyFile, unwrapPathError(err))
-		return &res
+		return res
 	}
 	tool := ToolInfo{Version: started.Tool.Version}
 	prov, err := provenance([]namedBytes{{ResultsFile, resBytes}, {PlanCopyFile, planCopy}}, plan.AbsolutePath, planCopy,
@@ -127,10 +127,10 @@ func crossCheck(r *VerifyReport, f *folder.Folder, sameBuild bool) *results.Resu
 	}
 	seq := byName[ReportFile].Seq - 1
 	meta := reportMeta(plan, data, started.Tool, res.Plan.Seed, recordHead(f, seq), seq)
-	texts, err := renderTexts(&res, meta, started.Out)
+	texts, err := renderTexts(res, meta, started.Out)
 	if err != nil {
 		fail(ResultsFile, "%s cannot be rendered: %v", ResultsFile, err)
-		return &res
+		return res
 	}
 	for _, o := range texts {
 		compareFile(r, fail, dir, o.name, o.b, "the rendering of results.json and the log by this build")
@@ -139,7 +139,7 @@ func crossCheck(r *VerifyReport, f *folder.Folder, sameBuild bool) *results.Resu
 		r.add("contract", Pass, "", "", "plan.yaml%s and the data section of results.json match the bound inputs; the analyses agree; %s, %s and %s are what results.json and the log give",
 			map[bool]string{true: ", lock.json", false: ""}[plan.Lock.Status != folder.LockNone], ProvenanceFile, SummaryFile, PairsFile)
 	}
-	return &res
+	return res
 }
 
 // checkReport compares report.html with the rendering of results.json, the log and the
@@ -195,4 +195,15 @@ func recordHead(f *folder.Folder, seq int64) string {
 		return ""
 	}
 	return audit.Digest(line)
+}
+
+// decodeResults reads results.json bytes, refusing members the results format lacks.
+func decodeResults(b []byte) (*results.Results, error) {
+	var res results.Results
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&res); err != nil {
+		return nil, err
+	}
+	return &res, nil
 }

@@ -56,13 +56,19 @@ func TestForgedResults(t *testing.T) {
 			t.Errorf("head %q: no failed check names the results digest of %s: %+v", opt.Head, ResultsFile, r.Checks)
 		}
 	}
-	// The forgery repairs every hash: the original run verifies, and the same forgery
-	// that leaves the p-value as it was verifies too (the helper itself breaks nothing).
+	// The forgery repairs every hash: the same forgery that leaves the p-value as it was,
+	// with the derived files made to agree, verifies (the helpers themselves break nothing).
 	same := copyDir(t, rec.Dir)
 	if err := audittest.ForgeFile(filepath.Join(same, AuditFile), filepath.Join(same, HeadFile),
 		filepath.Join(same, ResultsFile), ResultsFile, old, old+" "); err != nil {
 		t.Fatal(err)
 	}
+	// provenance.intoto.json names results.json by its bytes' SHA-256: the space shows there.
+	r := verify(t, same, VerifyOptions{})
+	if r.Outcome != ClassIntegrity || !hasCheck(r, "contract", Fail) {
+		t.Errorf("results.json with a space added and the log re-chained: outcome %s, want the provenance to differ: %+v", r.Outcome, r.Checks)
+	}
+	rederive(t, same)
 	if r := verify(t, same, VerifyOptions{}); r.Outcome != Verified {
 		t.Errorf("results.json with a space added and the log re-chained: outcome %s, want %s: %+v", r.Outcome, Verified, r.Checks)
 	}

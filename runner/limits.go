@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"strconv"
 
+	"rankplan/runner/audit"
 	"rankplan/spec"
 	"rankplan/stats"
 )
@@ -30,10 +31,10 @@ const (
 	MaxResampleDraws = 100_000_000_000
 	// MaxLockBytes is the largest plan lock (--lock) read: 1 MiB, four times the
 	// largest plan.
-	MaxLockBytes = 1 << 20
-	// MaxKeyBytes is the largest signing key file (--sign) read: 64 KiB; an Ed25519
-	// key in PEM takes about 120 bytes.
-	MaxKeyBytes = 64 << 10
+	MaxLockBytes = audit.MaxLockBytes
+	// MaxKeyBytes is the largest key file (run --sign, verify --pubkey) read: 64 KiB;
+	// an Ed25519 key in PEM takes about 120 bytes.
+	MaxKeyBytes = audit.MaxKeyBytes
 )
 
 // checkGroups refuses more groups than an analysis, or its post-hoc comparisons, may

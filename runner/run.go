@@ -152,19 +152,14 @@ func bindInputs(ctx context.Context, planPath string, opt RunOptions) (*runInput
 	if in.lock, in.devs, in.lockBytes, err = checkLock(in.plan, in.canon, opt); err != nil {
 		return nil, err
 	}
+	if in.signKey, err = loadSignKey(opt); err != nil {
+		return nil, err
+	}
 	if in.prep, err = Prepare(in.plan); err != nil {
 		return nil, err
 	}
 	if err := in.prep.CheckWork(ctx); err != nil {
 		return nil, err
-	}
-	if opt.SignKey != "" {
-		if _, err := infile.ReadFile(opt.SignKey, MaxKeyBytes); err != nil {
-			return nil, &InputError{Err: fmt.Errorf("--sign %s: cannot open the key file: %w", opt.SignKey, err)}
-		}
-		if in.signKey, err = audit.LoadPrivateKey(opt.SignKey); err != nil {
-			return nil, &InputError{Err: fmt.Errorf("--sign: %w", err)}
-		}
 	}
 	in.absPlan, _ = filepath.Abs(planPath)
 	in.absData, _ = filepath.Abs(in.prep.DataPath)
@@ -361,7 +356,7 @@ func checkLock(p *spec.Plan, canon []byte, opt RunOptions) (folder.LockState, []
 	if err != nil {
 		return none, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: cannot open the lock file: %w", opt.LockPath, err)}
 	}
-	l, err := audit.ReadLock(opt.LockPath)
+	l, err := audit.ParseLock(lockBytes)
 	if err != nil {
 		return none, nil, nil, &InputError{Err: fmt.Errorf("--lock %s: %w", opt.LockPath, err)}
 	}

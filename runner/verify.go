@@ -83,6 +83,10 @@ type VerifyOptions struct {
 	// digest of their results, for a selftest folder (the command line passes
 	// selftest.ResultsDigest); nil skips that rerun.
 	Selftest func(ctx context.Context) (string, error)
+	// AllowExtra accepts regular files in the folder that the log does not name, as
+	// warnings; without it they fail integrity. Symbolic links and special files fail
+	// either way.
+	AllowExtra bool
 }
 
 // ParseHead reads an audit head as people copy it: "sha256:" followed by 64 hex digits,
@@ -142,6 +146,10 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		}
 		opt.Head = head
 	}
+	pub, err := checkVerifyFlags(opt)
+	if err != nil {
+		return nil, err
+	}
 	r := &VerifyReport{Dir: dir}
 	defer func() { r.Outcome = outcome(r.Checks) }()
 
@@ -149,7 +157,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	if f == nil {
 		return r, nil
 	}
-	resultsDigest, sameBuild := checkFolder(r, f, opt)
+	resultsDigest, sameBuild := checkFolder(r, f, opt, pub)
 	if f.Kind == folder.Selftest {
 		if opt.IntegrityOnly {
 			r.add("rerun", Skip, "", "", "not rerun: --integrity-only")
@@ -159,7 +167,7 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		return r, nil
 	}
 	if failed(r.Checks, ClassIntegrity) {
-		r.add("inputs", Skip, "", "", "the recorded plan and data were not read: the record itself did not verify")
+		r.add("inputs", Skip, "", "", "the plan and data files the log names are not read: the record itself did not verify")
 		if opt.IntegrityOnly {
 			r.add("rerun", Skip, "", "", "not rerun: --integrity-only")
 		} else {
@@ -200,7 +208,7 @@ func readLog(r *VerifyReport, dir string) *folder.Folder {
 		return nil
 	}
 	if err != nil {
-		r.add("audit log", Fail, ClassIntegrity, AuditFile, "cannot read the audit log: %v", err)
+		r.add("audit log", Fail, ClassIntegrity, AuditFile, "cannot read the audit log: %v", reasonOf(err))
 		return nil
 	}
 	if f.Marked && f.Chain.Torn > 0 && onlyLine(f.Problems, f.Chain.Torn) {
@@ -268,12 +276,12 @@ func onlyLine(problems []audit.Problem, n int) bool {
 // name, the signature and the tool; then, for a finished run, how its files tie together
 // (crossCheck). It returns the recorded results digest, and whether this build wrote the
 // folder.
-func checkFolder(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, bool) {
+func checkFolder(r *VerifyReport, f *folder.Folder, opt VerifyOptions, pub ed25519.PublicKey) (string, bool) {
 	dir, kind, chain := f.Dir, f.Kind, f.Chain
 	// A run that did not finish never wrote its head file: a missing one is part of the
 	// incompleteness, not a sign of tampering. A head file that is there must still match.
 	unfinished := f.Marked || !f.Finished()
-	headFile, err := os.ReadFile(filepath.Join(dir, HeadFile))
+	headFile, err := readFolderFile(dir, HeadFile, MaxHeadBytes)
 	switch {
 	case unfinished && errors.Is(err, fs.ErrNotExist):
 		r.add("head file", Fail, ClassIncomplete, HeadFile, "no %s: the run stopped before writing it", HeadFile)
@@ -304,10 +312,12 @@ func checkFolder(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, 
 		if o.File == kind.Main {
 			resultsDigest = o.ResultsDigest
 		}
-		got, _, err := audit.DigestFile(filepath.Join(dir, o.File))
+		got, size, err := digestOutput(dir, o.File, int64(o.Bytes))
 		switch {
 		case err != nil:
 			r.add("outputs", Fail, ClassIntegrity, o.File, "%s is missing or unreadable: %v", o.File, unwrapPathError(err))
+		case size != int64(o.Bytes):
+			r.add("outputs", Fail, ClassIntegrity, o.File, "%s has %d bytes, but record %d wrote %d: the file was changed", o.File, size, o.Seq, o.Bytes)
 		case got != o.SHA256:
 			r.add("outputs", Fail, ClassIntegrity, o.File, "%s has SHA-256 %s, but record %d wrote %s: the file was changed", o.File, got, o.Seq, o.SHA256)
 		default:
@@ -320,14 +330,8 @@ func checkFolder(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, 
 	if kind == folder.Run && known[ResultsFile] {
 		checkResultsDigest(r, dir, resultsDigest)
 	}
-	if entries, err := os.ReadDir(dir); err == nil {
-		for _, e := range entries {
-			if !known[e.Name()] && !kind.Files(e.Name()) {
-				r.add("outputs", Warn, "", e.Name(), "%s is not part of the run's record", e.Name())
-			}
-		}
-	}
-	verifySignature(r, dir, chain, opt.PubKey, f.Finished())
+	checkFolderEntries(r, dir, known, kind, unfinished, opt.AllowExtra)
+	verifySignature(r, dir, chain, opt.PubKey, pub, f.Finished())
 	sameBuild := checkTool(r, f)
 	if kind == folder.Run && f.Finished() && !failed(r.Checks, ClassIntegrity) {
 		crossCheck(r, f, sameBuild)
@@ -369,7 +373,7 @@ func checkInputs(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, 
 	var plan folder.PlanBound
 	if !f.First(folder.EventPlanBound, &plan) {
 		r.add("plan file", Skip, "", "", "the log records no plan")
-	} else if got, _, err := audit.DigestFile(plan.AbsolutePath); err != nil {
+	} else if got, _, err := digestInput(plan.AbsolutePath); err != nil {
 		r.add("plan file", Skip, "", "", "the original plan %s is not at hand (%v); the copy in the run folder is used", plan.AbsolutePath, unwrapPathError(err))
 	} else if got != plan.RawSHA256 {
 		r.add("plan file", Fail, ClassDiffer, plan.AbsolutePath, "the plan %s has changed since the run (SHA-256 %s, recorded %s)", plan.AbsolutePath, got, plan.RawSHA256)
@@ -384,7 +388,7 @@ func checkInputs(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, 
 	case opt.Data != "":
 		return opt.Data, true
 	}
-	got, _, err := audit.DigestFile(data.AbsolutePath)
+	got, _, err := digestInput(data.AbsolutePath)
 	switch {
 	case err != nil:
 		r.add("data file", Fail, ClassDiffer, data.AbsolutePath, "the data file %s cannot be read: %v", data.AbsolutePath, unwrapPathError(err))
@@ -410,7 +414,7 @@ func rerunAndCompare(ctx context.Context, r *VerifyReport, f *folder.Folder, sam
 		r.add("rerun", Fail, ClassDiffer, "", "the plan does not run on %s: %v", dataPath, err)
 		return nil
 	}
-	old, err := os.ReadFile(filepath.Join(dir, ResultsFile))
+	old, err := readFolderFile(dir, ResultsFile, MaxOutputBytes)
 	if err != nil {
 		r.add("rerun", Fail, ClassIntegrity, ResultsFile, "cannot read %s: %v", ResultsFile, err)
 		return nil
@@ -450,7 +454,7 @@ func rerunAndCompare(ctx context.Context, r *VerifyReport, f *folder.Folder, sam
 // whoever can write the folder; the results digest is what the rerun reproduces, so the
 // file on disk must match it as well, or the rerun would vouch for other numbers.
 func checkResultsDigest(r *VerifyReport, dir, recorded string) {
-	b, err := os.ReadFile(filepath.Join(dir, ResultsFile))
+	b, err := readFolderFile(dir, ResultsFile, MaxOutputBytes)
 	if err != nil {
 		r.add("results", Fail, ClassIntegrity, ResultsFile, "cannot read %s: %v", ResultsFile, unwrapPathError(err))
 		return
@@ -471,8 +475,8 @@ func checkResultsDigest(r *VerifyReport, dir, recorded string) {
 	r.add("results", Pass, "", ResultsFile, "%s holds the recorded results (results digest %s)", ResultsFile, recorded)
 }
 
-func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath string, finished bool) {
-	b, err := os.ReadFile(filepath.Join(dir, SignatureFile))
+func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath string, pub ed25519.PublicKey, finished bool) {
+	b, err := readFolderFile(dir, SignatureFile, audit.MaxSignatureBytes)
 	if errors.Is(err, fs.ErrNotExist) {
 		if pubPath != "" && !finished {
 			// A run signs its log only once it has finished.
@@ -486,7 +490,7 @@ func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath st
 	}
 	var sig audit.Signature
 	if err == nil {
-		err = json.Unmarshal(b, &sig)
+		sig, err = audit.ParseSignature(b)
 	}
 	if err != nil {
 		r.add("signature", Fail, ClassIntegrity, SignatureFile, "cannot read %s: %v", SignatureFile, err)
@@ -503,12 +507,7 @@ func verifySignature(r *VerifyReport, dir string, chain *audit.Chain, pubPath st
 		r.add("signature", Skip, "", SignatureFile, "present, not verified (no --pubkey); its head and record count match this log; give the pinned public key with --pubkey to check who signed")
 		return
 	}
-	pub, err := audit.LoadPublicKey(pubPath)
-	if err != nil {
-		r.add("signature", Fail, ClassIntegrity, pubPath, "cannot read the public key: %v", err)
-		return
-	}
-	if err := sig.Verify(ed25519.PublicKey(pub)); err != nil {
+	if err := sig.Verify(pub); err != nil {
 		r.add("signature", Fail, ClassIntegrity, SignatureFile, "the signature does not verify against %s: %v", pubPath, err)
 		return
 	}

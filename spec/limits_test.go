@@ -104,6 +104,9 @@ func TestReadFile(t *testing.T) {
 		// Only the first MaxPlanBytes+1 bytes are read (zeros: one line).
 		{"big.yaml", at("big.yaml") + ":1:262145: (top level): the plan file has 1099511627776 bytes, more than the limit of 262144 bytes (256 KiB) for a plan; the limit is passed here"},
 		{"none.yaml", at("none.yaml") + ": cannot open the plan file: no such file or directory"},
+		{"urandom.yaml", at("urandom.yaml") + ": cannot open the plan file: it is a symbolic link to /dev/urandom, which is a character device, not a regular file"},
+		{"loop.yaml", at("loop.yaml") + ": cannot open the plan file: too many levels of symbolic links"},
+		{"outside.yaml", ""}, // a link the user names is followed, wherever it points
 	} {
 		err := infiletest.Within(t, tc.name, func() error {
 			_, err := Load(at(tc.name))

@@ -37,7 +37,10 @@ func newVerifyCmd(u *ui) *cobra.Command {
 		Long: `verify checks the run folder DIR: every audit record parses and is in canonical form,
 the hash chain is unbroken and gap-free, the run finished, the head matches DIR/audit.head
 (and --head HASH, a copy kept elsewhere, with or without its sha256: prefix: a chain alone
-cannot show records removed from its end), every output file matches its recorded SHA-256,
+cannot show records removed from its end), the folder holds the files the log names and
+no other (a symbolic link, folder, pipe or device in it, or an extra file, fails
+integrity; --allow-extra accepts extra regular files, as warnings), every output file
+matches its recorded SHA-256,
 results.json holds the recorded results (the digest of its canonical form equals the
 recorded results digest), the plan and data files still match theirs, the tool version is
 the same (or the difference is shown), a signature names this log's head and record count
@@ -64,6 +67,10 @@ hashes; the rerun is listed as skipped, so a CI step stays quick on big data. It
 be combined with --data.
 
 Each check is reported with its own verdict; a skipped check never counts as passed.
+Files in the folder are read only if they are regular files, never through a symbolic
+link, and within size limits (README: Limits); the plan and data files the log names are
+read only once the record itself has verified, and only if they are regular files. A
+--pubkey or --data file that cannot be used is a usage error (exit 2).
 
 Exit codes:
   0  verified (skipped checks are listed)
@@ -149,6 +156,7 @@ the rerun (not with --json or --quiet).`,
 	f.StringVar(&o.PubKey, "pubkey", "", "the pinned Ed25519 public key the signature must verify against")
 	f.StringVar(&o.Data, "data", "", "rerun on this data file and report changed conclusions (drift check)")
 	f.BoolVar(&o.IntegrityOnly, "integrity-only", false, "every check but the rerun (quick on big data); not with --data")
+	f.BoolVar(&o.AllowExtra, "allow-extra", false, "accept regular files the log does not name, as warnings (links and special files still fail)")
 	f.IntVar(&o.Workers, "workers", 0, "goroutines for resampling (0: one per core)")
 	f.BoolVar(&jsonOut, "json", false, "print the verdicts as JSON")
 	f.BoolVar(&mdOut, "markdown", false, "print the verdicts as a Markdown section (for CI step summaries)")

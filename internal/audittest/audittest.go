@@ -9,6 +9,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"strconv"
 
 	"rankplan/runner/audit"
 	"rankplan/runner/folder"
@@ -52,9 +53,9 @@ func Rechain(logPath, headPath string, edit func([]audit.Record) []audit.Record)
 }
 
 // ForgeFile replaces the first occurrence of old with new in the file at filePath, writes
-// the file's new SHA-256 into the output.written record that names the file (by its base
-// name, as a run records it), leaving every other field of that record as it was (a
-// results_digest among them), and re-chains the log with [Rechain].
+// the file's new SHA-256 and size into the output.written record that names the file (by
+// its base name, as a run records it), leaving every other field of that record as it was
+// (a results_digest among them), and re-chains the log with [Rechain].
 func ForgeFile(logPath, headPath, filePath, name, old, new string) error {
 	b, err := os.ReadFile(filePath)
 	if err != nil {
@@ -79,6 +80,7 @@ func ForgeFile(logPath, headPath, filePath, name, old, new string) error {
 				continue
 			}
 			recs[i].Data = bytes.Replace(rec.Data, []byte(`"`+d.SHA256+`"`), []byte(`"`+newSum+`"`), 1)
+			recs[i].Data = bytes.Replace(recs[i].Data, []byte(`"bytes":`+strconv.Itoa(len(b))+`,`), []byte(`"bytes":`+strconv.Itoa(len(edited))+`,`), 1)
 			found = true
 		}
 		return recs

@@ -3,7 +3,9 @@
 // only a regular file, after following symbolic links, of at most a given size, is
 // opened. A named pipe (FIFO), a device such as /dev/zero, a socket or a directory is
 // refused from its metadata, before it is opened, so that reading never blocks on a pipe
-// and never runs without end on a device.
+// and never runs without end on a device. [OpenNoFollow] and [ReadFileNoFollow] are for
+// files inside a folder the program wrote (a run folder), where a symbolic link is
+// refused instead of followed.
 package infile
 
 import (
@@ -15,6 +17,8 @@ import (
 	"path/filepath"
 	"strconv"
 	"syscall"
+	"unicode"
+	"unicode/utf8"
 )
 
 // Error says why a file cannot be read as input. Its text is the reason alone, e.g.
@@ -37,20 +41,30 @@ func (e *Error) Unwrap() error { return e.Err }
 // that even then opening a named pipe cannot wait for a writer. Every refusal is an
 // [*Error].
 func Open(path string, limit int64) (*os.File, int64, error) {
-	fi, err := os.Stat(path)
+	return open(path, limit, os.Stat, 0, check)
+}
+
+// open opens path when the kind and size that stat reports pass ok, with the extra
+// open flag, and checks the open file again.
+func open(path string, limit int64, stat func(string) (fs.FileInfo, error), flag int,
+	ok func(string, fs.FileInfo, int64) error) (*os.File, int64, error) {
+	fi, err := stat(path)
 	if err != nil {
 		return nil, 0, osError(err)
 	}
-	if err := check(path, fi, limit); err != nil {
+	if err := ok(path, fi, limit); err != nil {
 		return nil, 0, err
 	}
-	f, err := os.OpenFile(path, os.O_RDONLY|syscall.O_NONBLOCK, 0)
+	f, err := os.OpenFile(path, os.O_RDONLY|syscall.O_NONBLOCK|flag, 0)
+	if flag&syscall.O_NOFOLLOW != 0 && errors.Is(err, syscall.ELOOP) {
+		return nil, 0, &Error{Reason: "it is a symbolic link, not a regular file", Err: err}
+	}
 	if err != nil {
 		return nil, 0, osError(err)
 	}
 	fi, err = f.Stat()
 	if err == nil {
-		err = check(path, fi, limit)
+		err = ok(path, fi, limit)
 	}
 	if err != nil {
 		f.Close()
@@ -62,19 +76,65 @@ func Open(path string, limit int64) (*os.File, int64, error) {
 // ReadFile reads the whole file at path under the rules of [Open]. A file that grows
 // past limit while it is read is refused as well.
 func ReadFile(path string, limit int64) ([]byte, error) {
-	f, _, err := Open(path, limit)
+	return readWith(Open, path, limit)
+}
+
+// OpenNoFollow opens the file at path for reading when it is itself a regular file of at
+// most limit bytes, and returns it with its size. Unlike [Open] it never follows a
+// symbolic link in the last element of path: a link is refused, whatever it points to
+// (a regular file, a device, a pipe, itself). It is meant for files inside a folder that
+// the program wrote, where a link is never legitimate: the kind is checked from the
+// name's own metadata (os.Lstat), the file is opened with O_NOFOLLOW and O_NONBLOCK (a
+// link or pipe swapped in between is refused, never waited on), and the kind and size
+// are checked again on the open file. Every refusal is an [*Error].
+func OpenNoFollow(path string, limit int64) (*os.File, int64, error) {
+	return open(path, limit, os.Lstat, syscall.O_NOFOLLOW, checkNoFollow)
+}
+
+// ReadFileNoFollow reads the whole file at path under the rules of [OpenNoFollow]. A file
+// that grows past limit while it is read is refused as well.
+func ReadFileNoFollow(path string, limit int64) ([]byte, error) {
+	return readWith(OpenNoFollow, path, limit)
+}
+
+// readWith opens path with open and reads it to its end, refusing more than limit bytes.
+func readWith(open func(string, int64) (*os.File, int64, error), path string, limit int64) ([]byte, error) {
+	f, _, err := open(path, limit)
 	if err != nil {
 		return nil, err
 	}
 	defer f.Close()
+	return readAll(f, limit)
+}
+
+// readAll reads f to its end, refusing more than limit bytes.
+func readAll(f *os.File, limit int64) ([]byte, error) {
 	b, err := io.ReadAll(io.LimitReader(f, limit+1))
 	if err != nil {
 		return nil, osError(err)
 	}
 	if int64(len(b)) > limit {
-		return nil, &Error{Reason: "it grew past the limit of " + strconv.FormatInt(limit, 10) + " bytes (" + Bytes(limit) + ") while it was read"}
+		return nil, GrewError(limit)
 	}
 	return b, nil
+}
+
+// GrewError is the refusal of a file that passed limit bytes while it was read, though
+// its size was within the limit when it was opened.
+func GrewError(limit int64) *Error {
+	return &Error{Reason: "it grew past the limit of " + strconv.FormatInt(limit, 10) + " bytes (" + Bytes(limit) + ") while it was read"}
+}
+
+// checkNoFollow refuses anything but a regular file of at most limit bytes, naming a
+// symbolic link's target as it is written in the link (it is not followed).
+func checkNoFollow(path string, fi fs.FileInfo, limit int64) error {
+	if fi.Mode()&fs.ModeSymlink != 0 {
+		if target, err := os.Readlink(path); err == nil {
+			return &Error{Reason: "it is a symbolic link (to " + Printable(target) + "), not a regular file"}
+		}
+		return &Error{Reason: "it is a symbolic link, not a regular file"}
+	}
+	return check(path, fi, limit)
 }
 
 // check refuses anything but a regular file of at most limit bytes.
@@ -142,4 +202,19 @@ func osError(err error) error {
 		return &Error{Reason: pe.Err.Error(), Err: err}
 	}
 	return &Error{Reason: err.Error(), Err: err}
+}
+
+// Printable returns s as it is when it is UTF-8 of printable characters only, and
+// quoted with Go escapes otherwise, so that a file name or link target written by anyone
+// cannot break a line of a report.
+func Printable(s string) string {
+	if !utf8.ValidString(s) {
+		return strconv.Quote(s)
+	}
+	for _, r := range s {
+		if !unicode.IsPrint(r) {
+			return strconv.Quote(s)
+		}
+	}
+	return s
 }

@@ -61,10 +61,21 @@ func DigestFile(path string) (digest string, size int64, err error) {
 		return "", 0, fmt.Errorf("digest file: %w", err)
 	}
 	defer f.Close()
-	h := sha256.New()
-	size, err = io.Copy(h, f)
+	digest, size, err = DigestReader(f)
 	if err != nil {
 		return "", 0, fmt.Errorf("digest file %s: %w", path, err)
+	}
+	return digest, size, nil
+}
+
+// DigestReader streams r to its end through SHA-256 and returns the digest (as Digest
+// writes it) and the number of bytes read. To bound the work, give it an
+// io.LimitReader.
+func DigestReader(r io.Reader) (digest string, size int64, err error) {
+	h := sha256.New()
+	size, err = io.Copy(h, r)
+	if err != nil {
+		return "", 0, err
 	}
 	return digestPrefix + hex.EncodeToString(h.Sum(nil)), size, nil
 }

@@ -6,8 +6,9 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"sort"
+
+	"rankplan/internal/infile"
 )
 
 // Problem is one failed check of a chain, naming the file and line.
@@ -29,6 +30,19 @@ type Chain struct {
 	Torn int
 }
 
+// Limits of an audit log. The writer applies them (Log.Append refuses a record that
+// would pass them) as the reader does (ReadChain refuses a log that passes them), so a
+// log the tool wrote is always read whole, and a hostile file is refused before it
+// fills memory.
+const (
+	// MaxRecordBytes is the longest line of a log, without its "\n": 16 MiB. The
+	// largest records list the groups of every analysis; 1000 groups of 100-byte
+	// labels take about 0.1 MiB an analysis.
+	MaxRecordBytes = 16 << 20
+	// MaxLogBytes is the largest log: 64 MiB.
+	MaxLogBytes = 64 << 20
+)
+
 // ReadChain reads the log at path and checks it. For line n (1-based):
 //
 //	the line parses as a Record with no unknown fields and Schema = RecordSchema
@@ -37,26 +51,25 @@ type Chain struct {
 //	prev(1) = GenesisPrev, prev(n) = Digest(JCS(record n-1))
 //	time is FormatTime's fixed form; event is a dotted lowercase name; data is an object
 //
-// An empty file, an empty line and a final line without "\n" (a torn write)
-// are problems. A time earlier than the previous record's is a warning, not
-// a problem: clocks can be stepped and seq is authoritative (AUDIT.md V8).
-// Problems and warnings are sorted by line. The error is non-nil only when
-// the file cannot be read. ReadChain never panics.
+// An empty file, an empty line, a line longer than MaxRecordBytes and a final line
+// without "\n" (a torn write) are problems. A time earlier than the previous record's
+// is a warning, not a problem: clocks can be stepped and seq is authoritative (AUDIT.md
+// V8). Problems and warnings are sorted by line. The error is non-nil only when the
+// file cannot be read: it is not a regular file (a symbolic link is refused, not
+// followed: the log lives in a folder the tool wrote), or it has more than MaxLogBytes;
+// the error then wraps an *infile.Error. ReadChain never panics, never waits on a pipe
+// and never reads more than MaxLogBytes.
 func ReadChain(path string) (*Chain, []Problem, []Problem, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, nil, nil, fmt.Errorf("read audit log: %w", err)
-	}
-	defer f.Close()
-	content, err := io.ReadAll(f)
+	content, err := infile.ReadFileNoFollow(path, MaxLogBytes)
 	if err != nil {
 		return nil, nil, nil, fmt.Errorf("read audit log %s: %w", path, err)
 	}
-	ch, problems, warnings := checkChain(path, content)
+	ch, problems, warnings := checkChain(path, content, MaxRecordBytes)
 	return ch, problems, warnings, nil
 }
 
-func checkChain(file string, content []byte) (*Chain, []Problem, []Problem) {
+// checkChain checks content, a log read from file, refusing lines longer than maxLine.
+func checkChain(file string, content []byte, maxLine int) (*Chain, []Problem, []Problem) {
 	ch := &Chain{}
 	var problems, warnings []Problem
 	add := func(line int, format string, args ...any) {
@@ -86,6 +99,11 @@ func checkChain(file string, content []byte) (*Chain, []Problem, []Problem) {
 		}
 		if len(line) == 0 {
 			add(lineNo, "empty line")
+			linked = false
+			continue
+		}
+		if len(line) > maxLine {
+			add(lineNo, "line of %d bytes, more than the limit of %d bytes (%s) for one record", len(line), maxLine, infile.Bytes(int64(maxLine)))
 			linked = false
 			continue
 		}

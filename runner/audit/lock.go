@@ -6,6 +6,8 @@ import (
 	"errors"
 	"fmt"
 	"os"
+
+	"rankplan/internal/infile"
 )
 
 // LockFormat names the layout of lock files.
@@ -57,27 +59,39 @@ func WriteLock(path string, l Lock) error {
 	return nil
 }
 
-// ReadLock reads and checks a lock file: known format, no unknown fields, and a plan
-// whose canonical digest is the recorded one.
+// MaxLockBytes is the largest lock file read: 1 MiB, four times the largest plan.
+const MaxLockBytes = 1 << 20
+
+// ReadLock reads the lock file at path, a regular file of at most MaxLockBytes (symbolic
+// links followed), with ParseLock.
 func ReadLock(path string) (Lock, error) {
-	b, err := os.ReadFile(path)
+	b, err := infile.ReadFile(path, MaxLockBytes)
 	if err != nil {
-		return Lock{}, err
+		return Lock{}, fmt.Errorf("%s: %w", path, err)
 	}
-	dec := json.NewDecoder(bytes.NewReader(b))
-	dec.DisallowUnknownFields()
+	l, err := ParseLock(b)
+	if err != nil {
+		return Lock{}, fmt.Errorf("%s: %w", path, err)
+	}
+	return l, nil
+}
+
+// ParseLock reads and checks the bytes of a lock file: one JSON object of known format
+// with no unknown fields and nothing after it, whose plan has the recorded canonical
+// digest. The error says what is wrong, without a file name.
+func ParseLock(b []byte) (Lock, error) {
 	var l Lock
-	if err := dec.Decode(&l); err != nil {
-		return Lock{}, fmt.Errorf("%s: not a lock file: %w", path, err)
+	if err := decodeOne(b, &l, "lock"); err != nil {
+		return Lock{}, err
 	}
 	// The file holds the plan indented; its canonical form is what the digest covers.
 	c, err := Canonical(l.Plan)
 	if err != nil {
-		return Lock{}, fmt.Errorf("%s: the plan is not JSON: %w", path, err)
+		return Lock{}, fmt.Errorf("the plan is not JSON: %w", err)
 	}
 	l.Plan = c
 	if err := l.check(); err != nil {
-		return Lock{}, fmt.Errorf("%s: %w", path, err)
+		return Lock{}, err
 	}
 	return l, nil
 }

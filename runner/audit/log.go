@@ -7,6 +7,8 @@ import (
 	"os"
 	"sync"
 	"time"
+
+	"rankplan/internal/infile"
 )
 
 // timeLayout is RFC 3339 in UTC with nine fixed fractional digits.
@@ -112,6 +114,13 @@ func (l *Log) Append(event string, data any) (Record, error) {
 	line, err := Canonical(rec)
 	if err != nil {
 		return Record{}, fmt.Errorf("append audit record %s: %w", event, err)
+	}
+	if len(line) > MaxRecordBytes {
+		return Record{}, fmt.Errorf("append audit record %s: the record has %d bytes, more than the limit of %d bytes (%s) for one record",
+			event, len(line), MaxRecordBytes, infile.Bytes(MaxRecordBytes))
+	}
+	if l.size+int64(len(line))+1 > MaxLogBytes {
+		return Record{}, fmt.Errorf("append audit record %s: the log would pass its limit of %d bytes (%s)", event, MaxLogBytes, infile.Bytes(MaxLogBytes))
 	}
 	head := Digest(line)
 	line = append(line, '\n')

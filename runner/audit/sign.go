@@ -6,11 +6,15 @@ import (
 	"crypto/rand"
 	"crypto/x509"
 	"encoding/base64"
+	"encoding/json"
 	"encoding/pem"
 	"errors"
 	"fmt"
+	"io"
 	"os"
 	"time"
+
+	"rankplan/internal/infile"
 )
 
 // SignatureFormat names the format of a Signature.
@@ -101,59 +105,125 @@ func GenerateKey(privPath, pubPath string) (fingerprint string, err error) {
 	return Fingerprint(pub), nil
 }
 
-// readPEM reads the single PEM block of the wanted type from path.
-func readPEM(path, typ string) ([]byte, error) {
-	b, err := os.ReadFile(path)
-	if err != nil {
-		return nil, err
-	}
+// Limits of the files this package reads, so that a wrong or hostile file is refused
+// before it fills memory. Each is far above what the writer of the file writes.
+const (
+	// MaxKeyBytes is the largest key file read: 64 KiB; an Ed25519 key in PEM takes
+	// about 120 bytes.
+	MaxKeyBytes = 64 << 10
+	// MaxSignatureBytes is the largest signature file read: 64 KiB. Sign refuses a
+	// signer or meaning over MaxSignerBytes, so that every signature it makes is
+	// several times smaller.
+	MaxSignatureBytes = 64 << 10
+	// MaxSignerBytes is the longest signer name and meaning a signature holds.
+	MaxSignerBytes = 1 << 10
+)
+
+// parsePEM returns the bytes of the single PEM block of the wanted type in b. The error
+// says what b holds instead, without a file name (callers put that in front).
+func parsePEM(b []byte, typ string) ([]byte, error) {
 	block, rest := pem.Decode(b)
 	if block == nil {
-		return nil, fmt.Errorf("%s: no PEM block", path)
+		return nil, errors.New("not a key file: no PEM block")
 	}
 	if block.Type != typ {
-		return nil, fmt.Errorf("%s: PEM block is %q, want %q", path, block.Type, typ)
+		names := map[string]string{"PRIVATE KEY": "a private key", "PUBLIC KEY": "a public key"}
+		if names[block.Type] != "" && names[typ] != "" {
+			return nil, fmt.Errorf("it holds %s (PEM %q), not %s (PEM %q)", names[block.Type], block.Type, names[typ], typ)
+		}
+		return nil, fmt.Errorf("its PEM block is %q, want %q", block.Type, typ)
 	}
 	if len(bytes.TrimSpace(rest)) != 0 {
-		return nil, fmt.Errorf("%s: data after the PEM block", path)
+		return nil, errors.New("data after the PEM block")
 	}
 	return block.Bytes, nil
 }
 
-// LoadPrivateKey reads an Ed25519 private key written by GenerateKey (PEM
-// "PRIVATE KEY", PKCS #8).
-func LoadPrivateKey(path string) (ed25519.PrivateKey, error) {
-	der, err := readPEM(path, "PRIVATE KEY")
-	if err != nil {
-		return nil, fmt.Errorf("load private key: %w", err)
-	}
-	k, err := x509.ParsePKCS8PrivateKey(der)
-	if err != nil {
-		return nil, fmt.Errorf("load private key %s: %w", path, err)
-	}
-	priv, ok := k.(ed25519.PrivateKey)
-	if !ok {
-		return nil, fmt.Errorf("load private key %s: not an Ed25519 key (%T)", path, k)
-	}
-	return priv, nil
+// ParsePrivateKey reads an Ed25519 private key in the form GenerateKey writes it: one
+// PEM block "PRIVATE KEY" holding PKCS #8 (RFC 5208, RFC 8410), nothing else but white
+// space. The error says what is wrong, without a file name.
+func ParsePrivateKey(b []byte) (ed25519.PrivateKey, error) {
+	return parseKey[ed25519.PrivateKey](b, "PRIVATE KEY", "PKCS #8 private key", x509.ParsePKCS8PrivateKey)
 }
 
-// LoadPublicKey reads an Ed25519 public key written by GenerateKey (PEM
-// "PUBLIC KEY", PKIX).
-func LoadPublicKey(path string) (ed25519.PublicKey, error) {
-	der, err := readPEM(path, "PUBLIC KEY")
+// ParsePublicKey reads an Ed25519 public key in the form GenerateKey writes it: one PEM
+// block "PUBLIC KEY" holding PKIX (RFC 5280, RFC 8410), nothing else but white space.
+// The error says what is wrong, without a file name.
+func ParsePublicKey(b []byte) (ed25519.PublicKey, error) {
+	return parseKey[ed25519.PublicKey](b, "PUBLIC KEY", "PKIX public key", x509.ParsePKIXPublicKey)
+}
+
+// parseKey reads the PEM block typ of b with parse and requires a key of type K.
+func parseKey[K any](b []byte, typ, form string, parse func([]byte) (any, error)) (K, error) {
+	var zero K
+	der, err := parsePEM(b, typ)
 	if err != nil {
-		return nil, fmt.Errorf("load public key: %w", err)
+		return zero, err
 	}
-	k, err := x509.ParsePKIXPublicKey(der)
+	k, err := parse(der)
 	if err != nil {
-		return nil, fmt.Errorf("load public key %s: %w", path, err)
+		return zero, fmt.Errorf("not a %s: %w", form, err)
 	}
-	pub, ok := k.(ed25519.PublicKey)
+	key, ok := k.(K)
 	if !ok {
-		return nil, fmt.Errorf("load public key %s: not an Ed25519 key (%T)", path, k)
+		return zero, fmt.Errorf("not an Ed25519 key (%T)", k)
 	}
-	return pub, nil
+	return key, nil
+}
+
+// LoadPrivateKey reads the file at path, a regular file of at most MaxKeyBytes
+// (symbolic links followed), with ParsePrivateKey.
+func LoadPrivateKey(path string) (ed25519.PrivateKey, error) {
+	return loadKey(path, "private", ParsePrivateKey)
+}
+
+// LoadPublicKey reads the file at path, a regular file of at most MaxKeyBytes (symbolic
+// links followed), with ParsePublicKey.
+func LoadPublicKey(path string) (ed25519.PublicKey, error) {
+	return loadKey(path, "public", ParsePublicKey)
+}
+
+// loadKey reads the key file at path with parse; what is "private" or "public".
+func loadKey[K any](path, what string, parse func([]byte) (K, error)) (K, error) {
+	b, err := infile.ReadFile(path, MaxKeyBytes)
+	if err == nil {
+		var k K
+		if k, err = parse(b); err == nil {
+			return k, nil
+		}
+	}
+	var zero K
+	return zero, fmt.Errorf("load %s key %s: %w", what, path, err)
+}
+
+// ParseSignature reads a signature file as the tool writes it: one JSON object with the
+// fields of Signature and no others, nothing after it, and well-formed fields (format,
+// algorithm, digests, seq, signer, meaning and time; see Verify). It does not check the
+// signature value, which needs the pinned key.
+func ParseSignature(b []byte) (Signature, error) {
+	var s Signature
+	if err := decodeOne(b, &s, "signature"); err != nil {
+		return Signature{}, err
+	}
+	if err := s.checkFields(); err != nil {
+		return Signature{}, err
+	}
+	return s, nil
+}
+
+// decodeOne decodes b, which must hold one JSON object with the fields of v and no
+// others, and nothing after it but white space, into v; what names the kind of file in
+// the error.
+func decodeOne(b []byte, v any, what string) error {
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(v); err != nil {
+		return fmt.Errorf("not a %s file: %w", what, err)
+	}
+	if _, err := dec.Token(); !errors.Is(err, io.EOF) {
+		return fmt.Errorf("not a %s file: data after the JSON object", what)
+	}
+	return nil
 }
 
 // Fingerprint returns the digest of the raw 32-byte public key.
@@ -227,6 +297,10 @@ func (s Signature) checkFields() error {
 		return errors.New("signer is empty")
 	case s.Meaning == "":
 		return errors.New("meaning is empty")
+	case len(s.Signer) > MaxSignerBytes:
+		return fmt.Errorf("signer has %d bytes, more than the limit of %d", len(s.Signer), MaxSignerBytes)
+	case len(s.Meaning) > MaxSignerBytes:
+		return fmt.Errorf("meaning has %d bytes, more than the limit of %d", len(s.Meaning), MaxSignerBytes)
 	}
 	if _, ok := parseTime(s.SignedAt); !ok {
 		return fmt.Errorf("signed_at %q is not UTC RFC 3339 with 9 fractional digits", s.SignedAt)

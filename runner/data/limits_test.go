@@ -124,6 +124,9 @@ func TestLoadFileKinds(t *testing.T) {
 		{"zero.csv", "zero.csv: cannot open the data file: it is a symbolic link to /dev/zero, which is a character device, not a regular file"},
 		{"dir.csv", "dir.csv: cannot open the data file: it is a directory, not a regular file"},
 		{"big.csv", "big.csv: cannot open the data file: it has 4294967297 bytes, more than the limit of 4294967296 bytes (4 GiB)"},
+		{"urandom.csv", "urandom.csv: cannot open the data file: it is a symbolic link to /dev/urandom, which is a character device, not a regular file"},
+		{"loop.csv", "loop.csv: cannot open the data file: too many levels of symbolic links"},
+		{"outside.csv", ""}, // a link the user names is followed, wherever it points
 	} {
 		opt := base()
 		opt.Name = tc.name

@@ -53,6 +53,10 @@ type Kind struct {
 	Main string
 	// Repeats lists the events that may follow Sequence before the outputs.
 	Repeats []string
+	// Writes lists the files the kind's writer may create besides the log, the head and
+	// the signature, in the order it writes them (a stopped writer may leave one before
+	// its record).
+	Writes []string
 }
 
 var (
@@ -63,6 +67,7 @@ var (
 		SequenceText: "the plan was bound before the data, the data before any result",
 		Main:         ResultsFile,
 		Repeats:      []string{EventAnalysisFinished},
+		Writes:       []string{ResultsFile, PlanCopyFile, LockCopyFile, ProvenanceFile, ReportFile, SummaryFile, PairsFile},
 	}
 	// Selftest is a folder written by rankplan selftest --out.
 	Selftest = &Kind{
@@ -71,6 +76,7 @@ var (
 		SequenceText: "the reference cases were bound before any result",
 		Main:         ValidationFile,
 		Repeats:      []string{EventCasesEvaluated},
+		Writes:       []string{ValidationFile, ReportFile},
 	}
 )
 

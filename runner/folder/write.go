@@ -170,11 +170,18 @@ func (w *Writer) Abandon(f Failure) {
 	w.lock.Close()
 }
 
+// MaxFileBytes is the largest file a folder holds besides its log (1 GiB): WriteNew
+// refuses a larger one, and verify reads no larger one.
+const MaxFileBytes = 1 << 30
+
 // WriteNew writes b to path through a temporary file in the same folder, synced before it
 // is linked into place. The hard link fails when path exists, so an existing file is never
-// replaced, not even by a race. The file gets the mode of the audit log (audit.FileMode,
+// replaced, not even by a race. It refuses more than MaxFileBytes. The file gets the mode of the audit log (audit.FileMode,
 // filtered by the umask).
 func WriteNew(path string, b []byte) error {
+	if len(b) > MaxFileBytes {
+		return fmt.Errorf("write %s: %d bytes, more than the limit of %d bytes (1 GiB) for a file of a run folder, which verify would refuse to read", path, len(b), MaxFileBytes)
+	}
 	f, err := audit.CreateTemp(path)
 	if err != nil {
 		return fmt.Errorf("write %s: %w", path, err)
