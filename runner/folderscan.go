@@ -51,7 +51,7 @@ func checkFolderEntries(r *VerifyReport, dir string, known map[string]bool, kind
 	clean := true
 	for _, e := range entries {
 		name, typ := e.Name(), e.Type()
-		if known[name] || kind.Files(name) && typ.IsRegular() {
+		if known[name] || kind.Files(name) {
 			continue
 		}
 		clean = false
