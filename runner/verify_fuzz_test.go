@@ -45,11 +45,13 @@ func FuzzVerifyFolder(f *testing.F) {
 	if err != nil {
 		f.Fatal(err)
 	}
-	f.Chdir(f.TempDir())
-	if _, err := Run(context.Background(), planPath, RunOptions{Out: "run", Now: clock(), Getenv: noEnv}); err != nil {
-		f.Fatal(err)
-	}
-	seed := folderArchive(f, "run")
+	tmp := f.TempDir()
+	runIn(f, tmp, func() {
+		if _, err := Run(context.Background(), planPath, RunOptions{Out: "run", Now: clock(), Getenv: noEnv}); err != nil {
+			f.Fatal(err)
+		}
+	})
+	seed := folderArchive(f, filepath.Join(tmp, "run"))
 	want := map[string][]byte{}
 	for _, file := range txtar.Parse(seed).Files {
 		want[file.Name] = file.Data
@@ -132,6 +134,25 @@ func FuzzVerifyFolder(f *testing.F) {
 			t.Fatalf("verified without --allow-extra a folder of %d files; the seed has %d", len(got), len(want))
 		}
 	})
+}
+
+// runIn runs do in the folder dir and goes back to the working folder. (With F.Chdir,
+// which also sets PWD for the whole target, the worker processes of fuzzing did not start.)
+func runIn(t testing.TB, dir string, do func()) {
+	t.Helper()
+	wd, err := os.Getwd()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.Chdir(dir); err != nil {
+		t.Fatal(err)
+	}
+	defer func() {
+		if err := os.Chdir(wd); err != nil {
+			t.Fatal(err)
+		}
+	}()
+	do()
 }
 
 // folderArchive packs the regular files of the folder dir into a txtar archive.

@@ -169,7 +169,7 @@ func TestAppendRejects(t *testing.T) {
 
 func zero() float64 { return 0 }
 
-// TestReadChainProblems damages a good log in every way the brief lists
+// TestReadChainProblems damages a good log in every way a log can be damaged
 // and checks that each is found on the right line.
 func TestReadChainProblems(t *testing.T) {
 	_, good := writeLog(t, 5)
