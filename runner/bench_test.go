@@ -34,7 +34,7 @@ func BenchmarkRunPlan(b *testing.B) {
 			b.ReportAllocs()
 			b.ResetTimer()
 			for b.Loop() {
-				prep, err := Prepare(p)
+				prep, err := Prepare(context.Background(), p)
 				if err != nil {
 					b.Fatal(err)
 				}
@@ -106,7 +106,7 @@ func BenchmarkRenderings(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	prep, err := Prepare(p)
+	prep, err := Prepare(context.Background(), p)
 	if err != nil {
 		b.Fatal(err)
 	}

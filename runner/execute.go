@@ -69,7 +69,8 @@ func (o Options) progress(analysis, task string) stats.Progress {
 
 // Execute runs every analysis of a prepared plan and assembles the results. It reads no
 // files and depends on nothing but its input, so the same input gives the same results,
-// whatever opt holds.
+// whatever opt holds. When ctx ends, the long steps (the exact p-value, the resampling,
+// the post-hoc pairs) stop and Execute returns ctx's error (wrapped).
 func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results, error) {
 	if opt.Progress == nil {
 		opt.Progress, _ = ctx.Value(progressKey{}).(func(analysis, task string, done, total int64))
@@ -116,7 +117,7 @@ func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results
 			continue
 		}
 		var err error
-		if a.PostHoc, err = postHoc(p, &prep.Analyses[i], ranks[i], a.Decision); err != nil {
+		if a.PostHoc, err = postHoc(ctx, p, &prep.Analyses[i], ranks[i], a.Decision); err != nil {
 			return nil, wrap(i, err)
 		}
 		ranks[i] = nil
@@ -197,7 +198,7 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 		reject = *pv.Value <= p.Alpha
 	}
 	out.Decision = &results.Decision{Alpha: p.Alpha, Reject: reject, Rule: "own p-value: reject when p <= alpha"}
-	es, err := effectSizes(p, in, r, kw, opt)
+	es, err := effectSizes(ctx, p, in, r, kw, opt)
 	if err != nil {
 		return out, nil, err
 	}
@@ -223,7 +224,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	pv := &results.PValue{Requested: string(a.PValue.Method)}
 	budget := stats.DefaultExactBudget
 	exact := func() error {
-		ex, err := in.exactP(r, opt.progress(a.ID, TaskExact))
+		ex, err := in.exactP(ctx, r, opt.progress(a.ID, TaskExact))
 		if err != nil {
 			return err
 		}
@@ -287,7 +288,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 // effectSizes computes epsilon-squared and eta-squared based on H, with the interval the
 // plan names. This switch is the one place where an interval method named in a plan meets
 // its function in package stats.
-func effectSizes(p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWallis, opt Options) (*results.EffectSizes, error) {
+func effectSizes(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWallis, opt Options) (*results.EffectSizes, error) {
 	eps, err := stats.EpsilonSquared(kw.H, kw.N)
 	if err != nil {
 		return nil, err
@@ -325,7 +326,7 @@ func effectSizes(p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWall
 		iv.PopulationEffect = &results.ClippedBounds{Low: ei.Low, High: ei.High, Clipped: ei.Clipped}
 		return es, nil
 	case spec.BootstrapInterval:
-		bs, err := stats.KruskalWallisBootstrap(r, stats.BootstrapOptions{
+		bs, err := stats.KruskalWallisBootstrap(ctx, r, stats.BootstrapOptions{
 			Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: in.Analysis.EffectSize.Resamples,
 			Level: level, Workers: opt.Workers,
 			Progress: opt.progress(in.Analysis.ID, TaskBootstrap),

@@ -113,7 +113,7 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	if err != nil {
 		return nil, err
 	}
-	prep, err := Prepare(p)
+	prep, err := Prepare(ctx, p)
 	if err != nil {
 		return nil, err
 	}

@@ -485,7 +485,7 @@ func rerun(ctx context.Context, planCopy, dataPath string, workers int) (*result
 		return nil, err
 	}
 	p.Data.File = abs
-	prep, err := Prepare(p)
+	prep, err := Prepare(ctx, p)
 	if err != nil {
 		return nil, err
 	}

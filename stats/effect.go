@@ -1,11 +1,10 @@
 package stats
 
 import (
+	"context"
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
-	"sync"
 
 	"rankplan/stats/stream"
 )
@@ -168,7 +167,11 @@ type Bootstrap struct {
 // the result is identical for any number of workers. The interval is the type 7 quantile
 // pair (Hyndman & Fan 1996) of the sorted H* values at (1 ∓ Level)/2 (percentile method;
 // Efron & Tibshirani 1993, An Introduction to the Bootstrap, ch. 13, recalled from memory).
-func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error) {
+//
+// It returns ctx's error (wrapped) when ctx is done before the last resample: the context
+// is checked before every resample, so a resample of N draws is the most work done after
+// it ends.
+func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOptions) (Bootstrap, error) {
 	if err := checkRankingDeep(r); err != nil {
 		return Bootstrap{}, fmt.Errorf("bootstrap: %w", err)
 	}
@@ -186,35 +189,28 @@ func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error)
 	hs := make([]float64, m)
 	degenerate := make([]bool, m)
 	blocks := (m + BootstrapBlockSize - 1) / BootstrapBlockSize
-	workers := opt.Workers
-	if workers <= 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	workers = int(min(int64(workers), blocks))
-
-	next := make(chan int64)
+	workers := resolveWorkers(opt.Workers, blocks)
 	progress := newProgressCounter(opt.Progress, m)
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			w := newBootWorker(r, bi)
-			for j := range next {
-				s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
-				end := min((j+1)*BootstrapBlockSize, m)
-				for b := j * BootstrapBlockSize; b < end; b++ {
-					hs[b], degenerate[b] = w.resample(s)
-				}
-				progress.add(end - j*BootstrapBlockSize)
+	scratch := make([]*bootWorker, workers)
+	done := ctx.Done()
+	err = runBlocks(ctx, blocks, workers, nil, func(w int, j int64) error {
+		if scratch[w] == nil {
+			scratch[w] = newBootWorker(r, bi)
+		}
+		s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
+		end := min((j+1)*BootstrapBlockSize, m)
+		for b := j * BootstrapBlockSize; b < end; b++ {
+			if cancelled(done) {
+				return ctx.Err()
 			}
-		}()
+			hs[b], degenerate[b] = scratch[w].resample(s)
+		}
+		progress.add(end - j*BootstrapBlockSize)
+		return nil
+	})
+	if err != nil {
+		return Bootstrap{}, fmt.Errorf("bootstrap: %w", err)
 	}
-	for j := int64(0); j < blocks; j++ {
-		next <- j
-	}
-	close(next)
-	wg.Wait()
 
 	out := Bootstrap{Level: opt.Level, Resamples: m}
 	for _, d := range degenerate {
