@@ -341,10 +341,10 @@ func PlanCanonical(p *spec.Plan) ([]byte, error) {
 	return audit.Canonical(p)
 }
 
+// goamd64 is the amd64 microarchitecture level the binary was compiled for, from its
+// build information ("" on other architectures): GOAMD64 in the environment of a run
+// says nothing about the code that runs.
 func goamd64() string {
-	if v := os.Getenv("GOAMD64"); v != "" {
-		return v
-	}
 	return buildSetting("GOAMD64")
 }
 
