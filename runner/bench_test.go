@@ -116,7 +116,7 @@ func BenchmarkRenderings(b *testing.B) {
 	}
 	b.ReportAllocs()
 	for b.Loop() {
-		if _, err := renderings(res, report.Meta{}, prep, "run"); err != nil {
+		if _, err := renderings(context.Background(), res, report.Meta{}, prep, "run"); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -81,6 +81,13 @@ type Deviation struct {
 // DIR.incomplete-XXXX, each file synced, and that folder is renamed to DIR only after the
 // last record; the rename refuses an existing DIR. A run that fails or is killed leaves no
 // DIR, only the .incomplete folder, whose log `verify` reports as incomplete.
+//
+// When ctx ends (the command line cancels it on SIGINT and SIGTERM, with an
+// [*Interrupted] cause), every step stops within about a second: before the folder is
+// created Run returns ctx's error (wrapped) and leaves nothing; after, it records
+// run.failed with the error and the signal's name, and returns an [*UnfinishedError]
+// naming the folder it leaves. Any error between the folder's creation and the
+// run.finished record is such an *UnfinishedError.
 func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, error) {
 	now := opt.Now
 	if now == nil {
@@ -143,8 +150,19 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	}
 	defer log.Close()
 	fail := func(err error) (*RunRecord, error) {
-		log.Append("run.failed", map[string]any{"error": err.Error()})
-		return nil, err
+		d := map[string]any{"error": err.Error()}
+		if in := InterruptedBy(ctx); in != nil {
+			d["signal"] = in.Name()
+		}
+		log.Append("run.failed", d)
+		return nil, &UnfinishedError{Dir: tmp, Err: err}
+	}
+	// stopped is ctx's error, checked between the steps of writing the folder.
+	stopped := func() error {
+		if err := ctx.Err(); err != nil {
+			return fmt.Errorf("write the run folder: %w", err)
+		}
+		return nil
 	}
 
 	tool := Tool()
@@ -155,7 +173,7 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 		"workers": opt.Workers, "cpus": runtime.NumCPU(),
 		"note": "the plan and its data were validated before this record was written",
 	}); err != nil {
-		return nil, fmt.Errorf("write audit log: %w", err)
+		return fail(fmt.Errorf("write audit log: %w", err))
 	}
 	absPlan, _ := filepath.Abs(planPath)
 	if _, err := log.Append("plan.bound", map[string]any{
@@ -212,6 +230,9 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 		}
 	}
 
+	if err := stopped(); err != nil {
+		return fail(err)
+	}
 	resBytes, err := EncodeResults(res)
 	if err != nil {
 		return fail(err)
@@ -239,6 +260,9 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 		b    []byte
 	}{ProvenanceFile, prov})
 	for _, o := range outputs {
+		if err := stopped(); err != nil {
+			return fail(err)
+		}
 		if err := writeFileAtomic(filepath.Join(tmp, o.name), o.b); err != nil {
 			return fail(err)
 		}
@@ -254,11 +278,14 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	// The renderings for people come last, so that they can show the audit chain's head as
 	// it stands after every computed output was recorded.
 	meta := reportMeta(p, planPath, raw, canon, prep, lockInfo, devs, tool, log.Head(), log.Seq())
-	renders, err := renderings(res, meta, prep, opt.Out)
+	renders, err := renderings(ctx, res, meta, prep, opt.Out)
 	if err != nil {
 		return fail(err)
 	}
 	for _, o := range renders {
+		if err := stopped(); err != nil {
+			return fail(err)
+		}
 		if err := writeFileAtomic(filepath.Join(tmp, o.name), o.b); err != nil {
 			return fail(err)
 		}
@@ -267,6 +294,9 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 		if _, err := log.Append("output.written", d); err != nil {
 			return fail(err)
 		}
+	}
+	if err := stopped(); err != nil {
+		return fail(err)
 	}
 	if _, err := log.Append("run.finished", map[string]any{"status": "ok", "exit_code": 0, "analyses": len(res.Analyses)}); err != nil {
 		return fail(err)
@@ -491,8 +521,9 @@ func orUnknown(s string) string {
 // are shown by evenly spaced order statistics, so a report of 10^7 rows stays small.
 const maxPlotPoints = 1000
 
-// renderings writes report.html, summary.md and pairs.csv from the results.
-func renderings(res *results.Results, meta report.Meta, prep *Prepared, dir string) ([]namedBytes, error) {
+// renderings writes report.html, summary.md and pairs.csv from the results; it stops with
+// ctx's error between them when ctx has ended.
+func renderings(ctx context.Context, res *results.Results, meta report.Meta, prep *Prepared, dir string) ([]namedBytes, error) {
 	values := make([]report.AnalysisValues, len(prep.Analyses))
 	for i, in := range prep.Analyses {
 		values[i].ID = in.Analysis.ID
@@ -504,8 +535,14 @@ func renderings(res *results.Results, meta report.Meta, prep *Prepared, dir stri
 	if err := report.HTML(&h, res, meta, values); err != nil {
 		return nil, fmt.Errorf("write %s: %w", ReportFile, err)
 	}
+	if err := ctx.Err(); err != nil {
+		return nil, fmt.Errorf("write %s: %w", SummaryFile, err)
+	}
 	if err := report.Markdown(&md, res, meta, dir); err != nil {
 		return nil, fmt.Errorf("write %s: %w", SummaryFile, err)
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, fmt.Errorf("write %s: %w", PairsFile, err)
 	}
 	if err := report.PairsCSV(&pc, res); err != nil {
 		return nil, fmt.Errorf("write %s: %w", PairsFile, err)

@@ -134,7 +134,8 @@ func (r *VerifyReport) add(name, verdict, class, file, format string, args ...an
 // theirs, the tool version, the signature; then it reruns the plan from the recorded
 // inputs and seed and compares the results digest, naming the first field that differs.
 // With opt.Data it reruns on that file instead and reports which conclusions at the
-// plan's alpha changed. Only an unusable folder is an error; everything else is a check.
+// plan's alpha changed. Only an unusable folder, or a rerun stopped by ctx (its error,
+// wrapped), is an error; everything else is a check.
 func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, error) {
 	st, err := os.Stat(dir)
 	if err != nil || !st.IsDir() {
@@ -317,6 +318,9 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	}
 	if kind == selftestFolder {
 		rerunSelftest(ctx, r, last, resultsDigest, opt.Selftest)
+		if err := ctx.Err(); err != nil { // stopped, not a verdict
+			return nil, fmt.Errorf("verify %s: rerun: %w", dir, err)
+		}
 		return r, nil
 	}
 
@@ -371,6 +375,9 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		return r, nil
 	}
 	fresh, err := rerun(ctx, filepath.Join(dir, PlanCopyFile), dataPath, opt.Workers)
+	if err != nil && ctx.Err() != nil { // stopped, not a verdict
+		return nil, fmt.Errorf("verify %s: rerun: %w", dir, err)
+	}
 	if err != nil {
 		r.add("rerun", Fail, ClassDiffer, "", "the plan does not run on %s: %v", dataPath, err)
 		return r, nil

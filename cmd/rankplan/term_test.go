@@ -188,11 +188,14 @@ func TestDurationText(t *testing.T) {
 }
 
 // buildRankplan builds the command into the test's temporary folder (the build cache
-// makes the second build quick) and returns its path.
-func buildRankplan(t *testing.T) string {
+// makes the second build quick), with env (KEY=VALUE) added to the environment of the
+// build, and returns its path.
+func buildRankplan(t *testing.T, env ...string) string {
 	t.Helper()
 	bin := filepath.Join(t.TempDir(), "rankplan")
-	if out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput(); err != nil {
+	build := exec.Command("go", "build", "-o", bin, ".")
+	build.Env = append(os.Environ(), env...)
+	if out, err := build.CombinedOutput(); err != nil {
 		t.Fatalf("go build: %v\n%s", err, out)
 	}
 	return bin
