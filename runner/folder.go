@@ -1,6 +1,7 @@
 package runner
 
 import (
+	"context"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -62,8 +63,16 @@ func (f *OutputFolder) WriteFile(name string, b []byte, extra map[string]any) er
 func (f *OutputFolder) Head() (string, int64) { return f.log.Head(), f.log.Seq() }
 
 // Finish appends the closing record (event with data), closes the log, writes the head file
-// and moves the folder into place. It returns the final head and its record number.
+// and moves the folder into place. It returns the final head and its record number. When
+// another process has created the folder's final name meanwhile, it writes nothing and
+// returns an [InputError] wrapping [ErrOutExists] (see reserveOut), for the caller to
+// [OutputFolder.Abandon] the folder.
 func (f *OutputFolder) Finish(event string, data any) (head string, seq int64, err error) {
+	release, err := reserveOut(context.Background(), f.out)
+	if err != nil {
+		return "", 0, err
+	}
+	defer release()
 	if err := f.Append(event, data); err != nil {
 		return "", 0, err
 	}

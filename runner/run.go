@@ -87,7 +87,9 @@ type Deviation struct {
 // created Run returns ctx's error (wrapped) and leaves nothing; after, it records
 // run.failed with the error and the signal's name, and returns an [*UnfinishedError]
 // naming the folder it leaves. Any error between the folder's creation and the
-// run.finished record is such an *UnfinishedError.
+// run.finished record is such an *UnfinishedError. A run whose --out was created by
+// another process meanwhile fails the same way, before its closing record (see
+// reserveOut).
 func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, error) {
 	now := opt.Now
 	if now == nil {
@@ -298,6 +300,13 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	if err := stopped(); err != nil {
 		return fail(err)
 	}
+	// From here on the run is finished: under the lock of --out's folder, DIR must still
+	// be free before the closing record is written (see reserveOut).
+	release, err := reserveOut(ctx, opt.Out)
+	if err != nil {
+		return fail(err)
+	}
+	defer release()
 	if _, err := log.Append("run.finished", map[string]any{"status": "ok", "exit_code": 0, "analyses": len(res.Analyses)}); err != nil {
 		return fail(err)
 	}

@@ -79,7 +79,7 @@ func writeFolder(rep *Report, opt Options, now func() time.Time) error {
 		"status": res.Summary.Outcome, "cases": res.Summary.Cases, "passed": res.Summary.Passed, "failed": res.Summary.Failed,
 	})
 	if err != nil {
-		return err
+		return fail(err) // a closing record already written stays the last: the log is closed
 	}
 	rep.Dir = opt.Out
 	return nil
