@@ -25,7 +25,7 @@ import (
 // phase under test for a few hundred milliseconds or more, and plans that reach that
 // phase quickly.
 var signalPlans = map[string]string{
-	// 2,500,000 rows (about 20 MB): reading them takes about half a second.
+	// 1,500,000 rows (about 12 MB): reading them takes a few tenths of a second.
 	"load": `data: {file: big.csv, group: g, outcome: y}
 analyses:
   - {id: a, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {interval: none}}
@@ -52,11 +52,11 @@ analyses:
 analyses:
   - {id: a, test: kruskal-wallis, pvalue: {method: asymptotic}, effect_size: {interval: none}, posthoc: {method: dunn, adjust: holm}}
 `,
-	// 2,000 observations, 50,000 Monte Carlo resamples: a run, and its rerun by verify,
-	// of about half a second.
+	// 2,000 observations, 30,000 Monte Carlo resamples: a run, and its rerun by verify,
+	// of a few tenths of a second.
 	"rerun": `data: {file: mid.csv, group: g, outcome: y}
 analyses:
-  - {id: a, test: kruskal-wallis, pvalue: {method: permutation, resamples: 50000}, effect_size: {interval: none}}
+  - {id: a, test: kruskal-wallis, pvalue: {method: permutation, resamples: 30000}, effect_size: {interval: none}}
 `,
 }
 
@@ -65,7 +65,7 @@ func writeSignalInputs(t *testing.T, dir string) {
 	t.Helper()
 	files := map[string]func(*bytes.Buffer){
 		"big.csv": func(b *bytes.Buffer) {
-			for i := range 2_500_000 {
+			for i := range 1_500_000 {
 				fmt.Fprintf(b, "%c,%d\n", 'A'+i%4, i*7919%100_003)
 			}
 		},
