@@ -116,10 +116,13 @@ func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results
 		if a.Status != "ok" {
 			continue
 		}
-		var err error
-		if a.PostHoc, err = postHoc(ctx, p, &prep.Analyses[i], ranks[i], a.Decision); err != nil {
+		ph, err := await(ctx, "post-hoc comparisons", func() (*results.PostHoc, error) {
+			return postHoc(ctx, p, &prep.Analyses[i], ranks[i], a.Decision)
+		})
+		if err != nil {
 			return nil, wrap(i, err)
 		}
+		a.PostHoc = ph
 		ranks[i] = nil
 	}
 	return res, nil
@@ -141,7 +144,7 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 		Excluded: in.Excluded,
 		Groups:   make([]results.Group, len(in.Groups)),
 	}
-	r, err := stats.Rank(in.Group, in.Values, len(in.Groups))
+	r, err := rank(ctx, in)
 	if err != nil {
 		return out, nil, err
 	}
@@ -206,6 +209,43 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 	return out, r, nil
 }
 
+// await runs step on its own goroutine and returns its result, or ctx's error (wrapped
+// with what) as soon as ctx ends, whichever comes first. The long computations of package
+// stats check the context themselves, but parts of them cannot be interrupted and take a
+// second or more on 10^7 observations: sorting (stats.Rank, the bootstrap's distinct
+// values), the Monte Carlo test's row ranks, a Hodges-Lehmann estimate of two groups of
+// millions. await keeps the promise that a signal stops a run within a second: a step
+// given up goes on in the background until it next checks the context or ends, and its
+// result is dropped. step must only read what outlives it.
+func await[T any](ctx context.Context, what string, step func() (T, error)) (T, error) {
+	if ctx.Done() == nil {
+		return step()
+	}
+	type outcome struct {
+		v   T
+		err error
+	}
+	ch := make(chan outcome, 1)
+	go func() {
+		v, err := step()
+		ch <- outcome{v, err}
+	}()
+	select {
+	case out := <-ch:
+		return out.v, out.err
+	case <-ctx.Done():
+		var zero T
+		return zero, fmt.Errorf("%s: %w", what, ctx.Err())
+	}
+}
+
+// rank is stats.Rank of the input's observations, given up when ctx ends (see await).
+func rank(ctx context.Context, in *Input) (*stats.Ranking, error) {
+	return await(ctx, "rank", func() (*stats.Ranking, error) {
+		return stats.Rank(in.Group, in.Values, len(in.Groups))
+	})
+}
+
 // tail writes a p-value and its log10; the value is left out (null) below the smallest
 // normal double, where only the log10 keeps its digits.
 func tail(p, log10p float64) *results.Tail {
@@ -264,9 +304,11 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	default:
 		return nil, fmt.Errorf("p-value method %q has no implementation", a.PValue.Method)
 	}
-	mc, err := stats.KruskalWallisPermutation(ctx, in.Group, in.Values, len(in.Groups), r, stats.PermutationOptions{
-		Seed: uint64(p.Seed), AnalysisID: a.ID, Resamples: a.PValue.Resamples, Workers: opt.Workers,
-		Progress: opt.progress(a.ID, TaskPermutation),
+	mc, err := await(ctx, "kw permutation", func() (stats.Permutation, error) {
+		return stats.KruskalWallisPermutation(ctx, in.Group, in.Values, len(in.Groups), r, stats.PermutationOptions{
+			Seed: uint64(p.Seed), AnalysisID: a.ID, Resamples: a.PValue.Resamples, Workers: opt.Workers,
+			Progress: opt.progress(a.ID, TaskPermutation),
+		})
 	})
 	if err != nil {
 		return nil, err
@@ -326,10 +368,12 @@ func effectSizes(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking,
 		iv.PopulationEffect = &results.ClippedBounds{Low: ei.Low, High: ei.High, Clipped: ei.Clipped}
 		return es, nil
 	case spec.BootstrapInterval:
-		bs, err := stats.KruskalWallisBootstrap(ctx, r, stats.BootstrapOptions{
-			Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: in.Analysis.EffectSize.Resamples,
-			Level: level, Workers: opt.Workers,
-			Progress: opt.progress(in.Analysis.ID, TaskBootstrap),
+		bs, err := await(ctx, "bootstrap", func() (stats.Bootstrap, error) {
+			return stats.KruskalWallisBootstrap(ctx, r, stats.BootstrapOptions{
+				Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: in.Analysis.EffectSize.Resamples,
+				Level: level, Workers: opt.Workers,
+				Progress: opt.progress(in.Analysis.ID, TaskBootstrap),
+			})
 		})
 		if err != nil {
 			return nil, err

@@ -82,7 +82,7 @@ func (prep *Prepared) CheckWork(ctx context.Context) error {
 		n := int64(len(in.Values))
 		monteCarlo := a.PValue.Method == spec.Permutation
 		if a.PValue.Method == spec.Exact || a.PValue.Method == spec.Auto {
-			r, err := stats.Rank(in.Group, in.Values, len(in.Groups))
+			r, err := rank(ctx, in)
 			if err != nil {
 				return fmt.Errorf("analysis %q: %w", a.ID, err)
 			}

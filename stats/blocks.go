@@ -7,26 +7,6 @@ import (
 	"sync/atomic"
 )
 
-// Work that can run long (the Monte Carlo permutation test, the effect-size bootstrap,
-// the chunks of each layer of the exact programme) is cut into numbered blocks whose
-// content never depends on who computes them: a block's random stream is keyed by its
-// index, and its result is stored by index or combined in index order. runBlocks hands
-// the blocks to goroutines and is the one place where such work meets its context.
-//
-// The rules it keeps, which the callers rely on:
-//
-//   - blocks are taken in increasing index order, and the context (and the caller's
-//     stop condition) is checked before each one is taken;
-//   - once the context is done, stop holds or a block fails, no further block is
-//     started, while the blocks already taken run to their end; so the blocks done are
-//     always 0..m-1 for some m;
-//   - the error returned is that of the lowest failed block, or else the context's
-//     error: one error, whatever the number of goroutines.
-//
-// A block that may itself run long also checks the context between its items (see
-// [cancelled]); the block sizes are part of the reproducibility contract and are never
-// shortened for that.
-
 // resolveWorkers returns the goroutines for blocks blocks: requested, or
 // runtime.GOMAXPROCS(0) when requested <= 0, and never more than blocks (at least 1).
 func resolveWorkers(requested int, blocks int64) int {
@@ -38,10 +18,26 @@ func resolveWorkers(requested int, blocks int64) int {
 
 // runBlocks calls do(w, j) for the blocks j = 0..n-1 on up to workers goroutines (at
 // least one); w in 0..workers-1 names the goroutine, for its scratch space, and one
-// goroutine runs one block at a time. ctx is checked, and stop (nil for none) polled,
-// before every block is taken; see the rules above. It returns nil when every block was
-// done, the error of the lowest failed block, ctx.Err() when the context ended the work,
-// or nil when stop did (the caller knows why it stopped).
+// goroutine runs one block at a time. It is the one place where work that can run long
+// (the Monte Carlo permutation test, the effect-size bootstrap, the chunks and merge
+// partitions of each layer of the exact programme) meets its context. The content of a
+// block never depends on who computes it: a block's random stream is keyed by its
+// index, and its result is stored by index or combined in index order by the caller.
+//
+// The rules it keeps, which the callers rely on:
+//
+//   - blocks are taken in increasing index order, and ctx is checked, and stop (nil for
+//     none) polled, before each one is taken;
+//   - once ctx is done, stop holds or a block fails, no further block is started, while
+//     the blocks already taken run to their end; so the blocks done are always 0..m-1
+//     for some m (with one gap, at the failed block, when a block fails);
+//   - it returns nil when every block was done, else the error of the lowest failed
+//     block, else ctx.Err() when the context ended the work, else nil (stop ended it,
+//     and the caller knows why): one error, whatever the number of goroutines.
+//
+// A block that may itself run long checks the context between its items (see
+// [cancelled]); the block sizes are part of the reproducibility contract and are never
+// shortened for that.
 func runBlocks(ctx context.Context, n int64, workers int, stop func() bool, do func(w int, j int64) error) error {
 	done := ctx.Done()
 	halt := func() bool { return cancelled(done) || stop != nil && stop() }
@@ -101,6 +97,11 @@ func runBlocks(ctx context.Context, n int64, workers int, stop func() bool, do f
 	}
 	return ctx.Err()
 }
+
+// cancelEvery is how many draws a resample makes between two checks of the context: a
+// resample of 10^7 observations takes tenths of a second, too long to wait for after a
+// signal. A power of two, so that the check costs a mask and a compare per draw.
+const cancelEvery = 1 << 16
 
 // cancelled reports, without waiting, whether done (a context's Done channel; nil for a
 // context that is never done) is closed. It costs a few nanoseconds, so a long block can

@@ -7,6 +7,8 @@ import (
 	"slices"
 	"sync"
 	"testing"
+
+	"rankplan/stats/stream"
 )
 
 // TestRunBlocks checks the rules of runBlocks for one to four goroutines: every block is
@@ -290,5 +292,50 @@ func TestLongBlockCancel(t *testing.T) {
 				t.Errorf("progress %v, want only the short block's 1: the long block of %d ran to its end", log.seq, tc.block)
 			}
 		})
+	}
+}
+
+// TestResampleStops checks the context check within one bootstrap resample, on both ways
+// of ranking a resample: with its Done channel closed, a resample of 3·cancelEvery
+// invented observations is given up (stopped is set) at the first check, after
+// cancelEvery − 1 draws from the first group, as the stream's position shows; with no
+// channel, the resample is whole and the same as with a channel that is never closed.
+func TestResampleStops(t *testing.T) {
+	const n = 3 * cancelEvery
+	groups := [][]float64{make([]float64, 0, n/2), make([]float64, 0, n/2)}
+	for i := range n {
+		groups[i%2] = append(groups[i%2], float64(i%97)) // few distinct values
+	}
+	r := mustRank(t, groups)
+	for _, byGroup := range []bool{true, false} {
+		bi, err := newBootIndex(r)
+		if err != nil {
+			t.Fatal(err)
+		}
+		bi.byGroup = byGroup
+		key := stream.Key(BootstrapPurpose, 3, "a", 0)
+
+		closed := make(chan struct{})
+		close(closed)
+		w := newBootWorker(r, bi)
+		w.done = closed
+		s := stream.New(key)
+		w.resample(s)
+		ref := stream.New(key)
+		for range cancelEvery - 1 {
+			ref.Below(uint64(len(groups[0])))
+		}
+		if !w.stopped || s.Below(1<<62) != ref.Below(1<<62) {
+			t.Errorf("byGroup %v: closed channel: stopped %v, or not after %d draws", byGroup, w.stopped, cancelEvery-1)
+		}
+
+		live := make(chan struct{})
+		a, b := newBootWorker(r, bi), newBootWorker(r, bi)
+		b.done = live
+		ha, da := a.resample(stream.New(key))
+		hb, db := b.resample(stream.New(key))
+		if a.stopped || b.stopped || ha != hb || da != db {
+			t.Errorf("byGroup %v: open channel: H* %v (stopped %v), without one %v (stopped %v)", byGroup, hb, b.stopped, ha, a.stopped)
+		}
 	}
 }

@@ -169,8 +169,7 @@ type Bootstrap struct {
 // Efron & Tibshirani 1993, An Introduction to the Bootstrap, ch. 13, recalled from memory).
 //
 // It returns ctx's error (wrapped) when ctx is done before the last resample: the context
-// is checked before every resample, so a resample of N draws is the most work done after
-// it ends.
+// is checked before every resample and every 65536 draws within one.
 func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOptions) (Bootstrap, error) {
 	if err := checkRankingDeep(r); err != nil {
 		return Bootstrap{}, fmt.Errorf("bootstrap: %w", err)
@@ -196,6 +195,7 @@ func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOption
 	err = runBlocks(ctx, blocks, workers, nil, func(w int, j int64) error {
 		if scratch[w] == nil {
 			scratch[w] = newBootWorker(r, bi)
+			scratch[w].done = done
 		}
 		s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
 		end := min((j+1)*BootstrapBlockSize, m)
@@ -204,6 +204,9 @@ func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOption
 				return ctx.Err()
 			}
 			hs[b], degenerate[b] = scratch[w].resample(s)
+			if scratch[w].stopped {
+				return ctx.Err()
+			}
 		}
 		progress.add(end - j*BootstrapBlockSize)
 		return nil
@@ -329,6 +332,8 @@ type bootWorker struct {
 	runCount [][]int32 // byGroup: runCount[i][l], how often group i drew from its run l
 	rankSum2 []int64
 	blocks   []Block
+	done     <-chan struct{} // the context's Done channel, checked every cancelEvery draws (nil: never)
+	stopped  bool            // a resample was given up because done was closed
 }
 
 func newBootWorker(r *Ranking, bi *bootIndex) *bootWorker {
@@ -349,7 +354,8 @@ func newBootWorker(r *Ranking, bi *bootIndex) *bootWorker {
 // one of the pooled sample's distinct values, so the resample is ranked by counting how
 // often each distinct value was drawn (no comparison sort): a value drawn t times after b
 // smaller draws has the doubled midrank 2b + t + 1, the same integers, tie blocks and H*
-// as sorting the resample would give.
+// as sorting the resample would give. When w.done is closed during the draws it gives
+// the resample up and sets w.stopped; the result is then meaningless.
 func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool) {
 	r, bi := w.r, w.bi
 	clear(w.count)
@@ -358,7 +364,11 @@ func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool)
 			n := uint64(len(vals))
 			g, cnt := &bi.runs[i], w.runCount[i]
 			clear(cnt)
-			for range n {
+			for q := range n {
+				if q&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
+					w.stopped = true
+					return 0, false
+				}
 				j := int32(s.Below(n))
 				l := g.coarse[j>>g.shift]
 				for g.bounds[l+1] <= j {
@@ -376,6 +386,10 @@ func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool)
 			n := len(vals)
 			idx, dr := bi.index[off:off+n], w.draws[off:off+n]
 			for j := range dr {
+				if j&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
+					w.stopped = true
+					return 0, false
+				}
 				u := idx[s.Below(uint64(n))]
 				dr[j] = u
 				w.count[u]++

@@ -151,8 +151,8 @@ type Exact struct {
 // It returns ctx's error (wrapped) when ctx is done before the programme ends. The
 // context is checked before each chunk of exactChunkStates (4096) states of a layer is
 // extended, before each partition of a layer's merge and every 4096 final states, so
-// at most a chunk's work per goroutine (well under a millisecond at the default
-// budget's densest layers) is done after it ends.
+// at most a chunk's work per goroutine (4096 states and their transitions: milliseconds,
+// tens of milliseconds for the widest tie blocks) is done after it ends.
 func KruskalWallisExact(ctx context.Context, r *Ranking, budget ExactBudget) (Exact, error) {
 	if err := checkRankingDeep(r); err != nil {
 		return Exact{}, fmt.Errorf("exact p-value: %w", err)

@@ -110,7 +110,8 @@ type PermutationOptions struct {
 //
 // It returns [ErrAllTied] (wrapped) when every observation is tied, an error when m < 1,
 // when N >= 2^31, when r is not the Ranking of (group, values, k), and ctx's error if ctx
-// is cancelled (checked before every resample). It does not modify group, values or r.
+// is cancelled (checked before every resample, and every 65536 draws within one). It
+// does not modify group, values or r.
 // Memory is O(N) per worker plus O(N) shared, allocated once; a resample allocates
 // nothing and costs O(N + k).
 func KruskalWallisPermutation(ctx context.Context, group []int32, values []float64, k int, r *Ranking, opt PermutationOptions) (Permutation, error) {
@@ -424,6 +425,9 @@ func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64
 		// its group as soon as the position's label is final.
 		clear(sums)
 		for i := len(a) - 1; i > 0; i-- {
+			if i&(cancelEvery-1) == 0 && cancelled(done) {
+				return 0, ctx.Err()
+			}
 			x := s.Below(uint64(i) + 1)
 			a[i], a[x] = a[x], a[i]
 			sums[a[i]] += uint64(d[i])

@@ -330,3 +330,18 @@ func TestColorOnTerminal(t *testing.T) {
 		})
 	}
 }
+
+// TestProgressBarAfterFinish: once finished, the bar draws nothing more, so that progress
+// reported late from the background cannot land after a command's last line.
+func TestProgressBarAfterFinish(t *testing.T) {
+	var b bytes.Buffer
+	p := newProgressBar(&b, func() int { return 80 }, time.Now)
+	p.update("a", runner.TaskBootstrap, 256, 1024)
+	p.finish()
+	n := b.Len()
+	p.update("a", runner.TaskBootstrap, 512, 1024)
+	p.update("a", runner.TaskPermutation, 4096, 8192)
+	if b.Len() != n {
+		t.Errorf("drawn after finish: %q", b.String()[n:])
+	}
+}
