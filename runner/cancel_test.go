@@ -100,3 +100,15 @@ func TestRunCancelled(t *testing.T) {
 		})
 	}
 }
+
+// TestVerifyCancelled: verify with a context that has ended gives no verdict, only the
+// context's error (wrapped), whether it stops at hashing the data or at the rerun.
+func TestVerifyCancelled(t *testing.T) {
+	_, rec := newRun(t, RunOptions{})
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	r, err := Verify(ctx, rec.Dir, VerifyOptions{})
+	if r != nil || !errors.Is(err, context.Canceled) {
+		t.Errorf("report %+v, error %v; want no report and context.Canceled", r, err)
+	}
+}

@@ -348,7 +348,15 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 	if dataRec.AbsolutePath == "" {
 		r.add("data file", Skip, "", "", "the log records no data file")
 	} else if opt.Data == "" {
-		if got, _, err := audit.DigestFile(dataRec.AbsolutePath); err != nil {
+		// Hashing gigabytes takes seconds: given up at once when ctx ends (see await).
+		got, err := await(ctx, "hash the data file", func() (string, error) {
+			d, _, err := audit.DigestFile(dataRec.AbsolutePath)
+			return d, err
+		})
+		if ctx.Err() != nil {
+			return nil, fmt.Errorf("verify %s: hash the data file: %w", dir, ctx.Err())
+		}
+		if err != nil {
 			r.add("data file", Fail, ClassDiffer, dataRec.AbsolutePath, "the data file %s cannot be read: %v", dataRec.AbsolutePath, unwrapPathError(err))
 		} else if got != dataRec.SHA256 {
 			r.add("data file", Fail, ClassDiffer, dataRec.AbsolutePath, "the data file %s has changed since the run (SHA-256 %s, recorded %s)", dataRec.AbsolutePath, got, dataRec.SHA256)
