@@ -34,7 +34,7 @@ func BenchmarkRunPlan(b *testing.B) {
 			b.ReportAllocs()
 			b.ResetTimer()
 			for b.Loop() {
-				prep, err := Prepare(p)
+				prep, err := Prepare(context.Background(), p)
 				if err != nil {
 					b.Fatal(err)
 				}
@@ -106,7 +106,7 @@ func BenchmarkRenderings(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	prep, err := Prepare(p)
+	prep, err := Prepare(context.Background(), p)
 	if err != nil {
 		b.Fatal(err)
 	}
@@ -116,7 +116,7 @@ func BenchmarkRenderings(b *testing.B) {
 	}
 	b.ReportAllocs()
 	for b.Loop() {
-		if _, err := renderings(ex.results, report.Meta{}, ex.sorted, "run"); err != nil {
+		if _, err := renderings(context.Background(), ex.results, report.Meta{}, ex.sorted, "run"); err != nil {
 			b.Fatal(err)
 		}
 	}

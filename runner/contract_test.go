@@ -72,7 +72,7 @@ func TestRunFolderContract(t *testing.T) {
 	// Execute does not change its input: two executions of one Prepared give the same
 	// results, and the second sees the same Prepared as the first.
 	pl := p
-	prep, err := Prepare(pl)
+	prep, err := Prepare(context.Background(), pl)
 	if err != nil {
 		t.Fatal(err)
 	}

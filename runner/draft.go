@@ -2,6 +2,7 @@ package runner
 
 import (
 	"bufio"
+	"context"
 	"crypto/rand"
 	"encoding/binary"
 	"encoding/hex"
@@ -36,8 +37,9 @@ type DraftOptions struct {
 }
 
 // Draft writes the text of a new plan for a data file and checks it the way `rankplan
-// check` would, so that it never hands out a plan that check refuses.
-func Draft(o DraftOptions) ([]byte, error) {
+// check` would, so that it never hands out a plan that check refuses. Reading the data
+// stops, with ctx's error, when ctx ends.
+func Draft(ctx context.Context, o DraftOptions) ([]byte, error) {
 	delim := o.Delimiter
 	if delim == "" || delim == "auto" {
 		d, err := sniffDelimiter(o.DataPath)
@@ -51,7 +53,10 @@ func Draft(o DraftOptions) ([]byte, error) {
 		Alpha: o.Alpha, PValue: o.PValue, Resamples: o.Resamples,
 		PostHoc: o.PostHoc, Adjust: o.Adjust, Control: o.Control,
 	}
-	t, dec, err := loadForDraft(o, delim)
+	t, dec, err := loadForDraft(ctx, o, delim)
+	if ctx.Err() != nil {
+		return nil, fmt.Errorf("read %s: %w", o.DataPath, ctx.Err())
+	}
 	if err != nil {
 		return nil, &InputError{Err: err}
 	}
@@ -106,14 +111,14 @@ func Draft(o DraftOptions) ([]byte, error) {
 	if o.PlanPath == "" {
 		p.Dir = "."
 	}
-	if _, err := Prepare(p); err != nil {
+	if _, err := Prepare(ctx, p); err != nil {
 		return nil, fmt.Errorf("the drafted plan would not run on %s:\n%w", o.DataPath, err)
 	}
 	return text, nil
 }
 
 // loadForDraft reads the data once to count groups and to tell the decimal separator.
-func loadForDraft(o DraftOptions, delim string) (*data.Table, string, error) {
+func loadForDraft(ctx context.Context, o DraftOptions, delim string) (*data.Table, string, error) {
 	opt := data.Options{
 		Name: o.DataPath, Delimiter: delimByte(delim), GroupColumn: o.Group,
 		OutcomeColumns: []string{o.Outcome}, MissingTokens: []string{"", "NA"},
@@ -128,7 +133,7 @@ func loadForDraft(o DraftOptions, delim string) (*data.Table, string, error) {
 	var first error
 	for _, dec := range decimals {
 		opt.Decimal = dec[0]
-		t, err := data.LoadFile(o.DataPath, opt)
+		t, err := data.LoadFile(ctx, o.DataPath, opt)
 		if err == nil {
 			return t, dec, nil
 		}

@@ -69,7 +69,9 @@ func (o Options) progress(analysis, task string) stats.Progress {
 
 // Execute runs every analysis of a prepared plan and assembles the results. It reads no
 // files, leaves prep as it was, and depends on nothing but its input, so the same input
-// gives the same results, whatever opt holds.
+// gives the same results, whatever opt holds. When ctx ends, the long steps (the exact
+// p-value, the resampling, the post-hoc pairs) stop and Execute returns ctx's error
+// (wrapped).
 func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results, error) {
 	ex, err := execute(ctx, prep, opt)
 	if err != nil {
@@ -131,10 +133,13 @@ func execute(ctx context.Context, prep *Prepared, opt Options) (*execution, erro
 		if a.Status != "ok" {
 			continue
 		}
-		var err error
-		if a.PostHoc, err = postHoc(p, &prep.Analyses[i], ranks[i], a.Decision); err != nil {
+		ph, err := await(ctx, "post-hoc comparisons", func() (*results.PostHoc, error) {
+			return postHoc(ctx, p, &prep.Analyses[i], ranks[i], a.Decision)
+		})
+		if err != nil {
 			return nil, wrap(i, err)
 		}
+		a.PostHoc = ph
 		ranks[i] = nil
 	}
 	return &execution{results: res, sorted: sorted}, nil
@@ -156,7 +161,7 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 		Excluded: in.Excluded,
 		Groups:   make([]results.Group, len(in.Groups)),
 	}
-	r, err := stats.Rank(in.Group, in.Values, len(in.Groups))
+	r, err := rank(ctx, in)
 	if err != nil {
 		return out, nil, err
 	}
@@ -213,12 +218,49 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 		reject = *pv.Value <= p.Alpha
 	}
 	out.Decision = &results.Decision{Alpha: p.Alpha, Reject: reject, Rule: "own p-value: reject when p <= alpha"}
-	es, err := effectSizes(p, in, r, kw, opt)
+	es, err := effectSizes(ctx, p, in, r, kw, opt)
 	if err != nil {
 		return out, nil, err
 	}
 	out.EffectSizes = es
 	return out, r, nil
+}
+
+// await runs step on its own goroutine and returns its result, or ctx's error (wrapped
+// with what) as soon as ctx ends, whichever comes first. The long computations of package
+// stats check the context themselves, but parts of them cannot be interrupted and take a
+// second or more on 10^7 observations: sorting (stats.Rank, the bootstrap's distinct
+// values), the Monte Carlo test's row ranks, a Hodges-Lehmann estimate of two groups of
+// millions. await keeps the promise that a signal stops a run within a second: a step
+// given up goes on in the background until it next checks the context or ends, and its
+// result is dropped. step must only read what outlives it.
+func await[T any](ctx context.Context, what string, step func() (T, error)) (T, error) {
+	if ctx.Done() == nil {
+		return step()
+	}
+	type outcome struct {
+		v   T
+		err error
+	}
+	ch := make(chan outcome, 1)
+	go func() {
+		v, err := step()
+		ch <- outcome{v, err}
+	}()
+	select {
+	case out := <-ch:
+		return out.v, out.err
+	case <-ctx.Done():
+		var zero T
+		return zero, fmt.Errorf("%s: %w", what, ctx.Err())
+	}
+}
+
+// rank is stats.Rank of the input's observations, given up when ctx ends (see await).
+func rank(ctx context.Context, in *Input) (*stats.Ranking, error) {
+	return await(ctx, "rank", func() (*stats.Ranking, error) {
+		return stats.Rank(in.Group, in.Values, len(in.Groups))
+	})
 }
 
 // tail writes a p-value and its log10; the value is left out (null) below the smallest
@@ -239,7 +281,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	pv := &results.PValue{Requested: string(a.PValue.Method)}
 	budget := stats.DefaultExactBudget
 	exact := func() error {
-		ex, err := in.exactP(r, opt.progress(a.ID, TaskExact))
+		ex, err := in.exactP(ctx, r, opt.progress(a.ID, TaskExact))
 		if err != nil {
 			return err
 		}
@@ -279,9 +321,11 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	default:
 		return nil, fmt.Errorf("p-value method %q has no implementation", a.PValue.Method)
 	}
-	mc, err := stats.KruskalWallisPermutation(ctx, in.Group, in.Values, len(in.Groups), r, stats.PermutationOptions{
-		Seed: uint64(p.Seed), AnalysisID: a.ID, Resamples: a.PValue.Resamples, Workers: opt.Workers,
-		Progress: opt.progress(a.ID, TaskPermutation),
+	mc, err := await(ctx, "kw permutation", func() (stats.Permutation, error) {
+		return stats.KruskalWallisPermutation(ctx, in.Group, in.Values, len(in.Groups), r, stats.PermutationOptions{
+			Seed: uint64(p.Seed), AnalysisID: a.ID, Resamples: a.PValue.Resamples, Workers: opt.Workers,
+			Progress: opt.progress(a.ID, TaskPermutation),
+		})
 	})
 	if err != nil {
 		return nil, err
@@ -303,7 +347,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 // effectSizes computes epsilon-squared and eta-squared based on H, with the interval the
 // plan names. This switch is the one place where an interval method named in a plan meets
 // its function in package stats.
-func effectSizes(p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWallis, opt Options) (*results.EffectSizes, error) {
+func effectSizes(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWallis, opt Options) (*results.EffectSizes, error) {
 	eps, err := stats.EpsilonSquared(kw.H, kw.N)
 	if err != nil {
 		return nil, err
@@ -341,10 +385,12 @@ func effectSizes(p *spec.Plan, in *Input, r *stats.Ranking, kw stats.KruskalWall
 		iv.PopulationEffect = &results.ClippedBounds{Low: ei.Low, High: ei.High, Clipped: ei.Clipped}
 		return es, nil
 	case spec.BootstrapInterval:
-		bs, err := stats.KruskalWallisBootstrap(r, stats.BootstrapOptions{
-			Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: in.Analysis.EffectSize.Resamples,
-			Level: level, Workers: opt.Workers,
-			Progress: opt.progress(in.Analysis.ID, TaskBootstrap),
+		bs, err := await(ctx, "bootstrap", func() (stats.Bootstrap, error) {
+			return stats.KruskalWallisBootstrap(ctx, r, stats.BootstrapOptions{
+				Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: in.Analysis.EffectSize.Resamples,
+				Level: level, Workers: opt.Workers,
+				Progress: opt.progress(in.Analysis.ID, TaskBootstrap),
+			})
 		})
 		if err != nil {
 			return nil, err

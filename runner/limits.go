@@ -83,11 +83,11 @@ func (prep *Prepared) CheckWork(ctx context.Context) error {
 		n := int64(len(in.Values))
 		monteCarlo := a.PValue.Method == spec.Permutation
 		if a.PValue.Method == spec.Exact || a.PValue.Method == spec.Auto {
-			r, err := stats.Rank(in.Group, in.Values, len(in.Groups))
+			r, err := rank(ctx, in)
 			if err != nil {
 				return fmt.Errorf("analysis %q: %w", a.ID, err)
 			}
-			_, err = in.exactP(r, opt.progress(a.ID, TaskExact))
+			_, err = in.exactP(ctx, r, opt.progress(a.ID, TaskExact))
 			switch {
 			case err == nil, errors.Is(err, stats.ErrAllTied):
 			case errors.Is(err, stats.ErrExactBudget) && a.PValue.Method == spec.Exact:
@@ -126,12 +126,15 @@ type exactOutcome struct {
 // exactP returns the exact p-value of the input's design under the default work budget,
 // computing it only once. It is the one place where the budget is applied: `check`
 // (through [Prepared.CheckWork]) and `run` (through CheckWork and pValue) decide alike
-// whether a design fits.
-func (in *Input) exactP(r *stats.Ranking, progress stats.Progress) (stats.Exact, error) {
+// whether a design fits. A computation stopped by ctx is not kept.
+func (in *Input) exactP(ctx context.Context, r *stats.Ranking, progress stats.Progress) (stats.Exact, error) {
 	if in.exact == nil {
 		budget := stats.DefaultExactBudget
 		budget.Progress = progress
-		ex, err := stats.KruskalWallisExact(r, budget)
+		ex, err := stats.KruskalWallisExact(ctx, r, budget)
+		if ctx.Err() != nil {
+			return stats.Exact{}, fmt.Errorf("exact p-value: %w", ctx.Err())
+		}
 		in.exact = &exactOutcome{ex, err}
 	}
 	return in.exact.ex, in.exact.err

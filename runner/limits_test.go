@@ -66,7 +66,7 @@ func TestWorkLimits(t *testing.T) {
 				want = fmt.Sprintf(want, p.DataPath())
 			}
 			want = strings.ReplaceAll(want, "plan.yaml", p.File)
-			prep, err := Prepare(p)
+			prep, err := Prepare(context.Background(), p)
 			if err == nil {
 				err = prep.CheckWork(context.Background())
 			}
@@ -109,7 +109,7 @@ func methodPlanWith(t *testing.T, pvalue, effect, extra, csv string) *spec.Plan 
 // Execute reports, and that Execute computes the same without CheckWork.
 func TestCheckWorkKeepsExact(t *testing.T) {
 	p := methodPlan(t, "{method: exact}", "{interval: none}", tiedToy)
-	prep, err := Prepare(p)
+	prep, err := Prepare(context.Background(), p)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,6 +1,7 @@
 package runner
 
 import (
+	"context"
 	"encoding/json"
 	"math"
 	"os"
@@ -223,7 +224,7 @@ func TestSubsets(t *testing.T) {
 
 	// A value that no row has is refused at its place in the plan.
 	bad := endpointsPlan(t, "  - {id: x, subset: {column: site, values: [north, east]}, test: kruskal-wallis, pvalue: {method: asymptotic}}\n", "")
-	_, err := Prepare(bad)
+	_, err := Prepare(context.Background(), bad)
 	if err == nil || !strings.Contains(err.Error(), `analyses[3].subset.values[1]: no row has "east" in column "site"`) ||
 		!strings.Contains(err.Error(), `(values found: "north", "south")`) {
 		t.Errorf("unknown subset value: %v", err)
@@ -233,7 +234,7 @@ func TestSubsets(t *testing.T) {
 		{"sleep", `analyses[3].subset.column: column "sleep" is an outcome of an analysis of this plan`},
 	} {
 		bad := endpointsPlan(t, "  - {id: x, subset: {column: "+tc.col+", values: [a]}, test: kruskal-wallis, pvalue: {method: asymptotic}}\n", "")
-		if _, err := Prepare(bad); err == nil || !strings.Contains(err.Error(), tc.want) {
+		if _, err := Prepare(context.Background(), bad); err == nil || !strings.Contains(err.Error(), tc.want) {
 			t.Errorf("column %s: %v", tc.col, err)
 		}
 	}

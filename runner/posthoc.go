@@ -1,6 +1,7 @@
 package runner
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"slices"
@@ -12,8 +13,10 @@ import (
 )
 
 // postHoc runs the pairwise follow-up of an analysis. This switch is the one place where a
-// post-hoc method or adjustment named in a plan meets its function in package stats.
-func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decision) (*results.PostHoc, error) {
+// post-hoc method or adjustment named in a plan meets its function in package stats. ctx
+// is checked before each pair's rank-sum test and effect sizes (each takes at most about
+// a second: the exact method's budget, the Moses index's MosesExactWork).
+func postHoc(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decision) (*results.PostHoc, error) {
 	ph := in.Analysis.PostHoc
 	if ph.Method == spec.NoPostHoc {
 		return nil, nil
@@ -97,7 +100,10 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 	case spec.RankSum:
 		out.Statistic = "U"
 		for i, pr := range pairs {
-			rs, err := stats.RankSumTest(r.Sorted[pr[0]], r.Sorted[pr[1]], true, stats.DefaultExactBudget)
+			if err := ctx.Err(); err != nil {
+				return nil, fmt.Errorf("rank-sum: %w", err)
+			}
+			rs, err := stats.RankSumTest(ctx, r.Sorted[pr[0]], r.Sorted[pr[1]], true, stats.DefaultExactBudget)
 			if errors.Is(err, stats.ErrAllTied) {
 				out.Pairs[i] = results.Pair{PMethod: "normal-continuity", NotComputable: stats.PairAllTied}
 				raw[i] = 1
@@ -126,6 +132,9 @@ func postHoc(p *spec.Plan, in *Input, r *stats.Ranking, omnibus *results.Decisio
 	rej := stats.Reject(adj, p.Alpha)
 	level := in.Analysis.EffectSize.Level
 	for i, pr := range pairs {
+		if err := ctx.Err(); err != nil {
+			return nil, fmt.Errorf("pairwise effect sizes: %w", err)
+		}
 		x, y := r.Sorted[pr[0]], r.Sorted[pr[1]]
 		e, err := stats.PairEffectSizes(x, y)
 		if err != nil {

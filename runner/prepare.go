@@ -3,6 +3,7 @@ package runner
 import (
 	"bytes"
 	"cmp"
+	"context"
 	"crypto/sha256"
 	"encoding/hex"
 	"errors"
@@ -60,8 +61,10 @@ type Input struct {
 // problems in the data file as a [*data.Error]; both are wrapped in an [InputError].
 // Only a regular file of at most data.MaxFileBytes is read: a named pipe, a device (also
 // behind a symbolic link) or a directory is refused at data.file before a byte is read.
-// The number of groups is checked against [MaxGroups] and [MaxPostHocGroups].
-func Prepare(p *spec.Plan) (*Prepared, error) {
+// The number of groups is checked against [MaxGroups] and [MaxPostHocGroups]. When ctx
+// ends, hashing and reading the data file stop within a buffer and Prepare returns its
+// error (wrapped).
+func Prepare(ctx context.Context, p *spec.Plan) (*Prepared, error) {
 	path := p.DataPath()
 	src, _, err := infile.Open(path, data.MaxFileBytes)
 	if err != nil {
@@ -101,7 +104,7 @@ func Prepare(p *spec.Plan) (*Prepared, error) {
 	}
 
 	if p.Data.SHA256 != "" {
-		if err := checkPin(p, path, src); err != nil {
+		if err := checkPin(ctx, p, path, src); err != nil {
 			return nil, err
 		}
 	}
@@ -114,7 +117,10 @@ func Prepare(p *spec.Plan) (*Prepared, error) {
 	}
 	src.Close()
 	// LoadFile sizes its columns from the file's length: one allocation per column.
-	t, err := data.LoadFile(path, opt)
+	t, err := data.LoadFile(ctx, path, opt)
+	if ctx.Err() != nil {
+		return nil, fmt.Errorf("read data file %s: %w", path, ctx.Err())
+	}
 	if err != nil {
 		return nil, inputErr(err)
 	}
@@ -166,9 +172,9 @@ func unwrapPathError(err error) error {
 
 // checkPin refuses data whose SHA-256 differs from the plan's pin, before anything else is
 // read from it, and leaves the file positioned at its start.
-func checkPin(p *spec.Plan, path string, f *os.File) error {
+func checkPin(ctx context.Context, p *spec.Plan, path string, f *os.File) error {
 	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
+	if _, err := io.Copy(h, infile.ContextReader(ctx, f)); err != nil {
 		return fmt.Errorf("hash data file %s: %w", path, err)
 	}
 	got := hex.EncodeToString(h.Sum(nil))

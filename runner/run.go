@@ -92,15 +92,21 @@ func Run(ctx context.Context, planPath string, opt RunOptions) (*RunRecord, erro
 	if err != nil {
 		return nil, err
 	}
+	// From here on every error leaves the working folder, its log closed by run.failed.
+	unfinished := func(err error) (*RunRecord, error) {
+		w.Abandon(Failure(ctx, err))
+		if errors.Is(err, folder.ErrExists) {
+			err = &InputError{Err: err}
+		}
+		return nil, &UnfinishedError{Dir: w.WorkDir(), Err: err}
+	}
 	ex, err := execute(ctx, in.prep, Options{Workers: opt.Workers})
 	if err != nil {
-		w.Abandon(Failure(ctx, err))
-		return nil, err
+		return unfinished(err)
 	}
-	rec, err := closeRunFolder(w, in, ex, opt)
+	rec, err := closeRunFolder(ctx, w, in, ex, opt)
 	if err != nil {
-		w.Abandon(Failure(ctx, err))
-		return nil, err
+		return unfinished(err)
 	}
 	return rec, nil
 }
@@ -155,7 +161,7 @@ func bindInputs(ctx context.Context, planPath string, opt RunOptions) (*runInput
 	if in.signKey, err = loadSignKey(opt); err != nil {
 		return nil, err
 	}
-	if in.prep, err = Prepare(in.plan); err != nil {
+	if in.prep, err = Prepare(ctx, in.plan); err != nil {
 		return nil, err
 	}
 	if err := in.prep.CheckWork(ctx); err != nil {
@@ -225,7 +231,14 @@ func openRunFolder(in *runInputs, opt RunOptions) (*folder.Writer, error) {
 // other computed files, then the renderings for people, which show the audit head as it
 // stands after every computed output was recorded), closes the log with run.finished and
 // moves the folder into place, signed when a key was given.
-func closeRunFolder(w *folder.Writer, in *runInputs, ex *execution, opt RunOptions) (*RunRecord, error) {
+func closeRunFolder(ctx context.Context, w *folder.Writer, in *runInputs, ex *execution, opt RunOptions) (*RunRecord, error) {
+	// stopped is ctx's error, checked between the steps of writing the folder.
+	stopped := func() error {
+		if err := ctx.Err(); err != nil {
+			return fmt.Errorf("write the run folder: %w", err)
+		}
+		return nil
+	}
 	res, p := ex.results, in.plan
 	for _, a := range res.Analyses {
 		d := folder.AnalysisFinished{Analysis: a.ID, Status: a.Status, RandomStream: folder.RandomStream{
@@ -241,6 +254,9 @@ func closeRunFolder(w *folder.Writer, in *runInputs, ex *execution, opt RunOptio
 		if err := w.Record(d); err != nil {
 			return nil, err
 		}
+	}
+	if err := stopped(); err != nil {
+		return nil, err
 	}
 	resBytes, err := EncodeResults(res)
 	if err != nil {
@@ -260,6 +276,9 @@ func closeRunFolder(w *folder.Writer, in *runInputs, ex *execution, opt RunOptio
 	}
 	outputs = append(outputs, namedBytes{ProvenanceFile, prov})
 	for _, o := range outputs {
+		if err := stopped(); err != nil {
+			return nil, err
+		}
 		var rec folder.OutputWritten
 		if o.name == ResultsFile {
 			rec.ResultsDigest, rec.ResultsDigestRule = digest, folder.ResultsDigestRuleRun
@@ -270,11 +289,14 @@ func closeRunFolder(w *folder.Writer, in *runInputs, ex *execution, opt RunOptio
 	}
 	head, seq := w.Head()
 	meta := reportMeta(in.planRec, in.dataRec, in.toolRec, p.Seed.String(), head, seq)
-	renders, err := renderings(res, meta, ex.sorted, opt.Out)
+	renders, err := renderings(ctx, res, meta, ex.sorted, opt.Out)
 	if err != nil {
 		return nil, err
 	}
 	for _, o := range renders {
+		if err := stopped(); err != nil {
+			return nil, err
+		}
 		note := "a rendering of results.json for people; it shows the audit head at record " + strconv.FormatInt(seq, 10)
 		if err := w.WriteFile(o.name, o.b, folder.OutputWritten{Note: note}); err != nil {
 			return nil, err
@@ -297,16 +319,24 @@ func closeRunFolder(w *folder.Writer, in *runInputs, ex *execution, opt RunOptio
 			return SignatureFile, b, err
 		}
 	}
-	rec.Head, rec.Seq, err = w.Finish(folder.RunFinished{Status: "ok", ExitCode: 0, Analyses: len(res.Analyses)}, seal)
+	if err := stopped(); err != nil {
+		return nil, err
+	}
+	rec.Head, rec.Seq, err = w.Finish(ctx, folder.RunFinished{Status: "ok", ExitCode: 0, Analyses: len(res.Analyses)}, seal)
 	if err != nil {
 		return nil, err
 	}
 	return rec, nil
 }
 
-// Failure is what the log's closing run.failed record says of err.
+// Failure is what the log's closing run.failed record says of err: its text, and the
+// signal's name when a signal stopped the run (see [InterruptedBy]).
 func Failure(ctx context.Context, err error) folder.Failure {
-	return folder.Failure{Error: err.Error()}
+	f := folder.Failure{Error: err.Error()}
+	if in := InterruptedBy(ctx); in != nil {
+		f.Signal = in.Name()
+	}
+	return f
 }
 
 // isDir reports whether path names a directory (after following symbolic links).
@@ -484,10 +514,13 @@ func orUnknown(s string) string {
 const maxPlotPoints = 1000
 
 // renderings writes report.html, summary.md and pairs.csv from the results.
-func renderings(res *results.Results, meta report.Meta, sorted [][][]float64, dir string) ([]namedBytes, error) {
+func renderings(ctx context.Context, res *results.Results, meta report.Meta, sorted [][][]float64, dir string) ([]namedBytes, error) {
 	h, err := renderReport(res, meta, sorted)
 	if err != nil {
 		return nil, err
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, fmt.Errorf("write %s: %w", SummaryFile, err)
 	}
 	texts, err := renderTexts(res, meta, dir)
 	if err != nil {

@@ -54,7 +54,7 @@ func setup(t *testing.T, extra, csv string) *spec.Plan {
 
 func runAll(t *testing.T, p *spec.Plan) *results.Results {
 	t.Helper()
-	prep, err := Prepare(p)
+	prep, err := Prepare(context.Background(), p)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -94,7 +94,7 @@ func TestExclusions(t *testing.T) {
 func TestMissingPolicyFail(t *testing.T) {
 	p := setup(t, "", "g,y\nA,1\nA,NA\nB,2\n")
 	p.Data.Missing.Policy = spec.FailOnMissing
-	_, err := Prepare(p)
+	_, err := Prepare(context.Background(), p)
 	if err == nil || !strings.Contains(err.Error(), `data.csv:3:3: column "y": missing value "NA"`) {
 		t.Errorf("got %v", err)
 	}
@@ -117,7 +117,7 @@ func TestGroupChecks(t *testing.T) {
 		{"group column missing", "", "h,y\nA,1\nB,2\n", `plan.yaml:6:10: data.group: no column "g" in`},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			_, err := Prepare(setup(t, tc.extra, tc.csv))
+			_, err := Prepare(context.Background(), setup(t, tc.extra, tc.csv))
 			if err == nil || !strings.Contains(err.Error(), tc.want) {
 				t.Errorf("got %v\nwant it to contain %s", err, tc.want)
 			}
@@ -265,7 +265,7 @@ func TestDraft(t *testing.T) {
 	os.MkdirAll(filepath.Dir(data), 0o755)
 	os.WriteFile(data, []byte("arm;score\nx;1,5\ny;2,25\nx;3\n"), 0o644)
 	seed := uint64(9)
-	text, err := Draft(DraftOptions{DataPath: data, PlanPath: filepath.Join(dir, "plan.yaml"), Group: "arm", Outcome: "score",
+	text, err := Draft(context.Background(), DraftOptions{DataPath: data, PlanPath: filepath.Join(dir, "plan.yaml"), Group: "arm", Outcome: "score",
 		Delimiter: "auto", Decimal: "auto", Alpha: 0.05, Seed: &seed, PValue: spec.Asymptotic, PostHoc: spec.NoPostHoc, Adjust: spec.NoAdjustment})
 	if err != nil {
 		t.Fatal(err)
@@ -275,7 +275,7 @@ func TestDraft(t *testing.T) {
 			t.Errorf("draft lacks %q:\n%s", want, text)
 		}
 	}
-	_, err = Draft(DraftOptions{DataPath: data, Group: "arm", Outcome: "score", Delimiter: "auto", Decimal: "auto",
+	_, err = Draft(context.Background(), DraftOptions{DataPath: data, Group: "arm", Outcome: "score", Delimiter: "auto", Decimal: "auto",
 		Alpha: 0.05, PValue: spec.Exact, PostHoc: spec.DSCF, Adjust: spec.Holm})
 	if err == nil || !strings.Contains(err.Error(), "simultaneous by construction") {
 		t.Errorf("draft of DSCF with an adjustment: %v", err)
@@ -328,7 +328,7 @@ func TestAutoFallsBack(t *testing.T) {
 	if auto.PValue.Method != "permutation" || !strings.Contains(auto.PValue.Reason, "does not fit the work budget") {
 		t.Errorf("auto: %+v", auto.PValue)
 	}
-	prep, err := Prepare(methodPlan(t, "{method: exact}", "{interval: none}", b.String()))
+	prep, err := Prepare(context.Background(), methodPlan(t, "{method: exact}", "{interval: none}", b.String()))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -343,7 +343,7 @@ func TestAutoFallsBack(t *testing.T) {
 // number of workers (Monte Carlo and bootstrap both resample).
 func TestWorkersDoNotChangeResults(t *testing.T) {
 	p := methodPlan(t, "{method: permutation, resamples: 9000}", "{interval: bootstrap, resamples: 700}", tiedToy)
-	prep, err := Prepare(p)
+	prep, err := Prepare(context.Background(), p)
 	if err != nil {
 		t.Fatal(err)
 	}

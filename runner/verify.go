@@ -122,7 +122,8 @@ func (r *VerifyReport) add(name, verdict, class, file, format string, args ...an
 // data against theirs; then it reruns the plan from the recorded inputs and seed and
 // compares the results digest, naming the first field that differs. With opt.Data it
 // reruns on that file instead and reports which conclusions at the plan's alpha changed.
-// Only an unusable folder is an error; everything else is a check.
+// Only an unusable folder, or a check stopped by ctx (its error, wrapped), is an error;
+// everything else is a check.
 //
 // It is a pipeline: read the folder → integrity checks → inputs → rerun → compare. A stage
 // runs only when the ones before it allow: nothing a log names outside the folder is read
@@ -164,6 +165,9 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 			return r, nil
 		}
 		rerunSelftest(ctx, r, f.Last(), resultsDigest, opt.Selftest)
+		if err := ctx.Err(); err != nil { // stopped, not a verdict
+			return nil, fmt.Errorf("verify %s: rerun: %w", dir, err)
+		}
 		return r, nil
 	}
 	if failed(r.Checks, ClassIntegrity) {
@@ -175,7 +179,10 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		}
 		return r, nil
 	}
-	dataPath, ok := checkInputs(r, f, opt)
+	dataPath, ok, err := checkInputs(ctx, r, f, opt)
+	if err != nil {
+		return nil, fmt.Errorf("verify %s: %w", dir, err)
+	}
 	switch {
 	case opt.IntegrityOnly:
 		r.add("rerun", Skip, "", "", "not rerun: --integrity-only")
@@ -187,7 +194,10 @@ func Verify(ctx context.Context, dir string, opt VerifyOptions) (*VerifyReport, 
 		r.add("rerun", Skip, "", "", "not rerun: the recorded data are not at hand")
 		return r, nil
 	}
-	return r, rerunAndCompare(ctx, r, f, sameBuild, dataPath, resultsDigest, opt)
+	if err := rerunAndCompare(ctx, r, f, sameBuild, dataPath, resultsDigest, opt); err != nil {
+		return nil, fmt.Errorf("verify %s: %w", dir, err)
+	}
+	return r, nil
 }
 
 // readLog reads the folder's audit log and checks the chain, the records' schema, whether
@@ -368,8 +378,9 @@ func checkTool(r *VerifyReport, f *folder.Folder) bool {
 
 // checkInputs checks the plan and data files the log names, once the log has verified:
 // the plan (the copy in the folder was checked as an output) and the data. It returns the
-// data file to rerun on (opt.Data when given) and whether it is at hand.
-func checkInputs(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, bool) {
+// data file to rerun on (opt.Data when given) and whether it is at hand; an error only when
+// ctx ended.
+func checkInputs(ctx context.Context, r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, bool, error) {
 	var plan folder.PlanBound
 	if !f.First(folder.EventPlanBound, &plan) {
 		r.add("plan file", Skip, "", "", "the log records no plan")
@@ -384,11 +395,18 @@ func checkInputs(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, 
 	switch {
 	case !f.First(folder.EventDataBound, &data):
 		r.add("data file", Skip, "", "", "the log records no data file")
-		return "", false
+		return "", false, nil
 	case opt.Data != "":
-		return opt.Data, true
+		return opt.Data, true, nil
 	}
-	got, _, err := digestInput(data.AbsolutePath)
+	// Hashing gigabytes takes seconds: given up at once when ctx ends (see await).
+	got, err := await(ctx, "hash the data file", func() (string, error) {
+		d, _, err := digestInput(data.AbsolutePath)
+		return d, err
+	})
+	if ctx.Err() != nil {
+		return "", false, fmt.Errorf("hash the data file: %w", ctx.Err())
+	}
 	switch {
 	case err != nil:
 		r.add("data file", Fail, ClassDiffer, data.AbsolutePath, "the data file %s cannot be read: %v", data.AbsolutePath, unwrapPathError(err))
@@ -396,9 +414,9 @@ func checkInputs(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, 
 		r.add("data file", Fail, ClassDiffer, data.AbsolutePath, "the data file %s has changed since the run (SHA-256 %s, recorded %s)", data.AbsolutePath, got, data.SHA256)
 	default:
 		r.add("data file", Pass, "", data.AbsolutePath, "the data are unchanged (%s)", got)
-		return data.AbsolutePath, true
+		return data.AbsolutePath, true, nil
 	}
-	return "", false
+	return "", false, nil
 }
 
 // rerunAndCompare reruns the plan copy on dataPath and compares: the results digest with
@@ -406,6 +424,9 @@ func checkInputs(r *VerifyReport, f *folder.Folder, opt VerifyOptions) (string, 
 func rerunAndCompare(ctx context.Context, r *VerifyReport, f *folder.Folder, sameBuild bool, dataPath, resultsDigest string, opt VerifyOptions) error {
 	dir := f.Dir
 	ex, err := rerun(ctx, filepath.Join(dir, PlanCopyFile), dataPath, opt.Workers)
+	if err != nil && ctx.Err() != nil { // stopped, not a verdict
+		return fmt.Errorf("rerun: %w", err)
+	}
 	var fresh *results.Results
 	if ex != nil {
 		fresh = ex.results
@@ -525,7 +546,7 @@ func rerun(ctx context.Context, planCopy, dataPath string, workers int) (*execut
 		return nil, err
 	}
 	p.Data.File = abs
-	prep, err := Prepare(p)
+	prep, err := Prepare(ctx, p)
 	if err != nil {
 		return nil, err
 	}

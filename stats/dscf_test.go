@@ -1,6 +1,7 @@
 package stats
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -120,7 +121,7 @@ func TestDSCFRankSumIdentity(t *testing.T) {
 			if dscf[n].NotComputable != "" {
 				continue
 			}
-			rs, err := RankSumTest(groups[p[0]], groups[p[1]], false, ExactBudget{MaxStates: 1, MaxWork: 1})
+			rs, err := RankSumTest(context.Background(), groups[p[0]], groups[p[1]], false, ExactBudget{MaxStates: 1, MaxWork: 1})
 			if err != nil {
 				t.Fatal(err)
 			}

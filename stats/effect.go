@@ -1,11 +1,10 @@
 package stats
 
 import (
+	"context"
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
-	"sync"
 
 	"rankplan/stats/stream"
 )
@@ -168,7 +167,10 @@ type Bootstrap struct {
 // the result is identical for any number of workers. The interval is the type 7 quantile
 // pair (Hyndman & Fan 1996) of the sorted H* values at (1 ∓ Level)/2 (percentile method;
 // Efron & Tibshirani 1993, An Introduction to the Bootstrap, ch. 13, recalled from memory).
-func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error) {
+//
+// It returns ctx's error (wrapped) when ctx is done before the last resample: the context
+// is checked before every resample and every 65536 draws within one.
+func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOptions) (Bootstrap, error) {
 	if err := checkRankingDeep(r); err != nil {
 		return Bootstrap{}, fmt.Errorf("bootstrap: %w", err)
 	}
@@ -186,35 +188,32 @@ func KruskalWallisBootstrap(r *Ranking, opt BootstrapOptions) (Bootstrap, error)
 	hs := make([]float64, m)
 	degenerate := make([]bool, m)
 	blocks := (m + BootstrapBlockSize - 1) / BootstrapBlockSize
-	workers := opt.Workers
-	if workers <= 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	workers = int(min(int64(workers), blocks))
-
-	next := make(chan int64)
+	workers := resolveWorkers(opt.Workers, blocks)
 	progress := newProgressCounter(opt.Progress, m)
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			w := newBootWorker(r, bi)
-			for j := range next {
-				s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
-				end := min((j+1)*BootstrapBlockSize, m)
-				for b := j * BootstrapBlockSize; b < end; b++ {
-					hs[b], degenerate[b] = w.resample(s)
-				}
-				progress.add(end - j*BootstrapBlockSize)
+	scratch := make([]*bootWorker, workers)
+	done := ctx.Done()
+	err = runBlocks(ctx, blocks, workers, nil, func(w int, j int64) error {
+		if scratch[w] == nil {
+			scratch[w] = newBootWorker(r, bi)
+			scratch[w].done = done
+		}
+		s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
+		end := min((j+1)*BootstrapBlockSize, m)
+		for b := j * BootstrapBlockSize; b < end; b++ {
+			if cancelled(done) {
+				return ctx.Err()
 			}
-		}()
+			hs[b], degenerate[b] = scratch[w].resample(s)
+			if scratch[w].stopped {
+				return ctx.Err()
+			}
+		}
+		progress.add(end - j*BootstrapBlockSize)
+		return nil
+	})
+	if err != nil {
+		return Bootstrap{}, fmt.Errorf("bootstrap: %w", err)
 	}
-	for j := int64(0); j < blocks; j++ {
-		next <- j
-	}
-	close(next)
-	wg.Wait()
 
 	out := Bootstrap{Level: opt.Level, Resamples: m}
 	for _, d := range degenerate {
@@ -333,6 +332,8 @@ type bootWorker struct {
 	runCount [][]int32 // byGroup: runCount[i][l], how often group i drew from its run l
 	rankSum2 []int64
 	blocks   []Block
+	done     <-chan struct{} // the context's Done channel, checked every cancelEvery draws (nil: never)
+	stopped  bool            // a resample was given up because done was closed
 }
 
 func newBootWorker(r *Ranking, bi *bootIndex) *bootWorker {
@@ -353,7 +354,8 @@ func newBootWorker(r *Ranking, bi *bootIndex) *bootWorker {
 // one of the pooled sample's distinct values, so the resample is ranked by counting how
 // often each distinct value was drawn (no comparison sort): a value drawn t times after b
 // smaller draws has the doubled midrank 2b + t + 1, the same integers, tie blocks and H*
-// as sorting the resample would give.
+// as sorting the resample would give. When w.done is closed during the draws it gives
+// the resample up and sets w.stopped; the result is then meaningless.
 func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool) {
 	r, bi := w.r, w.bi
 	clear(w.count)
@@ -362,7 +364,11 @@ func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool)
 			n := uint64(len(vals))
 			g, cnt := &bi.runs[i], w.runCount[i]
 			clear(cnt)
-			for range n {
+			for q := range n {
+				if q&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
+					w.stopped = true
+					return 0, false
+				}
 				j := int32(s.Below(n))
 				l := g.coarse[j>>g.shift]
 				for g.bounds[l+1] <= j {
@@ -380,6 +386,10 @@ func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool)
 			n := len(vals)
 			idx, dr := bi.index[off:off+n], w.draws[off:off+n]
 			for j := range dr {
+				if j&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
+					w.stopped = true
+					return 0, false
+				}
 				u := idx[s.Below(uint64(n))]
 				dr[j] = u
 				w.count[u]++

@@ -1,6 +1,7 @@
 package stats
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -85,7 +86,7 @@ func TestBootstrapReference(t *testing.T) {
 	for _, d := range ref.Designs {
 		r := bootRanking(t, d.Groups)
 		for _, workers := range []int{1, 2, 3, 8} {
-			got, err := KruskalWallisBootstrap(r, BootstrapOptions{Seed: d.Seed, AnalysisID: d.AnalysisID,
+			got, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: d.Seed, AnalysisID: d.AnalysisID,
 				Resamples: d.Resamples, Level: d.Level, Workers: workers})
 			if err != nil {
 				t.Fatal(err)
@@ -105,14 +106,14 @@ func closeRel(a, b, rel float64) bool {
 func TestBootstrapStreams(t *testing.T) {
 	r := bootRanking(t, [][]float64{{1.5, 2.25, 3, 8}, {4, 5.5, 6, 7, 9}, {0.5, 10, 11}})
 	opt := BootstrapOptions{Seed: 1, AnalysisID: "a", Resamples: 1000, Level: 0.95}
-	base, err := KruskalWallisBootstrap(r, opt)
+	base, err := KruskalWallisBootstrap(context.Background(), r, opt)
 	if err != nil {
 		t.Fatal(err)
 	}
 	opt.Seed = 2
-	other, _ := KruskalWallisBootstrap(r, opt)
+	other, _ := KruskalWallisBootstrap(context.Background(), r, opt)
 	opt.Seed, opt.AnalysisID = 1, "b"
-	otherID, _ := KruskalWallisBootstrap(r, opt)
+	otherID, _ := KruskalWallisBootstrap(context.Background(), r, opt)
 	if base == other || base == otherID {
 		t.Errorf("seed or analysis id did not change the stream: %+v %+v %+v", base, other, otherID)
 	}
@@ -120,7 +121,7 @@ func TestBootstrapStreams(t *testing.T) {
 		t.Errorf("interval %+v", base)
 	}
 	for _, bad := range []BootstrapOptions{{Resamples: 0, Level: 0.95}, {Resamples: 10, Level: 1}, {Resamples: 10, Level: math.NaN()}} {
-		if _, err := KruskalWallisBootstrap(r, bad); err == nil {
+		if _, err := KruskalWallisBootstrap(context.Background(), r, bad); err == nil {
 			t.Errorf("%+v: no error", bad)
 		}
 	}
@@ -137,7 +138,7 @@ func BenchmarkKruskalWallisBootstrap(b *testing.B) {
 	r, _ := Rank(g, v, 4)
 	b.ReportAllocs()
 	for b.Loop() {
-		if _, err := KruskalWallisBootstrap(r, BootstrapOptions{Seed: 1, AnalysisID: "x", Resamples: 2000, Level: 0.95}); err != nil {
+		if _, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 1, AnalysisID: "x", Resamples: 2000, Level: 0.95}); err != nil {
 			b.Fatal(err)
 		}
 	}
@@ -304,7 +305,7 @@ func TestEffectIntervalSmallGroups(t *testing.T) {
 		if !(ei.Low <= eta && eta <= ei.High && ei.Low <= eps && eps <= ei.High) {
 			t.Errorf("%v: estimates %v, %v outside [%v, %v]", groups, eps, eta, ei.Low, ei.High)
 		}
-		b, err := KruskalWallisBootstrap(r, BootstrapOptions{Seed: 1, AnalysisID: "a", Resamples: 2000, Level: 0.95})
+		b, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 1, AnalysisID: "a", Resamples: 2000, Level: 0.95})
 		if err != nil {
 			t.Fatal(err)
 		}

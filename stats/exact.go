@@ -1,12 +1,12 @@
 package stats
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
 	"math/bits"
 	"runtime"
-	"sync"
 	"sync/atomic"
 )
 
@@ -147,7 +147,13 @@ type Exact struct {
 // sizes need about k·(2 log2 N + log2 n) bits). It returns [ErrAllTied] (wrapped) when
 // every observation is tied, and an error when r is nil or inconsistent or a budget
 // field is negative. It never modifies r.
-func KruskalWallisExact(r *Ranking, budget ExactBudget) (Exact, error) {
+//
+// It returns ctx's error (wrapped) when ctx is done before the programme ends. The
+// context is checked before each chunk of exactChunkStates (4096) states of a layer is
+// extended, before each partition of a layer's merge and every 4096 final states, so
+// at most a chunk's work per goroutine (4096 states and their transitions: milliseconds,
+// tens of milliseconds for the widest tie blocks) is done after it ends.
+func KruskalWallisExact(ctx context.Context, r *Ranking, budget ExactBudget) (Exact, error) {
 	if err := checkRankingDeep(r); err != nil {
 		return Exact{}, fmt.Errorf("exact p-value: %w", err)
 	}
@@ -163,7 +169,11 @@ func KruskalWallisExact(r *Ranking, budget ExactBudget) (Exact, error) {
 		return Exact{}, err
 	}
 	obs := pl.observed(r.Counts, r.RankSum2)
-	return pl.run(b, obs, nil, true)
+	ex, err := pl.run(ctx, b, obs, nil, true)
+	if err != nil && !errors.Is(err, ErrExactBudget) {
+		return Exact{}, fmt.Errorf("exact p-value: %w", err)
+	}
+	return ex, err
 }
 
 // resolve replaces zero fields by the defaults and rejects negative ones.
@@ -503,46 +513,20 @@ func exactHash(a, b uint64) uint64 {
 	return h * 0xD6E8FEB86659FD93
 }
 
-// parallel runs f(i) for i = 0..n-1 on up to len(ls.workers) goroutines, i being
-// taken in increasing order; f gets the worker. stop (may be nil) is polled before
-// an i is taken: once it returns true no further i is started, and the i done are
-// 0..m-1 for some m.
-func (ls *exactLayers) parallel(n int, stop func() bool, f func(i int, wk *exactWorker)) {
-	nw := min(len(ls.workers), n)
-	if nw <= 1 {
-		for i := range n {
-			if stop != nil && stop() {
-				return
-			}
-			f(i, ls.workers[0])
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for _, wk := range ls.workers[:nw] {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				// Check before taking an index, so that every index taken is done:
-				// the indices done are then always 0..m-1 for some m.
-				if stop != nil && stop() {
-					return
-				}
-				i := int(next.Add(1) - 1)
-				if i >= n {
-					return
-				}
-				f(i, wk)
-			}
-		}()
-	}
-	wg.Wait()
+// work runs f(i, worker) for i = 0..n-1 on the layers' goroutines by [runBlocks]: i
+// taken in increasing order, ctx checked and stop (may be nil) polled before each i, so
+// the i done are always 0..m-1 for some m. It returns ctx's error when ctx ended the
+// work, else nil.
+func (ls *exactLayers) work(ctx context.Context, n int, stop func() bool, f func(i int, wk *exactWorker)) error {
+	return runBlocks(ctx, int64(n), len(ls.workers), stop, func(w int, j int64) error {
+		f(int(j), ls.workers[w])
+		return nil
+	})
 }
 
-// merge turns the successors of the chunks 0..nc-1 into the new current layer.
-func (ls *exactLayers) merge(nc int) {
+// merge turns the successors of the chunks 0..nc-1 into the new current layer; it
+// returns ctx's error, and leaves the layer unusable, when ctx ends it.
+func (ls *exactLayers) merge(ctx context.Context, nc int) error {
 	n := 0
 	for _, c := range ls.chunks[:nc] {
 		n += len(c.w)
@@ -598,9 +582,11 @@ func (ls *exactLayers) merge(nc int) {
 		}
 	}
 	// Merge each partition in place.
-	ls.parallel(parts, nil, func(p int, wk *exactWorker) {
+	if err := ls.work(ctx, parts, nil, func(p int, wk *exactWorker) {
 		ls.merged[p] = ls.mergePart(ls.start[p], ls.start[p+1], bitsP, wk)
-	})
+	}); err != nil {
+		return err
+	}
 	// Close up the partitions.
 	out := 0
 	for p := range parts {
@@ -616,6 +602,7 @@ func (ls *exactLayers) merge(nc int) {
 	if ls.wide {
 		dst.k1 = dst.k1[:out]
 	}
+	return nil
 }
 
 // mergePart merges the successors cur[lo:hi] of one partition and writes the merged
@@ -722,8 +709,9 @@ var exactWorkers = func() int { return min(runtime.GOMAXPROCS(0), exactMaxWorker
 // run executes the programme and returns P(T·L >= obs). With visit non-nil it also
 // calls visit with T·L and the probability of every final state, in a fixed order.
 // States are settled early by the bounds of settle only when prune is set, visit is
-// nil and pl.prune allows it.
-func (pl *exactPlan) run(b ExactBudget, obs exactU128, visit func(t exactU128, w float64), prune bool) (Exact, error) {
+// nil and pl.prune allows it. It returns ctx's error when ctx ends the programme (see
+// [KruskalWallisExact]).
+func (pl *exactPlan) run(ctx context.Context, b ExactBudget, obs exactU128, visit func(t exactU128, w float64), prune bool) (Exact, error) {
 	k := pl.k
 	prune = prune && pl.prune && visit == nil
 	ls := &exactLayers{wide: pl.wide, big: int(min(b.MaxStates, exactMaxReserve))}
@@ -768,12 +756,14 @@ func (pl *exactPlan) run(b ExactBudget, obs exactU128, visit func(t exactU128, w
 					int64(ncur)+finishedSucc.Load() > b.MaxStates
 			}
 			st := exactStep{done: done, doneS: doneS, d: blk.Rank2, per: per, rem: rem, cb: cb, obs: int64(obs.lo), prune: prune}
-			ls.parallel(nc, stop, func(ci int, wk *exactWorker) {
+			if err := ls.work(ctx, nc, stop, func(ci int, wk *exactWorker) {
 				c := &ls.chunks[ci]
 				pl.expand(c, &ls.cur, ci*exactChunkStates, min(ncur, (ci+1)*exactChunkStates), st, &wk.sc)
 				finishedWork.Add(c.work)
 				finishedSucc.Add(int64(len(c.w)))
-			})
+			}); err != nil {
+				return Exact{}, err // the chunks not done must not be read
+			}
 			// Combine the chunks in order, checking the budget after each.
 			live := int64(ncur)
 			for ci := range nc {
@@ -790,7 +780,9 @@ func (pl *exactPlan) run(b ExactBudget, obs exactU128, visit func(t exactU128, w
 			}
 			done += per
 			doneS += int64(per) * blk.Rank2
-			ls.merge(nc)
+			if err := ls.merge(ctx, nc); err != nil {
+				return Exact{}, err
+			}
 			if b.Progress != nil {
 				b.Progress(res.Work, b.MaxWork)
 			}
@@ -800,7 +792,11 @@ func (pl *exactPlan) run(b ExactBudget, obs exactU128, visit func(t exactU128, w
 	// The last block fills every remaining place.
 	d := pl.blocks[last].Rank2
 	sc := &ls.workers[0].sc
+	halt := ctx.Done()
 	for idx := range ls.cur.w {
+		if idx%exactChunkStates == 0 && cancelled(halt) {
+			return Exact{}, ctx.Err()
+		}
 		var k1 uint64
 		if pl.wide {
 			k1 = ls.cur.k1[idx]

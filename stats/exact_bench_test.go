@@ -1,6 +1,7 @@
 package stats
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -79,7 +80,7 @@ func BenchmarkKruskalWallisExact(b *testing.B) {
 			var err error
 			b.ReportAllocs()
 			for b.Loop() {
-				res, err = KruskalWallisExact(r, ExactBudget{})
+				res, err = KruskalWallisExact(context.Background(), r, ExactBudget{})
 			}
 			if err != nil {
 				if !errors.Is(err, ErrExactBudget) {

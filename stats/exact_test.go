@@ -1,6 +1,7 @@
 package stats
 
 import (
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -143,7 +144,7 @@ func exactDistribution(t *testing.T, r *Ranking) ([]exactU128, []float64, *exact
 	}
 	var ts []exactU128
 	var ws []float64
-	_, err = pl.run(ExactBudget{MaxStates: 1 << 40, MaxWork: 1 << 50}, exactU128{}, func(v exactU128, w float64) {
+	_, err = pl.run(context.Background(), ExactBudget{MaxStates: 1 << 40, MaxWork: 1 << 50}, exactU128{}, func(v exactU128, w float64) {
 		ts = append(ts, v)
 		ws = append(ws, w)
 	}, false)
@@ -193,7 +194,7 @@ func TestKruskalWallisExactBruteForce(t *testing.T) {
 	for _, c := range exactBruteCases {
 		t.Run(c.name, func(t *testing.T) {
 			r := mustRank(t, c.groups)
-			got, err := KruskalWallisExact(r, ExactBudget{})
+			got, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -216,7 +217,7 @@ func TestKruskalWallisExactTiedToy(t *testing.T) {
 	if b := exactBrute(t, groups); b.Cmp(want) != 0 {
 		t.Fatalf("brute force gives %s, METHODS.md §1.5 47/1925", b.RatString())
 	}
-	got, err := KruskalWallisExact(mustRank(t, groups), ExactBudget{})
+	got, err := KruskalWallisExact(context.Background(), mustRank(t, groups), ExactBudget{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -250,7 +251,7 @@ func TestKruskalWallisExactRandomDesigns(t *testing.T) {
 			continue
 		}
 		tested++
-		got, err := KruskalWallisExact(r, ExactBudget{})
+		got, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 		if err != nil {
 			t.Fatalf("%v: %v", groups, err)
 		}
@@ -275,7 +276,7 @@ func TestKruskalWallisExactScipy(t *testing.T) {
 			if !relClose(kw.H, c.H, 1e-12) {
 				t.Errorf("H* = %.17g, scipy 1.10.1 stats.kruskal %.17g", kw.H, c.H)
 			}
-			got, err := KruskalWallisExact(r, ExactBudget{})
+			got, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -392,7 +393,7 @@ func TestKruskalWallisExactCriticalValues(t *testing.T) {
 // TestKruskalWallisExactScipy.)
 func TestKruskalWallisExactPlantGrowth(t *testing.T) {
 	r := mustRank(t, plantGrowth)
-	got, err := KruskalWallisExact(r, ExactBudget{})
+	got, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -422,7 +423,7 @@ func TestKruskalWallisExactPlantGrowth(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	full, err := pl.run(ExactBudget{MaxStates: 1 << 40, MaxWork: 1 << 50}, pl.observed(r.Counts, r.RankSum2), nil, false)
+	full, err := pl.run(context.Background(), ExactBudget{MaxStates: 1 << 40, MaxWork: 1 << 50}, pl.observed(r.Counts, r.RankSum2), nil, false)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -471,8 +472,8 @@ func TestKruskalWallisExactPruningAgrees(t *testing.T) {
 				}
 				obs := pl.observed(r.Counts, r.RankSum2)
 				budget := ExactBudget{MaxStates: 1 << 40, MaxWork: 1 << 50}
-				pruned, err1 := pl.run(budget, obs, nil, true)
-				full, err2 := pl.run(budget, obs, nil, false)
+				pruned, err1 := pl.run(context.Background(), budget, obs, nil, true)
+				full, err2 := pl.run(context.Background(), budget, obs, nil, false)
 				if err1 != nil || err2 != nil {
 					t.Fatalf("%s: %v, %v", name, err1, err2)
 				}
@@ -623,9 +624,9 @@ func TestKruskalWallisExactWholeBlocks(t *testing.T) {
 			}
 			obs := pl.observed(r.Counts, r.RankSum2)
 			budget := ExactBudget{MaxStates: 1 << 40, MaxWork: 1 << 50}
-			a, err1 := pl.run(budget, obs, nil, true)
+			a, err1 := pl.run(context.Background(), budget, obs, nil, true)
 			pl.wholeMax = 0
-			b, err2 := pl.run(budget, obs, nil, true)
+			b, err2 := pl.run(context.Background(), budget, obs, nil, true)
 			if err1 != nil || err2 != nil {
 				t.Fatal(err1, err2)
 			}
@@ -657,7 +658,7 @@ func TestKruskalWallisExactWideKey(t *testing.T) {
 	if slices.Max(pl.word) != 1 {
 		t.Fatalf("the key fits one word (%v); the test needs two", pl.word)
 	}
-	got, err := KruskalWallisExact(r, ExactBudget{})
+	got, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -716,7 +717,7 @@ func TestKruskalWallisExactWorkers(t *testing.T) {
 		var first Exact
 		for i, workers := range []int{1, 2, 3, 4} {
 			exactWorkers = func() int { return workers }
-			got, err := KruskalWallisExact(mustRank(t, groups), ExactBudget{})
+			got, err := KruskalWallisExact(context.Background(), mustRank(t, groups), ExactBudget{})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -738,7 +739,7 @@ func TestKruskalWallisExactWorkers(t *testing.T) {
 	for i, workers := range []int{1, 2, 4} {
 		exactWorkers = func() int { return workers }
 		for _, b := range []ExactBudget{{MaxStates: 200_000}, {MaxWork: 300_000}} {
-			_, err := KruskalWallisExact(over, b)
+			_, err := KruskalWallisExact(context.Background(), over, b)
 			if !errors.Is(err, ErrExactBudget) {
 				t.Fatalf("%d workers, %+v: err = %v", workers, b, err)
 			}
@@ -859,7 +860,7 @@ func TestKruskalWallisExactTwoSample(t *testing.T) {
 	ref := loadExactReference(t)
 	for _, c := range ref.MannWhitney {
 		t.Run(c.Name, func(t *testing.T) {
-			got, err := KruskalWallisExact(mustRank(t, [][]float64{c.X, c.Y}), ExactBudget{})
+			got, err := KruskalWallisExact(context.Background(), mustRank(t, [][]float64{c.X, c.Y}), ExactBudget{})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -886,7 +887,7 @@ func TestKruskalWallisExactTwoSample(t *testing.T) {
 	}
 	for _, c := range tied {
 		t.Run("ties/"+c.name, func(t *testing.T) {
-			got, err := KruskalWallisExact(mustRank(t, [][]float64{c.x, c.y}), ExactBudget{})
+			got, err := KruskalWallisExact(context.Background(), mustRank(t, [][]float64{c.x, c.y}), ExactBudget{})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -908,7 +909,7 @@ func TestKruskalWallisExactInvariance(t *testing.T) {
 		{3.5, 5, 6, 9, 9.5, 12},
 		{0.5, 1, 2},
 	}
-	base, err := KruskalWallisExact(mustRank(t, groups), ExactBudget{})
+	base, err := KruskalWallisExact(context.Background(), mustRank(t, groups), ExactBudget{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -923,7 +924,7 @@ func TestKruskalWallisExactInvariance(t *testing.T) {
 	}
 	check := func(name string, r *Ranking) {
 		t.Helper()
-		got, err := KruskalWallisExact(r, ExactBudget{})
+		got, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 		if err != nil {
 			t.Fatalf("%s: %v", name, err)
 		}
@@ -958,8 +959,8 @@ func TestKruskalWallisExactInvariance(t *testing.T) {
 // identical bits.
 func TestKruskalWallisExactDeterministic(t *testing.T) {
 	r := mustRank(t, [][]float64{{1, 2, 2, 5, 9, 3}, {4, 4, 6, 7, 1}, {8, 8, 10, 2, 11, 12, 0}})
-	a, err1 := KruskalWallisExact(r, ExactBudget{})
-	b, err2 := KruskalWallisExact(r, ExactBudget{})
+	a, err1 := KruskalWallisExact(context.Background(), r, ExactBudget{})
+	b, err2 := KruskalWallisExact(context.Background(), r, ExactBudget{})
 	if err1 != nil || err2 != nil {
 		t.Fatal(err1, err2)
 	}
@@ -981,7 +982,7 @@ func TestKruskalWallisExactDoesNotMutate(t *testing.T) {
 	for i, s := range r.Sorted {
 		before.Sorted[i] = slices.Clone(s)
 	}
-	if _, err := KruskalWallisExact(r, ExactBudget{}); err != nil {
+	if _, err := KruskalWallisExact(context.Background(), r, ExactBudget{}); err != nil {
 		t.Fatal(err)
 	}
 	if !reflect.DeepEqual(r, before) {
@@ -992,46 +993,46 @@ func TestKruskalWallisExactDoesNotMutate(t *testing.T) {
 // TestKruskalWallisExactEdgeCases covers p = 1 designs, errors and the budget.
 func TestKruskalWallisExactEdgeCases(t *testing.T) {
 	t.Run("N=2", func(t *testing.T) {
-		got, err := KruskalWallisExact(mustRank(t, [][]float64{{1}, {2}}), ExactBudget{})
+		got, err := KruskalWallisExact(context.Background(), mustRank(t, [][]float64{{1}, {2}}), ExactBudget{})
 		if err != nil || got.P != 1 {
 			t.Errorf("got %+v, %v; want P = 1", got, err)
 		}
 	})
 	t.Run("all groups of size 1", func(t *testing.T) {
 		// Without ties H = N-1 for every assignment, so p = 1.
-		got, err := KruskalWallisExact(mustRank(t, [][]float64{{5}, {3}, {9}, {1}, {2}, {7}}), ExactBudget{})
+		got, err := KruskalWallisExact(context.Background(), mustRank(t, [][]float64{{5}, {3}, {9}, {1}, {2}, {7}}), ExactBudget{})
 		if err != nil || !relClose(got.P, 1, 1e-15) {
 			t.Errorf("got %+v, %v; want P = 1", got, err)
 		}
 	})
 	t.Run("identical groups", func(t *testing.T) {
 		// Every group has the same rank sum: H = 0, the smallest value, so p = 1.
-		got, err := KruskalWallisExact(mustRank(t, [][]float64{{1, 6}, {2, 5}, {3, 4}}), ExactBudget{})
+		got, err := KruskalWallisExact(context.Background(), mustRank(t, [][]float64{{1, 6}, {2, 5}, {3, 4}}), ExactBudget{})
 		if err != nil || !relClose(got.P, 1, 1e-15) {
 			t.Errorf("got %+v, %v; want P = 1", got, err)
 		}
 	})
 	t.Run("all tied", func(t *testing.T) {
-		_, err := KruskalWallisExact(mustRank(t, [][]float64{{2, 2}, {2, 2, 2}}), ExactBudget{})
+		_, err := KruskalWallisExact(context.Background(), mustRank(t, [][]float64{{2, 2}, {2, 2, 2}}), ExactBudget{})
 		if !errors.Is(err, ErrAllTied) {
 			t.Errorf("err = %v, want ErrAllTied", err)
 		}
 	})
 	t.Run("nil", func(t *testing.T) {
-		if _, err := KruskalWallisExact(nil, ExactBudget{}); err == nil || errors.Is(err, ErrExactBudget) {
+		if _, err := KruskalWallisExact(context.Background(), nil, ExactBudget{}); err == nil || errors.Is(err, ErrExactBudget) {
 			t.Errorf("err = %v, want a nil-ranking error", err)
 		}
 	})
 	t.Run("inconsistent", func(t *testing.T) {
 		r := mustRank(t, [][]float64{{1, 2}, {3, 4}})
 		r.Counts[0] = 3
-		_, err := KruskalWallisExact(r, ExactBudget{})
+		_, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 		if err == nil || !strings.Contains(err.Error(), "inconsistent ranking") {
 			t.Errorf("err = %v, want an inconsistent-ranking error", err)
 		}
 	})
 	t.Run("negative budget", func(t *testing.T) {
-		_, err := KruskalWallisExact(mustRank(t, [][]float64{{1, 2}, {3, 4}}), ExactBudget{MaxWork: -1})
+		_, err := KruskalWallisExact(context.Background(), mustRank(t, [][]float64{{1, 2}, {3, 4}}), ExactBudget{MaxWork: -1})
 		if err == nil || errors.Is(err, ErrExactBudget) {
 			t.Errorf("err = %v, want a negative-budget error", err)
 		}
@@ -1049,7 +1050,7 @@ func TestKruskalWallisExactEdgeCases(t *testing.T) {
 	large := mustRank(t, groups)
 	for _, b := range []ExactBudget{{MaxStates: 1000}, {MaxWork: 5000}} {
 		t.Run(fmt.Sprintf("over budget %+v", b), func(t *testing.T) {
-			_, err := KruskalWallisExact(large, b)
+			_, err := KruskalWallisExact(context.Background(), large, b)
 			if !errors.Is(err, ErrExactBudget) {
 				t.Fatalf("err = %v, want ErrExactBudget", err)
 			}
@@ -1065,7 +1066,7 @@ func TestKruskalWallisExactEdgeCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		_, err = pl.run(ExactBudget{MaxStates: 1 << 40, MaxWork: 10_000}, pl.observed(large.Counts, large.RankSum2), nil, true)
+		_, err = pl.run(context.Background(), ExactBudget{MaxStates: 1 << 40, MaxWork: 10_000}, pl.observed(large.Counts, large.RankSum2), nil, true)
 		if !errors.Is(err, ErrExactBudget) || !strings.Contains(err.Error(), "units of work (budget 10000)") {
 			t.Fatalf("err = %v", err)
 		}
@@ -1082,7 +1083,7 @@ func TestKruskalWallisExactEdgeCases(t *testing.T) {
 		if testing.Short() {
 			t.Skip("runs up to the default budget")
 		}
-		_, err := KruskalWallisExact(large, ExactBudget{})
+		_, err := KruskalWallisExact(context.Background(), large, ExactBudget{})
 		if !errors.Is(err, ErrExactBudget) {
 			t.Errorf("err = %v, want ErrExactBudget", err)
 		}
@@ -1092,7 +1093,7 @@ func TestKruskalWallisExactEdgeCases(t *testing.T) {
 		for i := range 30 {
 			groups = append(groups, []float64{float64(i), float64(i) + 0.5, float64(i) + 0.25})
 		}
-		_, err := KruskalWallisExact(mustRank(t, groups), ExactBudget{})
+		_, err := KruskalWallisExact(context.Background(), mustRank(t, groups), ExactBudget{})
 		if !errors.Is(err, ErrExactBudget) || !strings.Contains(err.Error(), "127 bits") {
 			t.Errorf("err = %v, want ErrExactBudget about the state size", err)
 		}
@@ -1109,7 +1110,7 @@ func TestKruskalWallisExactEdgeCases(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		_, err = KruskalWallisExact(r, ExactBudget{})
+		_, err = KruskalWallisExact(context.Background(), r, ExactBudget{})
 		if !errors.Is(err, ErrExactBudget) || !strings.Contains(err.Error(), "65535") {
 			t.Errorf("err = %v, want ErrExactBudget about N", err)
 		}
@@ -1130,7 +1131,7 @@ func ExampleKruskalWallisExact() {
 		fmt.Println(err)
 		return
 	}
-	ex, err := KruskalWallisExact(r, ExactBudget{})
+	ex, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 	if err != nil {
 		fmt.Println(err)
 		return

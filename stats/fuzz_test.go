@@ -372,7 +372,7 @@ func FuzzSampleStats(f *testing.F) {
 					}
 				})
 				within(t, "RankSumTest", func() {
-					rs, err := RankSumTest(x, y, level > 0.5, in.budget)
+					rs, err := RankSumTest(context.Background(), x, y, level > 0.5, in.budget)
 					if err != nil {
 						return
 					}
@@ -465,7 +465,7 @@ func FuzzSampleStats(f *testing.F) {
 			}
 		}
 		within(t, "KruskalWallisExact", func() {
-			ex, err := KruskalWallisExact(r, in.budget)
+			ex, err := KruskalWallisExact(context.Background(), r, in.budget)
 			if err == nil && intact && !unit(ex.P) {
 				t.Fatalf("KruskalWallisExact: %+v", ex)
 			}
@@ -478,7 +478,7 @@ func FuzzSampleStats(f *testing.F) {
 			}
 		})
 		within(t, "KruskalWallisBootstrap", func() {
-			b, err := KruskalWallisBootstrap(r, BootstrapOptions{Seed: 1, AnalysisID: "fuzz", Resamples: in.resamp, Level: level, Workers: 1})
+			b, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 1, AnalysisID: "fuzz", Resamples: in.resamp, Level: level, Workers: 1})
 			if err == nil && intact && !(b.HLow >= 0 && b.HLow <= b.HHigh && b.HHigh <= float64(n-1)) {
 				t.Fatalf("KruskalWallisBootstrap: %+v", b)
 			}

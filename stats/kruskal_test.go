@@ -277,13 +277,16 @@ func TestDeepRankingChecks(t *testing.T) {
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
 			calls := map[string]func(r *Ranking) error{
-				"exact": func(r *Ranking) error { _, err := KruskalWallisExact(r, ExactBudget{}); return err },
+				"exact": func(r *Ranking) error {
+					_, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
+					return err
+				},
 				"permutation": func(r *Ranking) error {
 					_, err := KruskalWallisPermutation(context.Background(), group, values, 3, r, PermutationOptions{Resamples: 10, Workers: 1})
 					return err
 				},
 				"bootstrap": func(r *Ranking) error {
-					_, err := KruskalWallisBootstrap(r, BootstrapOptions{Resamples: 10, Level: 0.9, Workers: 1})
+					_, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Resamples: 10, Level: 0.9, Workers: 1})
 					return err
 				},
 				"dscf": func(r *Ranking) error { _, err := DSCFTest(r, AllPairs(3)); return err },

@@ -6,10 +6,7 @@ import (
 	"fmt"
 	"math"
 	"math/bits"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
 
 	"rankplan/stats/stream"
 )
@@ -113,7 +110,8 @@ type PermutationOptions struct {
 //
 // It returns [ErrAllTied] (wrapped) when every observation is tied, an error when m < 1,
 // when N >= 2^31, when r is not the Ranking of (group, values, k), and ctx's error if ctx
-// is cancelled (checked before every resample). It does not modify group, values or r.
+// is cancelled (checked before every resample, and every 65536 draws within one). It
+// does not modify group, values or r.
 // Memory is O(N) per worker plus O(N) shared, allocated once; a resample allocates
 // nothing and costs O(N + k).
 func KruskalWallisPermutation(ctx context.Context, group []int32, values []float64, k int, r *Ranking, opt PermutationOptions) (Permutation, error) {
@@ -377,47 +375,31 @@ func permRowRanks(group []int32, values []float64, r *Ranking) ([]uint32, error)
 	return rank2, nil
 }
 
-// run draws the resamples of opt on the workers and returns the number of exceedances.
+// run draws the resamples of opt on the workers (see [runBlocks]) and returns the
+// number of exceedances.
 func (ps *permSetup) run(ctx context.Context, opt PermutationOptions) (int64, error) {
 	m := opt.Resamples
 	blocks := (m-1)/PermutationBlockSize + 1
-	workers := opt.Workers
-	if workers <= 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	workers = int(min(int64(workers), blocks))
-
-	var next atomic.Int64
+	workers := resolveWorkers(opt.Workers, blocks)
 	progress := newProgressCounter(opt.Progress, m)
 	counts := make([]int64, workers)
-	errs := make([]error, workers)
-	var wg sync.WaitGroup
-	for w := range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			a := make([]int32, len(ps.labels))
-			sums := make([]uint64, ps.k)
-			for {
-				j := next.Add(1) - 1
-				if j >= blocks {
-					return
-				}
-				start := j * PermutationBlockSize
-				end := min(start+PermutationBlockSize, m)
-				c, err := ps.block(ctx, opt, uint64(j), end-start, a, sums)
-				if err != nil {
-					errs[w] = err
-					next.Store(blocks) // stop the other workers at their next block
-					return
-				}
-				counts[w] += c
-				progress.add(end - start)
-			}
-		}()
-	}
-	wg.Wait()
-	if err := errors.Join(errs...); err != nil {
+	labels := make([][]int32, workers)
+	sums := make([][]uint64, workers)
+	err := runBlocks(ctx, blocks, workers, nil, func(w int, j int64) error {
+		if labels[w] == nil {
+			labels[w], sums[w] = make([]int32, len(ps.labels)), make([]uint64, ps.k)
+		}
+		start := j * PermutationBlockSize
+		end := min(start+PermutationBlockSize, m)
+		c, err := ps.block(ctx, opt, uint64(j), end-start, labels[w], sums[w])
+		if err != nil {
+			return err
+		}
+		counts[w] += c
+		progress.add(end - start)
+		return nil
+	})
+	if err != nil {
 		return 0, err
 	}
 	var b int64
@@ -436,15 +418,16 @@ func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64
 	d := ps.rank2
 	var exceed int64
 	for range count {
-		select {
-		case <-done:
+		if cancelled(done) {
 			return 0, ctx.Err()
-		default:
 		}
 		// Fisher-Yates exactly as stream.ShuffleInt32, adding each position's rank to
 		// its group as soon as the position's label is final.
 		clear(sums)
 		for i := len(a) - 1; i > 0; i-- {
+			if i&(cancelEvery-1) == 0 && cancelled(done) {
+				return 0, ctx.Err()
+			}
 			x := s.Below(uint64(i) + 1)
 			a[i], a[x] = a[x], a[i]
 			sums[a[i]] += uint64(d[i])

@@ -87,13 +87,13 @@ func TestBootstrapProgress(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			opt := BootstrapOptions{Seed: 9, AnalysisID: "progress", Resamples: tc.resamples, Level: 0.95, Workers: tc.workers}
-			want, err := KruskalWallisBootstrap(r, opt)
+			want, err := KruskalWallisBootstrap(context.Background(), r, opt)
 			if err != nil {
 				t.Fatal(err)
 			}
 			var log progressLog
 			opt.Progress = log.f
-			got, err := KruskalWallisBootstrap(r, opt)
+			got, err := KruskalWallisBootstrap(context.Background(), r, opt)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -111,7 +111,7 @@ func TestBootstrapProgress(t *testing.T) {
 // (enumeration by bruteExactP in this package).
 func TestExactProgress(t *testing.T) {
 	r := mustRank(t, inventedP03)
-	want, err := KruskalWallisExact(r, ExactBudget{})
+	want, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -119,7 +119,7 @@ func TestExactProgress(t *testing.T) {
 		t.Fatalf("exact p %v, want 2857/9240", want.P)
 	}
 	var log progressLog
-	got, err := KruskalWallisExact(r, ExactBudget{Progress: log.f})
+	got, err := KruskalWallisExact(context.Background(), r, ExactBudget{Progress: log.f})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -145,7 +145,7 @@ func TestExactProgress(t *testing.T) {
 	// A run stopped by the budget reports no more than the budget before it stops.
 	var stopped progressLog
 	spread := [][]float64{{1, 5, 9, 13, 17, 21}, {2, 6, 10, 14, 18, 22}, {3, 7, 11, 15, 19, 23}, {4, 8, 12, 16, 20, 24}}
-	_, err = KruskalWallisExact(mustRank(t, spread), ExactBudget{MaxWork: 2000, Progress: stopped.f})
+	_, err = KruskalWallisExact(context.Background(), mustRank(t, spread), ExactBudget{MaxWork: 2000, Progress: stopped.f})
 	if !errors.Is(err, ErrExactBudget) {
 		t.Fatalf("a budget of 2000 units: %v, want ErrExactBudget", err)
 	}

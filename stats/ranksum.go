@@ -1,6 +1,7 @@
 package stats
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -28,8 +29,9 @@ type RankSum struct {
 // distribution need not be symmetric, so doubling one tail is not used). It is the exact
 // Kruskal-Wallis p-value of the two groups (for k = 2, H is an increasing function of
 // |U − mn/2|), computed by [KruskalWallisExact] under budget; when the design exceeds it,
-// Exact is false and PExact is NaN.
-func RankSumTest(x, y []float64, continuity bool, budget ExactBudget) (RankSum, error) {
+// Exact is false and PExact is NaN. It returns ctx's error (wrapped) when ctx ends the
+// exact computation.
+func RankSumTest(ctx context.Context, x, y []float64, continuity bool, budget ExactBudget) (RankSum, error) {
 	if len(x) == 0 || len(y) == 0 {
 		return RankSum{}, fmt.Errorf("rank-sum: both samples must be non-empty")
 	}
@@ -59,7 +61,7 @@ func RankSumTest(x, y []float64, continuity bool, budget ExactBudget) (RankSum, 
 	}
 	out.Z = d / math.Sqrt(s2)
 	out.PNorm = NormalTwoSided(out.Z)
-	ex, err := KruskalWallisExact(r, budget)
+	ex, err := KruskalWallisExact(ctx, r, budget)
 	switch {
 	case err == nil:
 		out.PExact, out.Exact = ex.P, true

@@ -1,6 +1,7 @@
 package stats
 
 import (
+	"context"
 	"encoding/json"
 	"math"
 	"os"
@@ -29,11 +30,11 @@ func TestRankSumScipy(t *testing.T) {
 		t.Fatal(err)
 	}
 	for name, s := range ref.Sets {
-		cc, err := RankSumTest(s.X, s.Y, true, ExactBudget{})
+		cc, err := RankSumTest(context.Background(), s.X, s.Y, true, ExactBudget{})
 		if err != nil {
 			t.Fatal(err)
 		}
-		plain, _ := RankSumTest(s.X, s.Y, false, ExactBudget{})
+		plain, _ := RankSumTest(context.Background(), s.X, s.Y, false, ExactBudget{})
 		if cc.U != s.U || !closeRel(cc.PNorm, s.PNormCC, 1e-12) || !closeRel(plain.PNorm, s.PNorm, 1e-12) {
 			t.Errorf("%s: U %v p(cc) %v p %v; scipy %v %v %v", name, cc.U, cc.PNorm, plain.PNorm, s.U, s.PNormCC, s.PNorm)
 		}
@@ -92,7 +93,7 @@ func TestRankSumExactTies(t *testing.T) {
 			hits++
 		}
 	}
-	got, err := RankSumTest(x, y, false, ExactBudget{})
+	got, err := RankSumTest(context.Background(), x, y, false, ExactBudget{})
 	if err != nil || !got.Exact {
 		t.Fatal(err)
 	}
@@ -102,10 +103,10 @@ func TestRankSumExactTies(t *testing.T) {
 }
 
 func TestRankSumErrors(t *testing.T) {
-	if _, err := RankSumTest(nil, []float64{1}, true, ExactBudget{}); err == nil {
+	if _, err := RankSumTest(context.Background(), nil, []float64{1}, true, ExactBudget{}); err == nil {
 		t.Error("empty sample accepted")
 	}
-	if _, err := RankSumTest([]float64{2, 2}, []float64{2}, true, ExactBudget{}); err == nil {
+	if _, err := RankSumTest(context.Background(), []float64{2, 2}, []float64{2}, true, ExactBudget{}); err == nil {
 		t.Error("all tied accepted")
 	}
 }

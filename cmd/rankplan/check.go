@@ -31,7 +31,7 @@ p-value method, groups and exclusions); with --quiet only problems are printed.`
 			if err != nil {
 				return err
 			}
-			prep, err := runner.Prepare(p)
+			prep, err := runner.Prepare(c.Context(), p)
 			if err != nil {
 				return err
 			}

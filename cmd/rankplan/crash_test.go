@@ -24,12 +24,7 @@ func TestCrash(t *testing.T) {
 	if testing.Short() {
 		t.Skip("builds the binary")
 	}
-	work := t.TempDir()
-	bin := filepath.Join(work, "rankplan")
-	build := exec.Command("go", "build", "-o", bin, ".")
-	if out, err := build.CombinedOutput(); err != nil {
-		t.Fatalf("go build: %v\n%s", err, out)
-	}
+	work, bin := t.TempDir(), buildRankplan(t)
 	// A plan with enough resampling that a run takes a noticeable time (invented data).
 	var data strings.Builder
 	data.WriteString("g,y\n")

@@ -76,7 +76,7 @@ the clock, fixes every random stream.`,
 					return err
 				}
 			}
-			text, err := runner.Draft(o)
+			text, err := runner.Draft(c.Context(), o)
 			if err != nil {
 				return err
 			}

@@ -25,6 +25,10 @@ const (
 	exitInput = 2 // usage error, invalid plan or unusable data
 	// 3 to 6 are verify's; see verify.go. 7 to 9 are reserved.
 	exitSelftest = 10 // selftest: a reference case did not reproduce its expected value
+	// A command stopped by a signal exits 128 + the signal's number, as POSIX shells
+	// report a command ended by a signal (common practice): 130 for SIGINT, 143 for
+	// SIGTERM.
+	exitSignalBase = 128
 )
 
 const exitCodesHelp = `Exit codes:
@@ -35,7 +39,10 @@ const exitCodesHelp = `Exit codes:
   4  verify: integrity failure (tampering, broken chain, bad signature)
   5  verify: the run is incomplete
   6  verify --data: a conclusion at alpha changed
-  10 selftest: a reference case did not reproduce its expected value`
+  10 selftest: a reference case did not reproduce its expected value
+  130 stopped by SIGINT (Ctrl-C); 143 stopped by SIGTERM (128 + the signal's number):
+      a stopped run leaves no DIR, only DIR.incomplete-XXXX once it has created it, whose
+      log ends with run.failed naming the signal (verify: incomplete)`
 
 // usageError is a mistake in the command line: wrong flags or arguments.
 type usageError struct{ err error }
@@ -52,12 +59,15 @@ func usageErrorf(format string, args ...any) error {
 func Main(args []string, stdout, stderr io.Writer) int {
 	root := newRoot(stdout, stderr)
 	root.SetArgs(args)
-	// An interrupt cancels resampling cleanly; nothing is written for a cancelled run.
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, stop := signalContext()
 	defer stop()
-	err := root.ExecuteContext(ctx)
+	cmd, err := root.ExecuteContextC(ctx)
 	if err == nil {
 		return exitOK
+	}
+	if in := runner.InterruptedBy(ctx); in != nil && errors.Is(err, context.Canceled) {
+		fmt.Fprintf(stderr, "rankplan: %s\n", stoppedMessage(cmd, in, err))
+		return exitSignalBase + int(in.Signal)
 	}
 	var ve *verifyExit
 	if errors.As(err, &ve) {
@@ -72,6 +82,47 @@ func Main(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "rankplan: see 'rankplan --help' for usage\n")
 	}
 	return code
+}
+
+// signalContext returns a context that SIGINT or SIGTERM cancels with an
+// *runner.Interrupted cause, so that every command stops its work, and stop, which
+// releases the signals. After the first signal the signals are released at once: a
+// second one ends the process by the signal's default action, without waiting.
+func signalContext() (ctx context.Context, stop func()) {
+	ctx, cancel := context.WithCancelCause(context.Background())
+	ch := make(chan os.Signal, 1)
+	signal.Notify(ch, os.Interrupt, syscall.SIGTERM)
+	go func() {
+		select {
+		case s := <-ch:
+			signal.Stop(ch)
+			sig, _ := s.(syscall.Signal)
+			cancel(&runner.Interrupted{Signal: sig})
+		case <-ctx.Done():
+		}
+	}()
+	return ctx, func() {
+		signal.Stop(ch)
+		cancel(nil)
+	}
+}
+
+// stoppedMessage is the one line printed for a command that a signal stopped: which
+// command, which signal, and for a run what it leaves behind.
+func stoppedMessage(cmd *cobra.Command, in *runner.Interrupted, err error) string {
+	name := "rankplan"
+	if cmd != nil && cmd != cmd.Root() {
+		name = cmd.Name()
+	}
+	msg := name + " stopped by " + in.Name()
+	if name != "run" {
+		return msg
+	}
+	var ue *runner.UnfinishedError
+	if errors.As(err, &ue) {
+		return msg + "; the unfinished folder is " + ue.Dir + " (its log ends with run.failed; verify reports it as incomplete)"
+	}
+	return msg + " before its folder was created; nothing was written"
 }
 
 // exitCode maps an error to an exit code by its type, never by its text.

@@ -43,7 +43,8 @@ Exit codes:
   0   every case reproduced its reference value
   1   the selftest could not be run (e.g. the folder could not be written)
   2   usage error, or DIR exists
-  10  a case did not reproduce its reference value (the report, and the folder, say which)`,
+  10  a case did not reproduce its reference value (the report, and the folder, say which)
+  130, 143  stopped by SIGINT or SIGTERM before it finished (no verdict)`,
 		Args: exactArgs(0, "no arguments"),
 		RunE: func(c *cobra.Command, args []string) error {
 			o.Args = []string{"rankplan", "selftest"}

@@ -95,7 +95,8 @@ type progressBar struct {
 	start, last time.Time
 	prev        time.Time // the last call of any task, or the bar's creation: a new task started then
 	done, total int64
-	shown       int // runes on the screen (0: nothing to clear)
+	shown       int  // runes on the screen (0: nothing to clear)
+	finished    bool // finish was called: nothing more is drawn
 }
 
 func newProgressBar(w io.Writer, width func() int, now func() time.Time) *progressBar {
@@ -106,6 +107,9 @@ func newProgressBar(w io.Writer, width func() int, now func() time.Time) *progre
 func (p *progressBar) update(analysis, task string, done, total int64) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
+	if p.finished {
+		return
+	}
 	t := p.now()
 	if key := analysis + "\x00" + task; key != p.key {
 		p.clearLocked()
@@ -121,7 +125,9 @@ func (p *progressBar) update(analysis, task string, done, total int64) {
 	p.drawLocked(t)
 }
 
-// finish clears the line; the bar can be used again afterwards. It is safe on nil.
+// finish clears the line, and the bar draws nothing after it: a step given up when a
+// signal stopped the command may still report progress from the background (see
+// runner's await) while the command prints its last line. It is safe on nil.
 func (p *progressBar) finish() {
 	if p == nil {
 		return
@@ -130,6 +136,7 @@ func (p *progressBar) finish() {
 	defer p.mu.Unlock()
 	p.clearLocked()
 	p.key = ""
+	p.finished = true
 }
 
 func (p *progressBar) clearLocked() {

@@ -188,11 +188,14 @@ func TestDurationText(t *testing.T) {
 }
 
 // buildRankplan builds the command into the test's temporary folder (the build cache
-// makes the second build quick) and returns its path.
-func buildRankplan(t *testing.T) string {
+// makes the second build quick), with env (KEY=VALUE) added to the environment of the
+// build, and returns its path.
+func buildRankplan(t *testing.T, env ...string) string {
 	t.Helper()
 	bin := filepath.Join(t.TempDir(), "rankplan")
-	if out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput(); err != nil {
+	build := exec.Command("go", "build", "-o", bin, ".")
+	build.Env = append(os.Environ(), env...)
+	if out, err := build.CombinedOutput(); err != nil {
 		t.Fatalf("go build: %v\n%s", err, out)
 	}
 	return bin
@@ -325,5 +328,20 @@ func TestColorOnTerminal(t *testing.T) {
 				t.Errorf("no preview:\n%q", out)
 			}
 		})
+	}
+}
+
+// TestProgressBarAfterFinish: once finished, the bar draws nothing more, so that progress
+// reported late from the background cannot land after a command's last line.
+func TestProgressBarAfterFinish(t *testing.T) {
+	var b bytes.Buffer
+	p := newProgressBar(&b, func() int { return 80 }, time.Now)
+	p.update("a", runner.TaskBootstrap, 256, 1024)
+	p.finish()
+	n := b.Len()
+	p.update("a", runner.TaskBootstrap, 512, 1024)
+	p.update("a", runner.TaskPermutation, 4096, 8192)
+	if b.Len() != n {
+		t.Errorf("drawn after finish: %q", b.String()[n:])
 	}
 }

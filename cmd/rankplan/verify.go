@@ -79,6 +79,7 @@ Exit codes:
   4  integrity failure (tampering, broken chain, bad signature, missing files)
   5  the run is incomplete (killed or failed)
   6  with --data: a conclusion at alpha changed
+  130, 143  verify itself was stopped by SIGINT or SIGTERM (no verdict)
 
 With --markdown the verdicts are printed as a Markdown section to follow the run's
 summary.md in a CI step summary or a pull request, for example

@@ -2,6 +2,7 @@ package data
 
 import (
 	"bytes"
+	"context"
 	"fmt"
 	"io"
 	"math/rand/v2"
@@ -58,7 +59,7 @@ func TestAllocsDoNotGrowWithRows(t *testing.T) {
 				if !sized {
 					r = noLen{r}
 				}
-				tab, err := Load(r, benchOptions())
+				tab, err := Load(context.Background(), r, benchOptions())
 				if err != nil || tab.Rows == 0 {
 					t.Fatal(err)
 				}
@@ -91,7 +92,7 @@ func BenchmarkLoad(b *testing.B) {
 					if !sized {
 						r = noLen{r}
 					}
-					tab, err := Load(r, benchOptions())
+					tab, err := Load(context.Background(), r, benchOptions())
 					if err != nil || tab.Rows != n {
 						b.Fatal(err)
 					}
@@ -118,11 +119,11 @@ func TestPresizeSameResult(t *testing.T) {
 		}
 	}
 	for name, in := range map[string][]byte{"generated": genCSV(5000), "long first": longFirst.Bytes(), "short first": shortFirst.Bytes()} {
-		sized, err := Load(bytes.NewReader(in), benchOptions())
+		sized, err := Load(context.Background(), bytes.NewReader(in), benchOptions())
 		if err != nil {
 			t.Fatal(err)
 		}
-		grown, err := Load(noLen{bytes.NewReader(in)}, benchOptions())
+		grown, err := Load(context.Background(), noLen{bytes.NewReader(in)}, benchOptions())
 		if err != nil {
 			t.Fatal(err)
 		}

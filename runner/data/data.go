@@ -3,6 +3,7 @@ package data
 import (
 	"bufio"
 	"bytes"
+	"context"
 	"crypto/sha256"
 	"errors"
 	"fmt"
@@ -158,21 +159,24 @@ const bufSize = 64 << 10
 // allocates nothing per row: group labels are allocated once each, and the columns
 // grow by append, or are sized once from the first rows when the input's length is
 // known (r has a Len method, or LoadFile's regular file).
-func Load(r io.Reader, opt Options) (*Table, error) {
+//
+// ctx is checked before every read of r, that is every 64 KiB: once ctx is done, Load
+// returns its error (wrapped) within a buffer of rows.
+func Load(ctx context.Context, r io.Reader, opt Options) (*Table, error) {
 	size := int64(-1)
 	if lr, ok := r.(interface{ Len() int }); ok { // bytes.Reader, strings.Reader, bytes.Buffer
 		size = int64(lr.Len())
 	}
-	return load(r, opt, size)
+	return load(ctx, r, opt, size)
 }
 
 // load is Load with the expected number of bytes of r, or -1 if unknown. The size is
 // only used to size the table's slices once the first rows show the bytes per row.
-func load(r io.Reader, opt Options, size int64) (*Table, error) {
+func load(ctx context.Context, r io.Reader, opt Options, size int64) (*Table, error) {
 	if err := opt.check(); err != nil {
 		return nil, err
 	}
-	hr := &hashReader{r: r, h: sha256.New()}
+	hr := &hashReader{r: infile.ContextReader(ctx, r), h: sha256.New()}
 	br := bufio.NewReaderSize(hr, bufSize)
 	if err := skipBOM(br, opt.Name); err != nil {
 		return nil, err
@@ -189,11 +193,11 @@ func load(r io.Reader, opt Options, size int64) (*Table, error) {
 	return t, nil
 }
 
-// LoadFile opens the file at path and loads it with [Load]. Options.Name defaults to
-// path. Only a regular file (after following symbolic links) of at most [MaxFileBytes]
-// is read: a named pipe, a device or a directory is refused before anything is read from
-// it (see [Open]).
-func LoadFile(path string, opt Options) (*Table, error) {
+// LoadFile opens the file at path and loads it with [Load], which stops when ctx is
+// done. Options.Name defaults to path. Only a regular file (after following symbolic
+// links) of at most [MaxFileBytes] is read: a named pipe, a device or a directory is
+// refused before anything is read from it (see [Open]).
+func LoadFile(ctx context.Context, path string, opt Options) (*Table, error) {
 	if opt.Name == "" {
 		opt.Name = path
 	}
@@ -202,7 +206,7 @@ func LoadFile(path string, opt Options) (*Table, error) {
 		return nil, err
 	}
 	defer f.Close()
-	return load(f, opt, size)
+	return load(ctx, f, opt, size)
 }
 
 // Open opens the data file at path for reading when it is a regular file (after

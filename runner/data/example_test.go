@@ -1,6 +1,7 @@
 package data_test
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"strings"
@@ -16,7 +17,7 @@ func ExampleLoad() {
 		"2;\"treated\";9,75\n" +
 		"3;control;NA\n" +
 		"4;;11\n"
-	tab, err := data.Load(strings.NewReader(file), data.Options{
+	tab, err := data.Load(context.Background(), strings.NewReader(file), data.Options{
 		Name:           "trial.csv",
 		Delimiter:      ';',
 		Decimal:        ',',
@@ -44,7 +45,7 @@ func ExampleLoad() {
 }
 
 func ExampleLoadFile() {
-	tab, err := data.LoadFile("testdata/bom_crlf.csv", data.Options{
+	tab, err := data.LoadFile(context.Background(), "testdata/bom_crlf.csv", data.Options{
 		Delimiter:      ',',
 		Decimal:        '.',
 		GroupColumn:    "arm",
@@ -69,7 +70,7 @@ func ExampleHeader() {
 }
 
 func ExampleError() {
-	_, err := data.Load(strings.NewReader("arm,minutes\na,1\nb,\"inf\"\n"), data.Options{
+	_, err := data.Load(context.Background(), strings.NewReader("arm,minutes\na,1\nb,\"inf\"\n"), data.Options{
 		Name: "x.csv", Delimiter: ',', Decimal: '.', GroupColumn: "arm", OutcomeColumns: []string{"minutes"},
 	})
 	fmt.Println(err)

@@ -1,6 +1,7 @@
 package data
 
 import (
+	"context"
 	"io"
 	"path/filepath"
 	"strings"
@@ -73,7 +74,7 @@ func TestLimits(t *testing.T) {
 			opt := base()
 			opt.Limits = tc.lim
 			start := time.Now()
-			_, err := Load(tc.in, opt)
+			_, err := Load(context.Background(), tc.in, opt)
 			switch {
 			case tc.want == "" && err != nil:
 				t.Errorf("error %v", err)
@@ -95,7 +96,7 @@ func TestLabelColumnLimit(t *testing.T) {
 	opt := base()
 	opt.LabelColumns = []string{"site"}
 	opt.Limits.Labels = 2
-	_, err := Load(strings.NewReader("g,site,x\na,s1,1\na,s2,2\nb,s1,3\nb,s3,4\n"), opt)
+	_, err := Load(context.Background(), strings.NewReader("g,site,x\na,s1,1\na,s2,2\nb,s1,3\nb,s3,4\n"), opt)
 	want := `d.csv:5:3: column "site": more than 2 distinct labels, the limit for a group or subset column (this cell holds label 3)`
 	if err == nil || err.Error() != want {
 		t.Errorf("error\n%v\nwant\n%s", err, want)
@@ -131,7 +132,7 @@ func TestLoadFileKinds(t *testing.T) {
 		opt := base()
 		opt.Name = tc.name
 		err := infiletest.Within(t, tc.name, func() error {
-			_, err := LoadFile(filepath.Join(dir, tc.name), opt)
+			_, err := LoadFile(context.Background(), filepath.Join(dir, tc.name), opt)
 			return err
 		})
 		if tc.want == "" && err != nil || tc.want != "" && (err == nil || err.Error() != tc.want) {

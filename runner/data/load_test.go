@@ -2,6 +2,7 @@ package data
 
 import (
 	"bytes"
+	"context"
 	"crypto/sha256"
 	"errors"
 	"fmt"
@@ -26,7 +27,7 @@ func base() Options {
 }
 
 func loadString(s string, opt Options) (*Table, error) {
-	return Load(strings.NewReader(s), opt)
+	return Load(context.Background(), strings.NewReader(s), opt)
 }
 
 // sameFloat reports whether a and b are the same float64, telling -0 from 0 and
@@ -460,21 +461,21 @@ func TestReaders(t *testing.T) {
 	}
 	for name, r := range map[string]func() *Table{
 		"one byte": func() *Table {
-			tab, err := Load(iotest.OneByteReader(strings.NewReader(in)), base())
+			tab, err := Load(context.Background(), iotest.OneByteReader(strings.NewReader(in)), base())
 			if err != nil {
 				t.Fatal(err)
 			}
 			return tab
 		},
 		"half": func() *Table {
-			tab, err := Load(iotest.HalfReader(strings.NewReader(in)), base())
+			tab, err := Load(context.Background(), iotest.HalfReader(strings.NewReader(in)), base())
 			if err != nil {
 				t.Fatal(err)
 			}
 			return tab
 		},
 		"data with EOF": func() *Table {
-			tab, err := Load(iotest.DataErrReader(strings.NewReader(in)), base())
+			tab, err := Load(context.Background(), iotest.DataErrReader(strings.NewReader(in)), base())
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -500,7 +501,7 @@ func TestReadError(t *testing.T) {
 		"mid-field": "g,x\na,\"1",
 	} {
 		t.Run(name, func(t *testing.T) {
-			_, err := Load(&failAfter{data: []byte(prefix), err: boom}, base())
+			_, err := Load(context.Background(), &failAfter{data: []byte(prefix), err: boom}, base())
 			if !errors.Is(err, boom) {
 				t.Errorf("got %v, want an error wrapping %v", err, boom)
 			}
@@ -533,7 +534,7 @@ func TestInputsUnchanged(t *testing.T) {
 	opt.OutcomeColumns = []string{"y", "x"}
 	opt.MissingTokens = []string{"NA", ""}
 	cols, toks := slices.Clone(opt.OutcomeColumns), slices.Clone(opt.MissingTokens)
-	tab, err := Load(bytes.NewReader(in), opt)
+	tab, err := Load(context.Background(), bytes.NewReader(in), opt)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -555,16 +556,16 @@ func TestLoadFile(t *testing.T) {
 	}
 	opt := base()
 	opt.Name = ""
-	_, err := LoadFile(path, opt)
+	_, err := LoadFile(context.Background(), path, opt)
 	if want := path + `:3:3: column "x": cannot read "zz" as a number`; err == nil || err.Error() != want {
 		t.Errorf("got %v, want %s", err, want)
 	}
 	opt.Name = "shown.csv"
-	_, err = LoadFile(path, opt)
+	_, err = LoadFile(context.Background(), path, opt)
 	if want := `shown.csv:3:3: column "x": cannot read "zz" as a number`; err == nil || err.Error() != want {
 		t.Errorf("got %v, want %s", err, want)
 	}
-	_, err = LoadFile(filepath.Join(dir, "absent.csv"), opt)
+	_, err = LoadFile(context.Background(), filepath.Join(dir, "absent.csv"), opt)
 	if !errors.Is(err, os.ErrNotExist) {
 		t.Errorf("got %v, want a not-exist error", err)
 	}
@@ -610,7 +611,7 @@ func FuzzLoad(f *testing.F) {
 		f.Add([]byte(s))
 	}
 	f.Fuzz(func(t *testing.T, in []byte) {
-		tab, err := Load(bytes.NewReader(in), base())
+		tab, err := Load(context.Background(), bytes.NewReader(in), base())
 		if err != nil {
 			var e *Error
 			if !errors.As(err, &e) {
@@ -698,7 +699,7 @@ func TestLabelColumns(t *testing.T) {
 	}
 	allocs := func(in []byte) float64 {
 		return testing.AllocsPerRun(3, func() {
-			if _, err := Load(bytes.NewReader(in), opt); err != nil {
+			if _, err := Load(context.Background(), bytes.NewReader(in), opt); err != nil {
 				t.Fatal(err)
 			}
 		})

@@ -1,6 +1,7 @@
 package data
 
 import (
+	"context"
 	"encoding/hex"
 	"encoding/json"
 	"math"
@@ -52,7 +53,7 @@ func TestFixturesAgainstPython(t *testing.T) {
 		t.Run(c.File, func(t *testing.T) {
 			opt := Options{Delimiter: c.Delimiter[0], Decimal: c.Decimal[0], GroupColumn: c.Group,
 				OutcomeColumns: c.Outcomes, MissingTokens: c.Missing}
-			tab, err := LoadFile(filepath.Join("testdata", c.File), opt)
+			tab, err := LoadFile(context.Background(), filepath.Join("testdata", c.File), opt)
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -1,6 +1,7 @@
 package folder
 
 import (
+	"context"
 	"encoding/json"
 	"errors"
 	"os"
@@ -190,7 +191,7 @@ func TestWriterRoundTrip(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	head, seq, err := w.Finish(SelftestFinished{Status: "pass"}, nil)
+	head, seq, err := w.Finish(context.Background(), SelftestFinished{Status: "pass"}, nil)
 	if err != nil || seq != 4 {
 		t.Fatalf("Finish: %v (seq %d)", err, seq)
 	}
@@ -224,7 +225,7 @@ func TestWriterRoundTrip(t *testing.T) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			_, _, errs[i] = ws[i].Finish(SelftestFinished{Status: "pass"}, func(string, int64) (string, []byte, error) {
+			_, _, errs[i] = ws[i].Finish(context.Background(), SelftestFinished{Status: "pass"}, func(string, int64) (string, []byte, error) {
 				return "seal.txt", []byte("x"), nil
 			})
 		}()

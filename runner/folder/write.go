@@ -1,6 +1,7 @@
 package folder
 
 import (
+	"context"
 	"crypto/rand"
 	"encoding/hex"
 	"errors"
@@ -110,11 +111,20 @@ func (w *Writer) Head() (string, int64) { return w.log.Head(), w.log.Seq() }
 type Seal func(head string, seq int64) (name string, b []byte, err error)
 
 // Finish appends the closing record, writes the head file and the seal, if any, and moves
-// the folder into place. It returns the final head and its record number. When the folder
-// cannot be moved into place (another run took DIR first), the head file and seal are
-// removed again and the Failed record closes the log, so that the folder left behind is
-// an incomplete one and its log never ends in success.
-func (w *Writer) Finish(closing Record, seal Seal) (head string, seq int64, err error) {
+// the folder into place. It returns the final head and its record number. When DIR was
+// taken meanwhile by another process, it writes nothing and returns an error wrapping
+// [ErrExists], for the caller to [Writer.Abandon] the folder. Where flock(2) is lacking
+// and the rename still fails, the head file and seal are removed again and the Failed
+// record closes the log, so that the folder left behind is an incomplete one.
+func (w *Writer) Finish(ctx context.Context, closing Record, seal Seal) (head string, seq int64, err error) {
+	// Under the lock of DIR's parent, DIR must still be free before the closing record is
+	// written: two writers racing for one name finish one after the other, and the second
+	// records its failure instead of success.
+	release, err := reserve(ctx, w.out)
+	if err != nil {
+		return "", 0, err
+	}
+	defer release()
 	if err := w.Record(closing); err != nil {
 		return "", 0, err
 	}

@@ -322,7 +322,7 @@ func exactP(e *env, c *Case) (Value, error) {
 	if err != nil {
 		return Value{}, err
 	}
-	ex, err := stats.KruskalWallisExact(r, stats.DefaultExactBudget)
+	ex, err := stats.KruskalWallisExact(e.ctx, r, stats.DefaultExactBudget)
 	return NumberValue(ex.P), err
 }
 
@@ -359,7 +359,7 @@ func bootstrap(e *env, c *Case) (Value, error) {
 	if err != nil {
 		return Value{}, err
 	}
-	b, err := stats.KruskalWallisBootstrap(r, stats.BootstrapOptions{
+	b, err := stats.KruskalWallisBootstrap(e.ctx, r, stats.BootstrapOptions{
 		Seed: *in.Seed, AnalysisID: in.AnalysisID, Resamples: in.Resamples, Level: in.Level, Workers: e.workers})
 	return NumbersValue([]float64{b.HLow, b.HHigh}), err
 }
@@ -403,7 +403,7 @@ func rankSum(f func(stats.RankSum) float64, continuity bool) computation {
 		if err != nil {
 			return Value{}, err
 		}
-		r, err := stats.RankSumTest(x, y, continuity, stats.DefaultExactBudget)
+		r, err := stats.RankSumTest(e.ctx, x, y, continuity, stats.DefaultExactBudget)
 		return NumberValue(f(r)), err
 	}
 }
@@ -572,7 +572,7 @@ func (e *env) runPlan(name string) (any, error) {
 	if err := e.writeCSV(dataset, p.DataPath()); err != nil {
 		return nil, fmt.Errorf("plan %q: %w", name, err)
 	}
-	prep, err := runner.Prepare(p)
+	prep, err := runner.Prepare(e.ctx, p)
 	if err != nil {
 		return nil, fmt.Errorf("plan %q: %w", name, err)
 	}

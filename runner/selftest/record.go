@@ -2,6 +2,7 @@ package selftest
 
 import (
 	"bytes"
+	"context"
 	"fmt"
 	"strconv"
 	"time"
@@ -18,7 +19,7 @@ const ReportFile = "report.html"
 // ([folder.Writer]): validation.json, report.html, the hash-chained audit log and
 // its head. Records: selftest.started (the build), cases.bound (the case file),
 // cases.evaluated (the verdicts), output.written for each file, selftest.finished.
-func writeFolder(rep *Report, opt Options, now func() time.Time) error {
+func writeFolder(ctx context.Context, rep *Report, opt Options, now func() time.Time) error {
 	f, err := folder.Create(opt.Out, folder.Selftest, rep.Actor, now)
 	if err != nil {
 		return err
@@ -72,11 +73,11 @@ func writeFolder(rep *Report, opt Options, now func() time.Time) error {
 	}); err != nil {
 		return fail(err)
 	}
-	rep.Head, rep.Seq, err = f.Finish(folder.SelftestFinished{
+	rep.Head, rep.Seq, err = f.Finish(ctx, folder.SelftestFinished{
 		Status: res.Summary.Outcome, Cases: res.Summary.Cases, Passed: res.Summary.Passed, Failed: res.Summary.Failed,
 	}, nil)
 	if err != nil {
-		return err
+		return fail(err) // a closing record already written stays the last: the log is closed
 	}
 	rep.Dir = opt.Out
 	return nil

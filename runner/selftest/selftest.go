@@ -297,7 +297,7 @@ func Run(ctx context.Context, opt Options) (*Report, error) {
 		return nil, err
 	}
 	if opt.Out != "" {
-		if err := writeFolder(rep, opt, now); err != nil {
+		if err := writeFolder(ctx, rep, opt, now); err != nil {
 			return nil, err
 		}
 	}
