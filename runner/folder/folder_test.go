@@ -209,8 +209,9 @@ func TestWriterRoundTrip(t *testing.T) {
 		t.Errorf("head file %q", b)
 	}
 
-	// Two writers racing for one name: exactly one wins; the loser's log ends in failure,
-	// without a head file, under its working name.
+	// Two writers racing for one name: exactly one wins; the loser finds the name taken
+	// before its closing record, and its log ends in failure, without a head file or seal,
+	// under its working name.
 	race := filepath.Join(dir, "race")
 	var wg sync.WaitGroup
 	errs := make([]error, 2)
@@ -241,6 +242,11 @@ func TestWriterRoundTrip(t *testing.T) {
 	if !errors.Is(lerr, ErrExists) {
 		t.Errorf("the loser's error is %v, want one wrapping ErrExists", lerr)
 	}
+	// The loser wrote no closing record: its caller closes the log with the failure.
+	if lf, err := Read(loser.WorkDir()); err != nil || lf.Last().Event != EventCasesEvaluated && lf.Last().Event != EventOutputWritten {
+		t.Fatalf("the loser wrote past its outputs before it knew the name was taken: %v %s", err, lf.Last().Event)
+	}
+	loser.Abandon(Failure{Error: lerr.Error()})
 	lf, err := Read(loser.WorkDir())
 	if err != nil || len(lf.Problems) > 0 || !lf.Marked || lf.Last().Event != EventSelftestFailed {
 		t.Fatalf("loser's folder: %v %v marked %v last %s", err, lf.Problems, lf.Marked, lf.Last().Event)
