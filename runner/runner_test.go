@@ -288,7 +288,7 @@ func methodPlan(t *testing.T, pvalue, effect, csv string) *spec.Plan {
 	return methodPlanWith(t, pvalue, effect, "", csv)
 }
 
-// tiedToy is the constructed tied example of METHODS.md §1.5: exact p = 47/1925.
+// tiedToy is the constructed tied example of docs/methods.md §1.5: exact p = 47/1925.
 const tiedToy = "g,y\nA,1\nA,2\nA,2\nA,3\nB,2\nB,3\nB,3\nB,4\nC,3\nC,4\nC,5\nC,5\n"
 
 func TestPValueMethods(t *testing.T) {
@@ -308,7 +308,7 @@ func TestPValueMethods(t *testing.T) {
 		t.Errorf("permutation: %+v %+v", mc.PValue, m)
 	}
 	for _, a := range []results.Analysis{exact, auto, mc} {
-		// chi-square p of H* = 6.630556 on 2 df, 0.036324 (METHODS.md §1.5, verified there with scipy 1.10.1)
+		// chi-square p of H* = 6.630556 on 2 df, 0.036324 (docs/methods.md §1.5, verified there with scipy 1.10.1)
 		if math.Abs(*a.AsymptoticP.Value-0.036324) > 5e-7 {
 			t.Errorf("asymptotic p beside %s: %v", a.PValue.Method, *a.AsymptoticP.Value)
 		}
@@ -408,9 +408,9 @@ func TestMethodInvariance(t *testing.T) {
 	}
 }
 
-// TestPostHoc: Dunn with Holm on PlantGrowth gives the z and adjusted p of METHODS.md §3.1
+// TestPostHoc: Dunn with Holm on PlantGrowth gives the z and adjusted p of docs/methods.md §3.1
 // [V] (z = 1.117725, −1.689290, −2.807015; Holm 0.263684, 0.182328, 0.015001), pairwise
-// effect sizes of METHODS.md §5, and letters consistent with the decisions; gating skips
+// effect sizes of docs/methods.md §5, and letters consistent with the decisions; gating skips
 // the comparisons when the omnibus test does not reject.
 func TestPostHoc(t *testing.T) {
 	csv := plantGrowthCSV()
@@ -475,7 +475,7 @@ func TestPostHoc(t *testing.T) {
 }
 
 // TestSimultaneousPostHoc runs Nemenyi and DSCF from a plan on PlantGrowth (Dobson 1983;
-// METHODS.md §3.3-3.4, values verified there with scipy 1.10.1): the p-values come from
+// docs/methods.md §3.3-3.4, values verified there with scipy 1.10.1): the p-values come from
 // the studentized range, need no adjustment, and the results say so.
 func TestSimultaneousPostHoc(t *testing.T) {
 	csv := plantGrowthCSV()
@@ -509,7 +509,7 @@ func TestSimultaneousPostHoc(t *testing.T) {
 	}
 }
 
-// plantGrowthCSV is the PlantGrowth data (Dobson 1983; METHODS.md §8.2) as a data file.
+// plantGrowthCSV is the PlantGrowth data (Dobson 1983; docs/methods.md §8.2) as a data file.
 func plantGrowthCSV() string {
 	csv := "g,y\n"
 	for i, g := range [][]float64{

@@ -63,7 +63,7 @@ func mustAdjust(t testing.TB, method string, p []float64) []float64 {
 
 // TestAdjustPStatsmodels compares every method with statsmodels 0.13.5
 // multipletests (Debian python3-statsmodels) at rtol 1e-12 on the vectors of
-// adjust_statsmodels.json: METHODS.md §4's 10-value vector with a tie, and invented
+// adjust_statsmodels.json: docs/methods.md §4's 10-value vector with a tie, and invented
 // vectors (p = 1 with ties, a single p, 20 p-values, all-equal values, zeros).
 func TestAdjustPStatsmodels(t *testing.T) {
 	ref := loadAdjustReference(t)
@@ -104,7 +104,7 @@ func TestAdjustPStatsmodels(t *testing.T) {
 
 // TestAdjustPRejectStatsmodels compares Reject(AdjustP(...), 0.05) with the reject
 // flags of statsmodels 0.13.5 multipletests, skipping any adjusted value within 1e-12
-// of alpha: there the decision is a floating-point tie (METHODS.md §4, pitfalls) and
+// of alpha: there the decision is a floating-point tie (docs/methods.md §4, pitfalls) and
 // statsmodels decides on its own, differently rounded, quantity.
 func TestAdjustPRejectStatsmodels(t *testing.T) {
 	ref := loadAdjustReference(t)
@@ -125,7 +125,7 @@ func TestAdjustPRejectStatsmodels(t *testing.T) {
 }
 
 // TestAdjustPMethodsTable checks the rejection counts at alpha = 0.05 of the table in
-// METHODS.md §4 ([V], statsmodels 0.13.5), including BH's three adjusted values that
+// docs/methods.md §4 ([V], statsmodels 0.13.5), including BH's three adjusted values that
 // land on 0.05 and are rejected under p̃ ≤ α.
 func TestAdjustPMethodsTable(t *testing.T) {
 	p := []float64{0.0001, 0.004, 0.019, 0.0095, 0.020, 0.030, 0.040, 0.040, 0.21, 0.70}
@@ -151,7 +151,7 @@ func TestAdjustPMethodsTable(t *testing.T) {
 				}
 			}
 			if n != tc.rejects {
-				t.Errorf("%d rejections, METHODS.md §4 lists %d", n, tc.rejects)
+				t.Errorf("%d rejections, docs/methods.md §4 lists %d", n, tc.rejects)
 			}
 		})
 	}
@@ -170,7 +170,7 @@ func simesP(ps []float64) float64 {
 
 // hommelClosedTesting is a brute-force oracle for Hommel (1988): the adjusted p of
 // hypothesis i is the largest Simes p over all index sets containing i (closed testing,
-// METHODS.md §4), capped at 1. It enumerates all 2^m − 1 subsets.
+// docs/methods.md §4), capped at 1. It enumerates all 2^m − 1 subsets.
 func hommelClosedTesting(p []float64) []float64 {
 	m := len(p)
 	out := make([]float64, m)

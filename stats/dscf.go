@@ -7,7 +7,7 @@ import (
 
 // NemenyiTest compares groups pairwise on the joint ranks of the Kruskal-Wallis test with
 // the studentized range (Nemenyi 1963, PhD thesis, Princeton, recalled from memory; the
-// unequal-n form is the Tukey-Kramer-type extension; METHODS.md §3.3):
+// unequal-n form is the Tukey-Kramer-type extension; docs/methods.md §3.3):
 //
 //	q_ij = (R̄_i − R̄_j) / sqrt(σ²_R (1/n_i + 1/n_j) / 2) = √2 z_ij   (z_ij of [DunnTest])
 //	p    = P(Q_{k,∞} ≥ |q_ij|)                                       ([StudentizedRangeSurvival], df = ∞)
@@ -48,7 +48,7 @@ func NemenyiTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 
 // DSCFTest is the Dwass-Steel-Critchlow-Fligner all-pairs test (Steel 1960, Technometrics
 // 2:197-207; Dwass 1960; Critchlow & Fligner 1991, Comm. Statist. Theory Methods 20:127-139,
-// the last two recalled from memory; Hollander, Wolfe & Chicken 2014, §6.5; METHODS.md
+// the last two recalled from memory; Hollander, Wolfe & Chicken 2014, §6.5; docs/methods.md
 // §3.4). For each pair only the n_i + n_j observations of the two groups are ranked
 // (midranks), and with n = n_i + n_j and t the sizes of the tie blocks within the pair,
 //
@@ -60,7 +60,7 @@ func NemenyiTest(r *Ranking, pairs [][2]int) ([]Comparison, error) {
 // where k is the number of groups in the analysis, even for a many-to-one family.
 //
 // Sign convention: Statistic = −W* = (W_I − n_I (n + 1)/2)/sqrt(V*), positive when group I
-// tends to be larger (the same direction as [DunnTest]); METHODS.md §3.4 lists W*, the
+// tends to be larger (the same direction as [DunnTest]); docs/methods.md §3.4 lists W*, the
 // opposite sign. MeanDiff is the difference of the mean pairwise ranks of I and J,
 // W_I/n_I − W_J/n_J, and SE = sqrt(V*) (1/n_I + 1/n_J), so Statistic = MeanDiff/SE. The
 // p-values are unadjusted.

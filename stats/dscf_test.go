@@ -10,7 +10,7 @@ import (
 	"testing"
 )
 
-// plantGrowthMethods: METHODS.md §3.3 and §3.4 ([V], from a scipy-based computation) for
+// plantGrowthMethods: docs/methods.md §3.3 and §3.4 ([V], from a scipy-based computation) for
 // the pairs ctrl–trt1, ctrl–trt2, trt1–trt2 of PlantGrowth (Dobson 1983). METHODS lists
 // Nemenyi's |q| and DSCF's W* (rank sum of the second group of the pair); rankplan's
 // Statistic is signed so that positive means the first group is larger, so Nemenyi's q
@@ -98,7 +98,7 @@ func TestNemenyiDSCFScipy(t *testing.T) {
 }
 
 // TestDSCFRankSumIdentity checks W* = √2 × the two-sample Wilcoxon z without continuity
-// correction (METHODS.md §3.4) against RankSumTest's Z on random tied data (fixed seed),
+// correction (docs/methods.md §3.4) against RankSumTest's Z on random tied data (fixed seed),
 // and Nemenyi's q = √2 × Dunn's z, with the same signs.
 func TestDSCFRankSumIdentity(t *testing.T) {
 	rng := rand.New(rand.NewPCG(51, 7))

@@ -14,7 +14,7 @@ import (
 //	E²_R = H (N + 1) / (N² − 1) = H / (N − 1)
 //
 // with H the tie-corrected statistic (Tomczak & Tomczak 2014, Trends in Sport Sciences
-// 1(21):19-25, as summarised in the project's METHODS.md §2). With the tie-corrected H it
+// 1(21):19-25, as summarised in the project's docs/methods.md §2). With the tie-corrected H it
 // equals the share of the rank sum of squares that lies between groups, so it lies in
 // [0, 1]. n must be at least 2.
 func EpsilonSquared(h float64, n int) (float64, error) {
@@ -28,7 +28,7 @@ func EpsilonSquared(h float64, n int) (float64, error) {
 //
 //	η²_H = (H − k + 1) / (N − k)
 //
-// (attributed to Cohen 2008 by Tomczak & Tomczak 2014; METHODS.md §2). It is negative
+// (attributed to Cohen 2008 by Tomczak & Tomczak 2014; docs/methods.md §2). It is negative
 // whenever H < k − 1, and is reported as it is, not floored at 0. It is undefined when
 // N = k (every group holds one observation): that gives an error.
 func EtaSquaredH(h float64, n, k int) (float64, error) {

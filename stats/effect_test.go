@@ -12,7 +12,7 @@ import (
 )
 
 // PlantGrowth (Dobson 1983): H* = 7.988229, epsilon-squared 0.275456 and eta-squared(H)
-// 0.221786, all from METHODS.md §1.1 and §2, verified there with scipy 1.10.1.
+// 0.221786, all from docs/methods.md §1.1 and §2, verified there with scipy 1.10.1.
 func TestEffectSizesPlantGrowth(t *testing.T) {
 	const h = 7.988228749443715 // scipy 1.10.1 stats.kruskal, testdata/reference/kruskal_scipy.json
 	eps, err := EpsilonSquared(h, 30)
@@ -26,7 +26,7 @@ func TestEffectSizesPlantGrowth(t *testing.T) {
 }
 
 func TestEffectSizesEdges(t *testing.T) {
-	// Negative eta-squared is reported as it is: (0.771429 - 2)/11 (METHODS.md §2).
+	// Negative eta-squared is reported as it is: (0.771429 - 2)/11 (docs/methods.md §2).
 	if eta, _ := EtaSquaredH(0.771429, 14, 3); math.Abs(eta-(0.771429-2)/11) > 1e-15 || eta >= 0 {
 		t.Errorf("eta %v", eta)
 	}

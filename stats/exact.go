@@ -63,7 +63,7 @@ type Exact struct {
 // H* = (12/(N(N+1)) · T/4 - 3(N+1)) / C is an increasing function of T with the same
 // constants (N, the sizes, the tie correction C) for every assignment, so H, H* and T
 // give the same p (Kruskal & Wallis 1952, JASA 47:583-621; the conditional null with
-// ties as in the project's METHODS.md §1.3). With k = 2 it is the exact two-sided
+// ties as in the project's docs/methods.md §1.3). With k = 2 it is the exact two-sided
 // Wilcoxon-Mann-Whitney rank-sum p-value conditional on the ties,
 // P(|W* - E W| >= |W - E W|), since T is then an increasing function of
 // (S_1 - n_1 (N+1))^2.

@@ -161,7 +161,7 @@ func exactToFloat(v exactU128, l uint64) float64 {
 }
 
 // exactBruteCases are the designs of the brute-force comparison; all data invented,
-// except the tied toy, the constructed example of METHODS.md §1.5.
+// except the tied toy, the constructed example of docs/methods.md §1.5.
 var exactBruteCases = []struct {
 	name   string
 	groups [][]float64
@@ -209,13 +209,13 @@ func TestKruskalWallisExactBruteForce(t *testing.T) {
 	}
 }
 
-// TestKruskalWallisExactTiedToy checks the exact fraction of METHODS.md §1.5 [V]:
+// TestKruskalWallisExactTiedToy checks the exact fraction of docs/methods.md §1.5 [V]:
 // p = 47/1925 on {1,2,2,3},{2,3,3,4},{3,4,5,5}; brute force gives it too.
 func TestKruskalWallisExactTiedToy(t *testing.T) {
 	groups := [][]float64{{1, 2, 2, 3}, {2, 3, 3, 4}, {3, 4, 5, 5}}
-	want := big.NewRat(47, 1925) // METHODS.md §1.5 [V]
+	want := big.NewRat(47, 1925) // docs/methods.md §1.5 [V]
 	if b := exactBrute(t, groups); b.Cmp(want) != 0 {
-		t.Fatalf("brute force gives %s, METHODS.md §1.5 47/1925", b.RatString())
+		t.Fatalf("brute force gives %s, docs/methods.md §1.5 47/1925", b.RatString())
 	}
 	got, err := KruskalWallisExact(context.Background(), mustRank(t, groups), ExactBudget{})
 	if err != nil {
@@ -293,19 +293,19 @@ func TestKruskalWallisExactScipy(t *testing.T) {
 // published entries for equal sizes without ties: 5.600/7.200 (3,3,3), 5.692/7.654
 // (4,4,4), 5.780/8.000 (5,5,5) at alpha 0.05/0.01. The printed tables were not at hand
 // (Meyer & Seaman's table site states the convention "p-value less than or equal to the
-// nominal level" but shows no values in the part read), so these are recalled from memory, as listed in METHODS.md §1.4 (Kruskal & Wallis 1952;
+// nominal level" but shows no values in the part read), so these are recalled from memory, as listed in docs/methods.md §1.4 (Kruskal & Wallis 1952;
 // Iman, Quade & Alexander 1975; 5.78 marked there as seen in a textbook table). The
 // h and the tail counts at every level are also checked against the null
 // distribution enumerated by scipy 1.10.1 stats.permutation_test, and the tail
-// probabilities against METHODS.md §1.4 [V] (5 decimals).
+// probabilities against docs/methods.md §1.4 [V] (5 decimals).
 func TestKruskalWallisExactCriticalValues(t *testing.T) {
 	ref := loadExactReference(t)
-	published := map[int]map[float64]float64{ // recalled from memory, METHODS.md §1.4
+	published := map[int]map[float64]float64{ // recalled from memory, docs/methods.md §1.4
 		3: {0.05: 5.600, 0.01: 7.200},
 		4: {0.05: 5.692, 0.01: 7.654},
 		5: {0.05: 5.780, 0.01: 8.000},
 	}
-	methodsP := map[int]map[float64]float64{ // METHODS.md §1.4 [V], 5 decimals
+	methodsP := map[int]map[float64]float64{ // docs/methods.md §1.4 [V], 5 decimals
 		3: {0.10: 0.10000, 0.05: 0.05000, 0.01: 0.00357},
 		4: {0.10: 0.09662, 0.05: 0.04866, 0.01: 0.00762},
 		5: {0.10: 0.09952, 0.05: 0.04878, 0.01: 0.00946},
@@ -367,14 +367,14 @@ func TestKruskalWallisExactCriticalValues(t *testing.T) {
 					t.Errorf("alpha %v: tail = %.12f assignments, scipy 1.10.1 permutation_test %d", lev.Alpha, tail*total, lev.Count)
 				}
 				if want, ok := published[m][lev.Alpha]; ok && math.Abs(h-want) > 5e-4 {
-					t.Errorf("alpha %v: h = %.4f, published %.3f (recalled, METHODS.md §1.4)", lev.Alpha, h, want)
+					t.Errorf("alpha %v: h = %.4f, published %.3f (recalled, docs/methods.md §1.4)", lev.Alpha, h, want)
 				}
 				if want := methodsP[m][lev.Alpha]; math.Abs(tail-want) > 5e-6 {
-					t.Errorf("alpha %v: P(H >= %.4f) = %.6f, METHODS.md §1.4 %.5f", lev.Alpha, h, tail, want)
+					t.Errorf("alpha %v: P(H >= %.4f) = %.6f, docs/methods.md §1.4 %.5f", lev.Alpha, h, tail, want)
 				}
 				// The p-value of data whose H is the critical value is that tail.
 				if m == 3 && lev.Alpha == 0.05 && count != 84 {
-					t.Errorf("(3,3,3) at 5.6: %d of 1680 assignments, METHODS.md §1.4 84/1680", count)
+					t.Errorf("(3,3,3) at 5.6: %d of 1680 assignments, docs/methods.md §1.4 84/1680", count)
 				}
 			}
 		})
@@ -382,12 +382,12 @@ func TestKruskalWallisExactCriticalValues(t *testing.T) {
 }
 
 // TestKruskalWallisExactPlantGrowth checks the exact p of the PlantGrowth data
-// (Dobson 1983; values in METHODS.md §8.2; one tie) against the exact fraction
+// (Dobson 1983; values in docs/methods.md §8.2; one tie) against the exact fraction
 // count/total of testdata/reference/exact_plantgrowth.json (Python's exact integers over
 // all 5,550,996,791,340 assignments, exact_plantgrowth.py beside it) within 1e-12
-// relative, against METHODS.md §1.5 [V]: p = 0.014592 (6 decimals), and against the
+// relative, against docs/methods.md §1.5 [V]: p = 0.014592 (6 decimals), and against the
 // programme run without pruning. (The
-// other worked value of METHODS.md §1.5, the mucociliary (5,4,5) example, is not
+// other worked value of docs/methods.md §1.5, the mucociliary (5,4,5) example, is not
 // tested: its data are not listed there and are marked as recalled from memory; the
 // (5,4,5) design is covered by invented data against scipy in
 // TestKruskalWallisExactScipy.)
@@ -398,7 +398,7 @@ func TestKruskalWallisExactPlantGrowth(t *testing.T) {
 		t.Fatal(err)
 	}
 	if math.Abs(got.P-0.014592) > 5e-7 {
-		t.Errorf("P = %.8f, METHODS.md §1.5 0.014592", got.P)
+		t.Errorf("P = %.8f, docs/methods.md §1.5 0.014592", got.P)
 	}
 	var ref struct {
 		PlantGrowth struct {
@@ -754,17 +754,17 @@ func TestKruskalWallisExactWorkers(t *testing.T) {
 
 // TestKruskalWallisExactMoments checks the full exact distribution: its probabilities
 // add up to 1 within 1e-12, E[H*] = k - 1 with or without ties (Kruskal & Wallis
-// 1952; METHODS.md §1.1 [V]), and without ties Var H matches the closed form
+// 1952; docs/methods.md §1.1 [V]), and without ties Var H matches the closed form
 //
 //	Var H = 2(k-1) - 2[3k^2 - 6k + N(2k^2 - 6k + 1)]/[5N(N+1)] - (6/5) Σ 1/n_i
 //
-// (Kruskal & Wallis 1952, recalled from memory in METHODS.md §1.1; checked there by
+// (Kruskal & Wallis 1952, recalled from memory in docs/methods.md §1.1; checked there by
 // enumeration: (3,3,3) 2.72, (5,5,5) 3.24, both [V]).
 func TestKruskalWallisExactMoments(t *testing.T) {
 	cases := []struct {
 		name    string
 		groups  [][]float64
-		varWant float64 // METHODS.md §1.1 [V]; 0: not listed
+		varWant float64 // docs/methods.md §1.1 [V]; 0: not listed
 	}{
 		{"3,3,3", [][]float64{{1, 2, 3}, {4, 5, 6}, {7, 8, 9}}, 2.72},
 		{"5,5,5", [][]float64{{1, 2, 3, 4, 5}, {6, 7, 8, 9, 10}, {11, 12, 13, 14, 15}}, 3.24},
@@ -813,7 +813,7 @@ func TestKruskalWallisExactMoments(t *testing.T) {
 				t.Errorf("Var H = %.15g, closed form %.15g", variance, want)
 			}
 			if c.varWant > 0 && math.Abs(variance-c.varWant) > 5e-7 {
-				t.Errorf("Var H = %.7f, METHODS.md §1.1 %v", variance, c.varWant)
+				t.Errorf("Var H = %.7f, docs/methods.md §1.1 %v", variance, c.varWant)
 			}
 		})
 	}

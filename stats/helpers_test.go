@@ -146,7 +146,7 @@ func parseNISTAnova(path string) ([][]float64, error) {
 }
 
 // smlsDesign rebuilds the NIST SmLs01/02/03 design with scale 10/100/1000: 9 treatments
-// of 2*scale+1 values. Structure from METHODS.md §8.1 ("SmLs structure", counted from
+// of 2*scale+1 values. Structure from docs/methods.md §8.1 ("SmLs structure", counted from
 // the NIST files); kruskal_scipy.py checks it against the SmLs01 file copy (and against
 // SmLs01-03 with --nist-dir).
 func smlsDesign(scale int) [][]float64 {

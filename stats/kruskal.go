@@ -33,7 +33,7 @@ type KruskalWallis struct {
 
 // KruskalWallisTest computes the Kruskal-Wallis test from a [Ranking] (Kruskal & Wallis
 // 1952, JASA 47:583-621; centred form and tie correction as in the project's
-// METHODS.md §1.1 and §9.4). With D_i = 2 R_i - n_i (N + 1), an exact integer,
+// docs/methods.md §1.1 and §9.4). With D_i = 2 R_i - n_i (N + 1), an exact integer,
 //
 //	H  = 12/(N (N+1)) · Σ_i D_i^2 / (4 n_i)
 //	C  = 1 - Σ_j (t_j/N) · ((t_j^2 - 1)/(N^2 - 1))

@@ -60,7 +60,7 @@ func TestKruskalWallisScipy(t *testing.T) {
 }
 
 // plantGrowth is the PlantGrowth data of Dobson (1983), An Introduction to Statistical
-// Modelling, as listed in METHODS.md §8.2 (ctrl, trt1, trt2; 10 plants each).
+// Modelling, as listed in docs/methods.md §8.2 (ctrl, trt1, trt2; 10 plants each).
 var plantGrowth = [][]float64{
 	{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14},
 	{4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69},
@@ -76,7 +76,7 @@ func TestKruskalWallisWorkedExamples(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		// METHODS.md §1.1 worked example [V, scipy 1.10.1]: rank sums 147.5, 103.5, 214;
+		// docs/methods.md §1.1 worked example [V, scipy 1.10.1]: rank sums 147.5, 103.5, 214;
 		// C = 0.9997775306; H = 7.986452; H* = 7.988229; p = 0.0184238.
 		if want := []int64{295, 207, 428}; !slices.Equal(r.RankSum2, want) {
 			t.Errorf("RankSum2 = %v, want %v", r.RankSum2, want)
@@ -101,7 +101,7 @@ func TestKruskalWallisWorkedExamples(t *testing.T) {
 		}
 	})
 	t.Run("tied toy", func(t *testing.T) {
-		// METHODS.md §1.5 [V]: H* = 6.630556 with C = 135/143, chi-square p = 0.036324.
+		// docs/methods.md §1.5 [V]: H* = 6.630556 with C = 135/143, chi-square p = 0.036324.
 		kw, err := KruskalWallisTest(mustRank(t, [][]float64{{1, 2, 2, 3}, {2, 3, 3, 4}, {3, 4, 5, 5}}))
 		if err != nil {
 			t.Fatal(err)
@@ -114,7 +114,7 @@ func TestKruskalWallisWorkedExamples(t *testing.T) {
 		}
 	})
 	t.Run("NIST SmLs03 design", func(t *testing.T) {
-		// METHODS.md §8.1 [V, scipy 1.10.1 and mpmath 1.2.1]: H* = 8164.338058,
+		// docs/methods.md §8.1 [V, scipy 1.10.1 and mpmath 1.2.1]: H* = 8164.338058,
 		// p = 0 in float64, log10 p = -1762.8086.
 		kw, err := KruskalWallisTest(mustRank(t, smlsDesign(1000)))
 		if err != nil {
@@ -137,7 +137,7 @@ func TestKruskalWallisWorkedExamples(t *testing.T) {
 		}
 		a, _ := KruskalWallisTest(mustRank(t, file))
 		b, _ := KruskalWallisTest(mustRank(t, smlsDesign(10)))
-		// METHODS.md §8.1 [V, scipy 1.10.1]: H* = 88.685398, p = 8.59457e-16.
+		// docs/methods.md §8.1 [V, scipy 1.10.1]: H* = 88.685398, p = 8.59457e-16.
 		if a.H != b.H || math.Abs(a.H-88.685398) > 5e-7 || math.Abs(a.P-8.59457e-16) > 5e-21 {
 			t.Errorf("file H* = %.10g p = %.6g, design H* = %.10g; want 88.685398, 8.59457e-16", a.H, a.P, b.H)
 		}
@@ -370,7 +370,7 @@ func TestKruskalWallisInvariance(t *testing.T) {
 }
 
 // TestKruskalWallisRankANOVAIdentity checks H* against a second formula that holds for
-// any tie pattern (METHODS.md §1.1 [V]): H* = (N-1) · SSB/SST of the one-way ANOVA on
+// any tie pattern (docs/methods.md §1.1 [V]): H* = (N-1) · SSB/SST of the one-way ANOVA on
 // the midranks, computed here from per-observation midranks of the naive oracle.
 func TestKruskalWallisRankANOVAIdentity(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 8))

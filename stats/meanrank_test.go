@@ -7,7 +7,7 @@ import (
 )
 
 // TestMeanRankInterval checks the standard error behind the interval against full
-// enumeration: on the tied toy data (METHODS.md §1.5), the variance of the mean of four
+// enumeration: on the tied toy data (docs/methods.md §1.5), the variance of the mean of four
 // midranks over all C(12, 4) = 495 equally likely choices of four observations equals
 // S²(N − n)/(N n), and the interval of a group of four (B) is centred on its mean rank with
 // half-width z·SE (z = 1.959963984540054 at 95%, common practice).

@@ -22,7 +22,7 @@ type PairEffect struct {
 //	δ = [#(x_i > y_j) − #(x_i < y_j)] / (m n),   A = [#(x_i > y_j) + ½ #(x_i = y_j)] / (m n),
 //
 // so δ = 2A − 1 and δ is the rank-biserial correlation 2(R̄_x − R̄_y)/(m+n) of Glass
-// (1966) (METHODS.md §5). The pair counts are exact integers, found by sorting both
+// (1966) (docs/methods.md §5). The pair counts are exact integers, found by sorting both
 // samples and one merge, in O((m + n) log(m + n)) time, without forming the m·n pairs.
 // x and y must be non-empty and finite; they are not modified.
 func PairEffectSizes(x, y []float64) (PairEffect, error) {
@@ -121,7 +121,7 @@ func MosesExact(m, n int) bool {
 //	Δ̂ = median{ x_i − y_j : i ≤ m, j ≤ n },
 //
 // and the distribution-free interval [D_(c+1), D_(mn−c)] of the sorted differences (Moses,
-// as presented by Hollander & Wolfe; METHODS.md §5, recalled there from memory), with
+// as presented by Hollander & Wolfe; docs/methods.md §5, recalled there from memory), with
 //
 //	c = max{ u : P0(U ≤ u) ≤ (1 − level)/2 }
 //

@@ -10,8 +10,8 @@ import (
 	"testing"
 )
 
-// PlantGrowth pairs (Dobson 1983 data, METHODS.md §8.2): counts, δ, A, HL shift and the
-// 95% Moses interval from METHODS.md §5 [V], re-derived by brute force over the 100
+// PlantGrowth pairs (Dobson 1983 data, docs/methods.md §8.2): counts, δ, A, HL shift and the
+// 95% Moses interval from docs/methods.md §5 [V], re-derived by brute force over the 100
 // differences with Python 3.11 (statistics.median and the sorted differences d[23], d[76]).
 func TestPairEffectsPlantGrowth(t *testing.T) {
 	ctrl := []float64{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14}
@@ -40,7 +40,7 @@ func TestPairEffectsPlantGrowth(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		// c = 23 for m = n = 10 at 95%, coverage 0.95674 (METHODS.md §5 [V]).
+		// c = 23 for m = n = 10 at 95%, coverage 0.95674 (docs/methods.md §5 [V]).
 		if hl.C != 23 || math.Abs(hl.Coverage-0.95674) > 5e-6 || !hl.ExactIndex {
 			t.Errorf("%s: c = %d, coverage %v", tc.name, hl.C, hl.Coverage)
 		}
@@ -94,7 +94,7 @@ func TestKthDifferenceBruteForce(t *testing.T) {
 }
 
 // TestMannWhitneyNullCounts: m = 4, n = 5 has 126 arrangements; the two-sided exact p at
-// U = 4 is 0.190476 (METHODS.md §3.6, equal to scipy's method='exact' there), so
+// U = 4 is 0.190476 (docs/methods.md §3.6, equal to scipy's method='exact' there), so
 // #{U <= 4} = 12 of 126.
 func TestMannWhitneyNullCounts(t *testing.T) {
 	d, err := newMannWhitneyNull(4, 5, 20)
@@ -327,7 +327,7 @@ func TestHodgesLehmannTiesBruteForce(t *testing.T) {
 }
 
 // TestMosesCoverage checks the interval's coverage by a seeded simulation: m = 7, n = 9,
-// t(3) data with a shift of 0.5, 20000 data sets. METHODS.md §5 [V] gives the theoretical
+// t(3) data with a shift of 0.5, 20000 data sets. docs/methods.md §5 [V] gives the theoretical
 // coverage 0.95822 for this design; the simulated coverage must lie within 4 standard errors.
 func TestMosesCoverage(t *testing.T) {
 	if testing.Short() {

@@ -77,7 +77,7 @@ type PermutationOptions struct {
 //	T = Σ_i S_i² / n_i
 //
 // which, given the tie pattern, is an increasing function of H and of H*
-// (H = 3/(N(N+1)) · T − 3(N+1); METHODS.md §1.3), so T* >= T_obs exactly when
+// (H = 3/(N(N+1)) · T − 3(N+1); docs/methods.md §1.3), so T* >= T_obs exactly when
 // H* >= H_obs. T is compared exactly when possible: with L = lcm(n_1, ..., n_k),
 //
 //	T·L = Σ_i S_i² · (L / n_i)
@@ -98,7 +98,7 @@ type PermutationOptions struct {
 // Blocks run on Workers goroutines and their integer counts are added, so the result
 // is bit-identical for any number of workers.
 //
-// Estimate and error (METHODS.md §1.6):
+// Estimate and error (docs/methods.md §1.6):
 //
 //	P      = (b + 1) / (m + 1)                    (Phipson & Smyth 2010, SAGMB 9(1): art. 39)
 //	SE     = sqrt(p̂ (1 − p̂) / m),  p̂ = b / m

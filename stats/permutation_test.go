@@ -23,7 +23,7 @@ var updatePermutationGolden = flag.Bool("update-permutation", false,
 
 // Designs of the permutation tests.
 var (
-	// tiedToy is the tied toy data of METHODS.md §1.5 (constructed there); exact
+	// tiedToy is the tied toy data of docs/methods.md §1.5 (constructed there); exact
 	// conditional p = 47/1925 [V there], confirmed below by brute force and by
 	// kw_permutation_ref.py.
 	tiedToy = [][]float64{{1, 2, 2, 3}, {2, 3, 3, 4}, {3, 4, 5, 5}}
@@ -32,7 +32,7 @@ var (
 	inventedP03 = [][]float64{{3.1, 4.7, 2.2, 5.0}, {4.1, 5.9, 6.3, 3.8, 4.4}, {2.2, 4.4, 3.3}}
 )
 
-// plantGrowthExactP is the exact conditional p of PlantGrowth from METHODS.md §1.5 [V]
+// plantGrowthExactP is the exact conditional p of PlantGrowth from docs/methods.md §1.5 [V]
 // (a DP over tie blocks there, with a Monte Carlo check); it is printed to 6 decimals.
 const plantGrowthExactP = 0.014592
 
@@ -193,7 +193,7 @@ func TestPermutationPythonReference(t *testing.T) {
 }
 
 // TestPermutationBruteForce checks the enumeration oracle used below against the
-// published and independent values: 47/1925 for the tied toy (METHODS.md §1.5 [V]) and
+// published and independent values: 47/1925 for the tied toy (docs/methods.md §1.5 [V]) and
 // the Python brute force (kw_permutation_ref.py) for both small designs.
 func TestPermutationBruteForce(t *testing.T) {
 	ref := loadPermRef(t)
@@ -204,7 +204,7 @@ func TestPermutationBruteForce(t *testing.T) {
 		}
 	}
 	if hits, total := bruteExactP(tiedToy); big.NewRat(hits, total).Cmp(big.NewRat(47, 1925)) != 0 {
-		t.Errorf("tied toy: %d/%d, METHODS.md §1.5 47/1925", hits, total)
+		t.Errorf("tied toy: %d/%d, docs/methods.md §1.5 47/1925", hits, total)
 	}
 }
 
@@ -217,9 +217,9 @@ func TestPermutationConvergence(t *testing.T) {
 		groups [][]float64
 		exact  float64
 	}{
-		{"tied toy", tiedToy, 47.0 / 1925},                                // METHODS.md §1.5 [V], brute force
+		{"tied toy", tiedToy, 47.0 / 1925},                                // docs/methods.md §1.5 [V], brute force
 		{"invented p 0.3", inventedP03, float64(hitsB) / float64(totalB)}, // brute force: 2857/9240
-		{"PlantGrowth", plantGrowth, plantGrowthExactP},                   // METHODS.md §1.5 [V]
+		{"PlantGrowth", plantGrowth, plantGrowthExactP},                   // docs/methods.md §1.5 [V]
 	}
 	for i, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -286,7 +286,7 @@ func TestPermutationOneResample(t *testing.T) {
 
 // TestPermutationSummary checks the estimate, SE and 99% Clopper-Pearson interval
 // against scipy 1.10.1 (stats.beta.ppf, kw_permutation_ref.json) and, at their printed
-// precision, against the table of METHODS.md §1.6 [V].
+// precision, against the table of docs/methods.md §1.6 [V].
 func TestPermutationSummary(t *testing.T) {
 	ref := loadPermRef(t)
 	for _, c := range ref.Summaries {
@@ -308,7 +308,7 @@ func TestPermutationSummary(t *testing.T) {
 			t.Errorf("b = %d, m = %d: CI [%.17g, %.17g], scipy [%.17g, %.17g] (tolerance %.1g)", b, m, got.CILow, got.CIHigh, c.CILow, c.CIHigh, tol)
 		}
 	}
-	// METHODS.md §1.6, tied toy rows (b of m; 99% Clopper-Pearson printed to 6 decimals).
+	// docs/methods.md §1.6, tied toy rows (b of m; 99% Clopper-Pearson printed to 6 decimals).
 	methods := []struct {
 		b, m          int64
 		p, se, lo, hi float64
@@ -324,7 +324,7 @@ func TestPermutationSummary(t *testing.T) {
 			got, want float64
 		}{{"P", got.P, c.p}, {"SE", got.SE, c.se}, {"CILow", got.CILow, c.lo}, {"CIHigh", got.CIHigh, c.hi}} {
 			if math.Abs(f.got-f.want) > 5e-7 {
-				t.Errorf("b = %d, m = %d: %s = %.7f, METHODS.md §1.6 %.6f", c.b, c.m, f.name, f.got, f.want)
+				t.Errorf("b = %d, m = %d: %s = %.7f, docs/methods.md §1.6 %.6f", c.b, c.m, f.name, f.got, f.want)
 			}
 		}
 	}
@@ -452,7 +452,7 @@ func TestPermutationInvariance(t *testing.T) {
 	slices.Reverse(og)
 	slices.Reverse(ov)
 	p := permRunRows(t, og, ov, 3, opt)
-	if exact := 47.0 / 1925; !(p.CILow <= exact && exact <= p.CIHigh) { // METHODS.md §1.5 [V]
+	if exact := 47.0 / 1925; !(p.CILow <= exact && exact <= p.CIHigh) { // docs/methods.md §1.5 [V]
 		t.Errorf("reordered rows: exact p %.6f outside [%.6f, %.6f]", exact, p.CILow, p.CIHigh)
 	}
 	ps1 := mustPermSetup(t, g, v, 3)
@@ -697,7 +697,7 @@ func TestPermutationGolden(t *testing.T) {
 	got := permGolden{
 		Note:       "written by `go test ./stats -run TestPermutationGolden -update-permutation`; do not edit by hand. A change means recorded permutation p-values are no longer reproducible.",
 		Scheme:     PermutationScheme,
-		Design:     "tied toy {1,2,2,3},{2,3,3,4},{3,4,5,5} (METHODS.md §1.5)",
+		Design:     "tied toy {1,2,2,3},{2,3,3,4},{3,4,5,5} (docs/methods.md §1.5)",
 		Seed:       strconv.FormatUint(opt.Seed, 10),
 		AnalysisID: opt.AnalysisID,
 		Resamples:  strconv.FormatInt(p.Resamples, 10),
@@ -736,7 +736,7 @@ func TestPermutationGolden(t *testing.T) {
 }
 
 func ExampleKruskalWallisPermutation() {
-	// The tied toy data of METHODS.md §1.5; its exact permutation p is 47/1925 = 0.0244.
+	// The tied toy data of docs/methods.md §1.5; its exact permutation p is 47/1925 = 0.0244.
 	group := []int32{0, 0, 0, 0, 1, 1, 1, 1, 2, 2, 2, 2}
 	values := []float64{1, 2, 2, 3, 2, 3, 3, 4, 3, 4, 5, 5}
 	r, err := Rank(group, values, 3)

@@ -47,7 +47,7 @@ func ManyToOne(k, control int) [][2]int {
 //
 //	σ²_R = N(N+1)/12 − Σ(t³ − t) / (12 (N − 1))
 //
-// (Dunn 1964, Technometrics 6:241-252; METHODS.md §3, checked there by enumeration). It
+// (Dunn 1964, Technometrics 6:241-252; docs/methods.md §3, checked there by enumeration). It
 // equals the sample variance of all N midranks.
 func RankVariance(r *Ranking) float64 {
 	n := float64(r.N)
@@ -103,7 +103,7 @@ var ErrConstantGroups = fmt.Errorf("%w: every group is internally constant (all 
 
 // ConoverImanTest compares groups pairwise with the t-test on the joint ranks of Conover &
 // Iman (1979, Los Alamos report LA-7677-MS; Conover, Practical Nonparametric Statistics;
-// METHODS.md §3.2, recalled there from memory and checked through its identity with the
+// docs/methods.md §3.2, recalled there from memory and checked through its identity with the
 // ANOVA of the ranks), Fisher's least significant difference on the ranks:
 //
 //	MSE  = S² (N − 1 − H*) / (N − k),   S² = σ²_R   (the within-group mean square of the ranks)

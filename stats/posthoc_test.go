@@ -10,7 +10,7 @@ import (
 
 // TestPostHocReference compares Dunn and Conover-Iman with an independent computation
 // from the formulas with scipy 1.10.1 (testdata/reference/posthoc_scipy.py), on PlantGrowth
-// and two invented sets with ties and unequal sizes. PlantGrowth also matches METHODS.md
+// and two invented sets with ties and unequal sizes. PlantGrowth also matches docs/methods.md
 // §3.1-3.2 [V]: z = 1.117725, -1.689290, -2.807015; t = 1.267026, -1.914938, -3.181964.
 func TestPostHocReference(t *testing.T) {
 	b, err := os.ReadFile("../testdata/reference/posthoc_scipy.json")
@@ -66,9 +66,9 @@ func TestPostHocReference(t *testing.T) {
 	}
 }
 
-// TestDunnVarianceByEnumeration: on the tied toy data (METHODS.md §1.5) the variance of
+// TestDunnVarianceByEnumeration: on the tied toy data (docs/methods.md §1.5) the variance of
 // R̄_1 − R̄_2 over all 34650 equally likely assignments equals σ²_R (1/n_1 + 1/n_2) =
-// 6.1363636364 (METHODS.md §3.1 [V]); enumerated here.
+// 6.1363636364 (docs/methods.md §3.1 [V]); enumerated here.
 func TestDunnVarianceByEnumeration(t *testing.T) {
 	vals := []float64{1, 2, 2, 3, 2, 3, 3, 4, 3, 4, 5, 5}
 	g := []int32{0, 0, 0, 0, 1, 1, 1, 1, 2, 2, 2, 2}
@@ -130,7 +130,7 @@ func TestDunnVarianceByEnumeration(t *testing.T) {
 }
 
 func TestPostHocErrors(t *testing.T) {
-	// Groups with no spread inside them: H* = N − 1 (METHODS.md §1.1), whether their
+	// Groups with no spread inside them: H* = N − 1 (docs/methods.md §1.1), whether their
 	// values differ between groups or not; groups that merely do not overlap have spread.
 	for _, tc := range []struct {
 		name   string

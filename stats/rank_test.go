@@ -21,7 +21,7 @@ func TestRankHandCases(t *testing.T) {
 		tieSum   float64
 	}{
 		{
-			// The tied toy data of METHODS.md §1.5 (constructed there): pooled blocks
+			// The tied toy data of docs/methods.md §1.5 (constructed there): pooled blocks
 			// 1 (x1), 2 (x3), 3 (x4), 4 (x2), 5 (x2).
 			name:     "tied toy",
 			groups:   [][]float64{{1, 2, 2, 3}, {2, 3, 3, 4}, {3, 4, 5, 5}},

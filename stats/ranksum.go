@@ -16,7 +16,7 @@ type RankSum struct {
 	Exact  bool    // the exact p fitted the work budget
 }
 
-// RankSumTest runs the Wilcoxon-Mann-Whitney rank-sum test (Mann & Whitney 1947; METHODS.md
+// RankSumTest runs the Wilcoxon-Mann-Whitney rank-sum test (Mann & Whitney 1947; docs/methods.md
 // §3.6) of x against y on their pooled midranks:
 //
 //	U   = R_x − m(m+1)/2

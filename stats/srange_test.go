@@ -311,7 +311,7 @@ func TestStudentizedRangePublishedTable(t *testing.T) {
 	}
 }
 
-// TestStudentizedRangeMethods checks the values of METHODS.md §3.5, from scipy 1.10.1:
+// TestStudentizedRangeMethods checks the values of docs/methods.md §3.5, from scipy 1.10.1:
 // q_0.95(k, ∞) = 3.3145, 3.6332, 3.8577 for k = 3, 4, 5 and sf(3.314; 3, ∞) = 0.050044.
 func TestStudentizedRangeMethods(t *testing.T) {
 	for _, c := range []struct {

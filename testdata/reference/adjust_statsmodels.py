@@ -15,7 +15,7 @@ method is always passed explicitly. rankplan name -> statsmodels name:
     by         -> 'fdr_by'
 
 Vectors: "methods_section4" is the 10-value vector with a tie from the project's
-METHODS.md section 4. All the other vectors were invented for these tests and describe
+docs/methods.md section 4. All the other vectors were invented for these tests and describe
 nothing real. Rejections are recorded at alpha = 0.05 (statsmodels rejects when the
 adjusted value is <= alpha for these methods).
 """

@@ -16,7 +16,7 @@ Nemenyi: joint midranks of all groups by rankdata, sigma2 = the sample variance 
     midranks (ddof = 1), q = (Rbar_i - Rbar_j)/sqrt(sigma2 (1/n_i + 1/n_j)/2),
     p = studentized_range.sf(|q|, k, inf).
 
-Data: PlantGrowth (Dobson 1983, as in METHODS.md section 8.2) and three data sets invented
+Data: PlantGrowth (Dobson 1983, as in docs/methods.md section 8.2) and three data sets invented
 for this test (with ties and unequal group sizes); they describe nothing real.
 """
 import json

@@ -27,7 +27,7 @@ It takes about a minute. What it writes (JSON on stdout):
 
 All data sets are invented for these tests and describe nothing real, except
 "tied_toy", the constructed example {1,2,2,3},{2,3,3,4},{3,4,5,5} of the project's
-METHODS.md §1.5 (whose exact p there is 47/1925).
+docs/methods.md §1.5 (whose exact p there is 47/1925).
 """
 
 import json

@@ -31,7 +31,7 @@ groups so far (the third group's follow from the totals), and its value the numb
 holds them exactly; the script checks that the finished ones sum to N!/(n1! n2! n3!)). Each observation joins group 1, group 2
 or group 3; states of the third group beyond its size cannot reach the end and are counted
 nowhere. The same programme is first checked against a brute-force enumeration of every
-assignment on the tied toy data {1,2,2,3},{2,3,3,4},{3,4,5,5} (METHODS.md section 1.5:
+assignment on the tied toy data {1,2,2,3},{2,3,3,4},{3,4,5,5} (docs/methods.md section 1.5:
 p = 47/1925) and against the count and total that scipy's permutation_test gives for it in
 exact_kw_scipy.json.
 """

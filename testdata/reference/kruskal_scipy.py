@@ -21,7 +21,7 @@ What it writes (JSON on stdout):
 
 Data sets: every set named "invented_*" was made up for these tests and describes
 nothing real. PlantGrowth is the published data set of Dobson (1983), "An
-Introduction to Statistical Modelling", as listed in the project's METHODS.md §8.2.
+Introduction to Statistical Modelling", as listed in the project's docs/methods.md §8.2.
 SmLs01 is read from the NIST StRD file copied to stats/testdata/nist/SmLs01.dat;
 SmLs02 and SmLs03 are rebuilt from the structure of those files (see smls_design).
 """
@@ -69,7 +69,7 @@ def parse_nist_anova(path):
 def smls_design(scale):
     """Build the SmLs01/02/03 design (9 treatments of 2*scale+1 values).
 
-    Structure of the NIST files (METHODS.md §8.1, counted from the files, and
+    Structure of the NIST files (docs/methods.md §8.1, counted from the files, and
     checked here against SmLs01 and, with --nist-dir, against all three):
     treatment 1 is one 1.4 plus `scale` each of 1.3 and 1.5; even treatments are one
     1.3 plus `scale` each of 1.2 and 1.4; odd treatments >= 3 are one 1.5 plus
@@ -178,7 +178,7 @@ def main():
             print(name + ": matches smls_design(%d)" % scale, file=sys.stderr)
 
     kw = [kruskal_entry(n, s, [[float(v) for v in g] for g in gs]) for n, s, gs in INVENTED]
-    kw.append(kruskal_entry("plant_growth", "Dobson (1983), data as in METHODS.md §8.2", PLANT_GROWTH))
+    kw.append(kruskal_entry("plant_growth", "Dobson (1983), data as in docs/methods.md §8.2", PLANT_GROWTH))
     kw.append(kruskal_entry("nist_smls01", "NIST StRD SmLs01 (Simon & Lesage 1989), file copy",
                             smls01, {"nist_file": SMLS01_PATH}))
     kw.append(kruskal_entry("nist_smls02_design", "NIST StRD SmLs02 structure, rebuilt",

@@ -11,7 +11,7 @@ scipy.stats.norm.sf and t tails from scipy.stats.t.sf.
 Dunn (1964): z = (Rbar_i - Rbar_j) / sqrt(S2 (1/n_i + 1/n_j)), p = 2 sf(|z|).
 Conover & Iman (1979): MSE = S2 (N - 1 - H*) / (N - k), t = (Rbar_i - Rbar_j) / sqrt(MSE (1/n_i + 1/n_j)),
 p = 2 t.sf(|t|, N - k).
-Data: PlantGrowth (Dobson 1983, as in METHODS.md section 8.2) and two invented sets (invented
+Data: PlantGrowth (Dobson 1983, as in docs/methods.md section 8.2) and two invented sets (invented
 for these tests: ties and unequal sizes).
 """
 import json

@@ -7,7 +7,7 @@ Run from the repository root:
 scipy.stats.mannwhitneyu (version recorded), two-sided: method="exact" on data without ties
 (scipy's exact method ignores ties, so it is used only where there are none), and
 method="asymptotic" with and without continuity correction on data with and without ties.
-Data: PlantGrowth pairs (Dobson 1983, as in METHODS.md section 8.2) and invented sets
+Data: PlantGrowth pairs (Dobson 1983, as in docs/methods.md section 8.2) and invented sets
 (invented for these tests).
 """
 import json

@@ -12,7 +12,7 @@ ends are numpy.percentile (method "linear", Hyndman & Fan type 7) of the sorted 
 (1 - level)/2 and (1 + level)/2, in percent.
 
 Data: PlantGrowth (Dobson 1983, An Introduction to Statistical Modelling, as listed in
-METHODS.md §8.2), and two invented sets (invented for these tests).
+docs/methods.md §8.2), and two invented sets (invented for these tests).
 """
 
 import json

@@ -16,9 +16,9 @@ Three independent parts:
    interval [beta.ppf(0.005; b, m-b+1), beta.ppf(0.995; b+1, m-b)] from scipy.stats.beta
    (scipy version recorded below).
 
-Data: the tied toy set of METHODS.md §1.5 (constructed there), an invented set with
+Data: the tied toy set of docs/methods.md §1.5 (constructed there), an invented set with
 p near 0.3 (invented for these tests), and PlantGrowth (Dobson 1983, An Introduction to
-Statistical Modelling, as listed in METHODS.md §8.2).
+Statistical Modelling, as listed in docs/methods.md §8.2).
 """
 
 import fractions
@@ -142,7 +142,7 @@ def main():
         p, total = exact_p(DESIGNS[name])
         out["exact"].append({"design": name, "groups": DESIGNS[name], "assignments": total,
                              "num": p.numerator, "den": p.denominator})
-    pairs = [(17, 999), (236, 9999), (2457, 99999),  # the rows of METHODS.md §1.6
+    pairs = [(17, 999), (236, 9999), (2457, 99999),  # the rows of docs/methods.md §1.6
              (0, 1), (1, 1), (0, 1000), (1000, 1000), (1, 1000), (999, 1000),
              (24416, 1000000), (309199, 1000000), (5, 10**9), (3 * 10**11, 10**12)]
     for b, m in pairs:
