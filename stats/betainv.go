@@ -16,8 +16,10 @@ import (
 // float64 conversion, which the Go specification defines as a rounding point, so no fused
 // multiply-add can change it (gonum's code, compiled with fusion on arm64 and on amd64 with
 // GOAMD64=v3, gave intervals differing in the 14th digit; bench/arch-determinism.sh).
-// The functions of package math it calls (Log, Log1p, Exp, Lgamma) are the remaining
-// dependence on the platform.
+// Its logarithms, exponentials and log-gamma values come from the package's portable
+// functions (logPortable, log1pPortable, expPortable, lgammaPortable; portable.go), and
+// of package math it calls only the exact Abs and IsNaN/IsInf, so it has no dependence on
+// the platform left (TestPortableBits hashes its results on a grid).
 //
 // Method: bisection on [0, 1] for the root of I_x(a, b) − q, until the bracket cannot be
 // halved in float64, so the result is the float64 nearest the root of the computed

@@ -10,12 +10,12 @@ import (
 	"testing"
 )
 
-// plantGrowthMethods: docs/methods.md §3.3 and §3.4 ([V], from a scipy-based computation) for
-// the pairs ctrl–trt1, ctrl–trt2, trt1–trt2 of PlantGrowth (Dobson 1983). METHODS lists
-// Nemenyi's |q| and DSCF's W* (rank sum of the second group of the pair); rankplan's
-// Statistic is signed so that positive means the first group is larger, so Nemenyi's q
-// carries the sign of R̄_I − R̄_J (+, −, −: Dunn's z in METHODS §3.1) and DSCF's Statistic
-// is −W*.
+// TestNemenyiDSCFPlantGrowth checks the values of docs/methods.md §3.3 and §3.4 ([V],
+// scipy 1.10.1 in testdata/reference/dscf_scipy.py) for the pairs ctrl–trt1, ctrl–trt2,
+// trt1–trt2 of PlantGrowth (Dobson 1983). §3.4 lists DSCF's W* (rank sum of the second
+// group of the pair); rankplan's Statistic is signed so that positive means the first
+// group is larger, so Nemenyi's q carries the sign of R̄_I − R̄_J (+, −, −: Dunn's z in
+// §3.1) and DSCF's Statistic is −W*.
 func TestNemenyiDSCFPlantGrowth(t *testing.T) {
 	r := mustRank(t, plantGrowth)
 	pairs := AllPairs(3)
@@ -33,10 +33,10 @@ func TestNemenyiDSCFPlantGrowth(t *testing.T) {
 	wantWP := []float64{0.382106, 0.141586, 0.0274497}
 	for i := range 3 {
 		if math.Abs(nem[i].Statistic-wantQ[i]) > 5e-7 || !relClose(nem[i].P, wantQP[i], 1e-5) {
-			t.Errorf("Nemenyi %v: q %.7f p %.7g, METHODS %v %v", pairs[i], nem[i].Statistic, nem[i].P, wantQ[i], wantQP[i])
+			t.Errorf("Nemenyi %v: q %.7f p %.7g, docs/methods.md §3.3 %v %v", pairs[i], nem[i].Statistic, nem[i].P, wantQ[i], wantQP[i])
 		}
 		if math.Abs(-dscf[i].Statistic-wantW[i]) > 5e-7 || !relClose(dscf[i].P, wantWP[i], 1e-5) {
-			t.Errorf("DSCF %v: W* %.7f p %.7g, METHODS %v %v", pairs[i], -dscf[i].Statistic, dscf[i].P, wantW[i], wantWP[i])
+			t.Errorf("DSCF %v: W* %.7f p %.7g, docs/methods.md §3.4 %v %v", pairs[i], -dscf[i].Statistic, dscf[i].P, wantW[i], wantWP[i])
 		}
 	}
 }

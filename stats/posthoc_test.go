@@ -125,7 +125,7 @@ func TestDunnVarianceByEnumeration(t *testing.T) {
 	variance := sumSq/float64(count) - mean*mean
 	want := RankVariance(r) * (1.0/4 + 1.0/4)
 	if math.Abs(variance-want) > 1e-9 || math.Abs(want-6.1363636364) > 1e-9 {
-		t.Errorf("enumerated variance %v, formula %v, METHODS 6.1363636364", variance, want)
+		t.Errorf("enumerated variance %v, formula %v, docs/methods.md §3 6.1363636364", variance, want)
 	}
 }
 

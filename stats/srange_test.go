@@ -320,12 +320,12 @@ func TestStudentizedRangeMethods(t *testing.T) {
 	}{{3, 3.3145}, {4, 3.6332}, {5, 3.8577}} {
 		q, err := StudentizedRangeQuantile(0.95, c.k, math.Inf(1))
 		if err != nil || math.Abs(q-c.q) > 0.00005+1e-9 {
-			t.Errorf("q_0.95(%d, ∞) = %v (%v), METHODS %v", c.k, q, err, c.q)
+			t.Errorf("q_0.95(%d, ∞) = %v (%v), docs/methods.md §3.5 %v", c.k, q, err, c.q)
 		}
 	}
 	sf, err := StudentizedRangeSurvival(3.314, 3, math.Inf(1))
 	if err != nil || math.Abs(sf-0.050044) > 0.0000005 {
-		t.Errorf("sf(3.314; 3, ∞) = %v (%v), METHODS 0.050044", sf, err)
+		t.Errorf("sf(3.314; 3, ∞) = %v (%v), docs/methods.md §3.5 0.050044", sf, err)
 	}
 }
 

@@ -33,8 +33,11 @@ func NumOr(x *float64, none string) string {
 	return Num(*x)
 }
 
-// Num writes a number with up to four significant digits after the point, as people read
-// tables; results.json keeps every digit.
+// Num writes a number for people to read in tables; results.json keeps every digit. Zero
+// is "0"; a magnitude from 1e-4 up to 1e6 gets six significant digits without trailing
+// zeros ("0.0184238", "147.5"); from there (once six digits round to 1e6 or more) up to
+// 1e7 two decimals ("1234567.89"); anything smaller or larger at most four significant
+// digits in exponent form ("8.595e-16", "5e-05", "1.235e+07").
 func Num(x float64) string {
 	if x != 0 && (math.Abs(x) < 1e-4 || math.Abs(x) >= 1e7) {
 		return strconv.FormatFloat(x, 'g', 4, 64)
