@@ -33,8 +33,7 @@ func longCalls(t *testing.T) []longCall {
 	const bootResamples = 40 * BootstrapBlockSize
 	return []longCall{
 		{"exact", DefaultExactBudget.MaxWork, 0, func(ctx context.Context, progress Progress, workers int) (any, error) {
-			defer setExactWorkers(workers)()
-			return KruskalWallisExact(ctx, rs, ExactBudget{Progress: progress})
+			return KruskalWallisExact(ctx, rs, ExactBudget{Progress: progress, workers: workers})
 		}},
 		{"permutation", mcResamples, PermutationBlockSize, func(ctx context.Context, progress Progress, workers int) (any, error) {
 			return KruskalWallisPermutation(ctx, g, v, 3, r, PermutationOptions{Seed: 11, AnalysisID: "a", Resamples: mcResamples, Workers: workers, Progress: progress})
@@ -43,18 +42,9 @@ func longCalls(t *testing.T) []longCall {
 			return KruskalWallisBootstrap(ctx, r, BootstrapOptions{Seed: 11, AnalysisID: "a", Resamples: bootResamples, Level: 0.95, Workers: workers, Progress: progress})
 		}},
 		{"rank-sum", DefaultExactBudget.MaxWork, 0, func(ctx context.Context, progress Progress, workers int) (any, error) {
-			defer setExactWorkers(workers)()
-			return RankSumTest(ctx, x, y, true, ExactBudget{Progress: progress})
+			return RankSumTest(ctx, x, y, true, ExactBudget{Progress: progress, workers: workers})
 		}},
 	}
-}
-
-// setExactWorkers makes the exact programme use n goroutines until the returned
-// function is called.
-func setExactWorkers(n int) func() {
-	old := exactWorkers
-	exactWorkers = func() int { return n }
-	return func() { exactWorkers = old }
 }
 
 // TestLongFunctionsCancel checks every function that can run long against its context:
