@@ -3,8 +3,9 @@ package stats
 import (
 	"fmt"
 	"math/big"
-	"math/bits"
 	"strconv"
+
+	"rankplan/stats/internal/wide"
 )
 
 // mannWhitneyNull is the exact null distribution of the Mann-Whitney U for samples of
@@ -73,23 +74,9 @@ func mulOneMinus(a []uint64, w, wk, deg, shift int) {
 		}
 		return
 	}
-	if wk == 2 {
-		for u := deg; u >= shift; u-- {
-			i, j := u*w, (u-shift)*w
-			d, s := a[i:i+2:i+2], a[j:j+2:j+2]
-			var borrow uint64
-			d[0], borrow = bits.Sub64(d[0], s[0], 0)
-			d[1], _ = bits.Sub64(d[1], s[1], borrow)
-		}
-		return
-	}
 	for u := deg; u >= shift; u-- {
 		i, j := u*w, (u-shift)*w
-		d, s := a[i:i+wk:i+wk], a[j:j+wk:j+wk]
-		var borrow uint64
-		for l := range d {
-			d[l], borrow = bits.Sub64(d[l], s[l], borrow)
-		}
+		wide.SubWords(a[i:i+wk:i+wk], a[j:j+wk:j+wk])
 	}
 }
 
@@ -102,52 +89,15 @@ func divOneMinus(a []uint64, w, wk, deg, shift int) {
 		}
 		return
 	}
-	if wk == 2 {
-		for u := shift; u <= deg; u++ {
-			i, j := u*w, (u-shift)*w
-			d, s := a[i:i+2:i+2], a[j:j+2:j+2]
-			var carry uint64
-			d[0], carry = bits.Add64(d[0], s[0], 0)
-			d[1], _ = bits.Add64(d[1], s[1], carry)
-		}
-		return
-	}
 	for u := shift; u <= deg; u++ {
 		i, j := u*w, (u-shift)*w
-		d, s := a[i:i+wk:i+wk], a[j:j+wk:j+wk]
-		var carry uint64
-		for l := range d {
-			d[l], carry = bits.Add64(d[l], s[l], carry)
-		}
+		wide.AddWords(a[i:i+wk:i+wk], a[j:j+wk:j+wk])
 	}
 }
 
 // cumAt returns #{U <= u} as a big.Int.
 func (d *mannWhitneyNull) cumAt(u int) *big.Int {
-	return wordsToInt(d.cum[u*d.limbs : (u+1)*d.limbs])
-}
-
-func wordsToInt(w []uint64) *big.Int {
-	x := new(big.Int)
-	var word big.Int
-	for j := len(w) - 1; j >= 0; j-- {
-		x.Lsh(x, 64)
-		x.Or(x, word.SetUint64(w[j]))
-	}
-	return x
-}
-
-// cmpWords compares the W-word numbers x and y.
-func cmpWords(x, y []uint64) int {
-	for j := len(x) - 1; j >= 0; j-- {
-		switch {
-		case x[j] < y[j]:
-			return -1
-		case x[j] > y[j]:
-			return 1
-		}
-	}
-	return 0
+	return wide.WordsToBig(d.cum[u*d.limbs : (u+1)*d.limbs])
 }
 
 // mosesIndex is the choice of the interval's index under the untied null for one level.
@@ -173,22 +123,22 @@ func (d *mannWhitneyNull) index(level float64) (mosesIndex, error) {
 	thr := new(big.Int).Sub(q, p)
 	thr.Mul(thr, d.total)
 	thr.Quo(thr, new(big.Int).Lsh(q, 1))
-	tw := make([]uint64, d.limbs) // thr < C/2 < 2^(64W)
-	for j, word := range thr.Bits() {
-		tw[j] = uint64(word)
+	tw, ok := wide.BigToWords(thr, d.limbs) // thr < C/2 < 2^(64W)
+	if !ok {
+		return mosesIndex{}, fmt.Errorf("mann-whitney null: the threshold %v does not fit %d words", thr, d.limbs)
 	}
 	w := d.limbs
-	if cmpWords(d.cum[0:w], tw) > 0 {
+	if wide.CmpWords(d.cum[0:w], tw) > 0 {
 		return mosesIndex{c: 0, coverage: coverageOf(d.total, big.NewInt(1)), attainable: false}, nil
 	}
 	// The cumulative counts increase strictly: bisect for the last one <= thr.
 	lo, hi := 0, d.upTo // cum[lo] <= thr; cum[hi] > thr is checked below
-	if cmpWords(d.cum[hi*w:(hi+1)*w], tw) <= 0 {
+	if wide.CmpWords(d.cum[hi*w:(hi+1)*w], tw) <= 0 {
 		return mosesIndex{}, fmt.Errorf("mann-whitney null: counts up to %d do not reach the level %v", d.upTo, level)
 	}
 	for hi-lo > 1 {
 		mid := lo + (hi-lo)/2
-		if cmpWords(d.cum[mid*w:(mid+1)*w], tw) <= 0 {
+		if wide.CmpWords(d.cum[mid*w:(mid+1)*w], tw) <= 0 {
 			lo = mid
 		} else {
 			hi = mid

@@ -8,6 +8,7 @@ import (
 	"math/bits"
 	"slices"
 
+	"rankplan/stats/internal/wide"
 	"rankplan/stats/stream"
 )
 
@@ -165,26 +166,6 @@ func permutationSummary(b, m int64) (Permutation, error) {
 	return out, nil
 }
 
-// permU128 is an unsigned 128-bit integer (hi·2^64 + lo).
-type permU128 struct{ hi, lo uint64 }
-
-func (a permU128) less(b permU128) bool { return a.hi < b.hi || (a.hi == b.hi && a.lo < b.lo) }
-
-// add returns a + b and whether it overflowed.
-func (a permU128) add(b permU128) (permU128, bool) {
-	lo, c := bits.Add64(a.lo, b.lo, 0)
-	hi, c := bits.Add64(a.hi, b.hi, c)
-	return permU128{hi, lo}, c != 0
-}
-
-// mul64 returns a·w and whether it overflowed.
-func (a permU128) mul64(w uint64) (permU128, bool) {
-	h1, lo := bits.Mul64(a.lo, w)
-	h2, l2 := bits.Mul64(a.hi, w)
-	hi, c := bits.Add64(l2, h1, 0)
-	return permU128{hi, lo}, h2 != 0 || c != 0
-}
-
 // permSetup is what every worker shares: the doubled rank of each row, the original
 // labels and the comparison rule with the observed statistic.
 type permSetup struct {
@@ -194,7 +175,7 @@ type permSetup struct {
 	exact  bool
 	weight []uint64  // L / n_i (exact rule)
 	sizeF  []float64 // n_i as float64 (float rule)
-	obsQ   permU128  // T_obs · L (exact rule)
+	obsQ   wide.U128 // T_obs · L (exact rule)
 	thresh float64   // T_obs · (1 − 1e-12) (float rule)
 }
 
@@ -250,17 +231,16 @@ func newPermSetupRule(group []int32, values []float64, k int, r *Ranking, allowE
 		lcm = lo
 	}
 	if ps.exact {
-		var sumSq permU128
+		var sumSq wide.U128
 		for _, b := range r.Blocks {
 			d := uint64(b.Rank2)
-			hi, lo := bits.Mul64(uint64(b.Size), d*d) // d < 2^32, so d² fits
-			var of bool
-			if sumSq, of = sumSq.add(permU128{hi, lo}); of {
+			var of bool // d < 2^32, so d² fits
+			if sumSq, of = sumSq.Add(wide.Mul(uint64(b.Size), d*d)); of {
 				ps.exact = false
 				break
 			}
 		}
-		if _, of := sumSq.mul64(lcm); of {
+		if _, of := sumSq.Mul64(lcm); of {
 			ps.exact = false
 		}
 	}
@@ -292,12 +272,11 @@ func permGCD(a, b uint64) uint64 {
 }
 
 // exactQ is T·L = Σ_i S_i² · (L/n_i); newPermSetup has checked that it cannot overflow.
-func (ps *permSetup) exactQ(sums []uint64) permU128 {
-	var q permU128
+func (ps *permSetup) exactQ(sums []uint64) wide.U128 {
+	var q wide.U128
 	for i, s := range sums {
-		hi, lo := bits.Mul64(s, s)
-		t, _ := permU128{hi, lo}.mul64(ps.weight[i])
-		q, _ = q.add(t)
+		t, _ := wide.Mul(s, s).Mul64(ps.weight[i])
+		q, _ = q.Add(t)
 	}
 	return q
 }
@@ -316,7 +295,7 @@ func (ps *permSetup) floatT(sums []uint64) float64 {
 // exceeds reports whether the statistic of sums is at least the observed one.
 func (ps *permSetup) exceeds(sums []uint64) bool {
 	if ps.exact {
-		return !ps.exactQ(sums).less(ps.obsQ)
+		return !ps.exactQ(sums).Less(ps.obsQ)
 	}
 	return ps.floatT(sums) >= ps.thresh
 }

@@ -561,8 +561,8 @@ func TestPermutationWideArithmetic(t *testing.T) {
 		if obs.BitLen() <= 64 {
 			t.Fatalf("T·L has %d bits; the test needs more than 64", obs.BitLen())
 		}
-		got := new(big.Int).Lsh(new(big.Int).SetUint64(ps.obsQ.hi), 64)
-		got.Or(got, new(big.Int).SetUint64(ps.obsQ.lo))
+		got := new(big.Int).Lsh(new(big.Int).SetUint64(ps.obsQ.Hi), 64)
+		got.Or(got, new(big.Int).SetUint64(ps.obsQ.Lo))
 		if got.Cmp(obs) != 0 {
 			t.Fatalf("observed T·L = %v, math/big %v", got, obs)
 		}
