@@ -298,7 +298,7 @@ func editSignature(edit func(map[string]any)) tamperStep {
 				t.Fatal(err)
 			}
 			edit(sig)
-			return must(EncodeJSON(sig))
+			return must(audit.Indented(sig))
 		})(t, fx, dir)
 	}
 }
@@ -547,7 +547,7 @@ func signatureTamperCases() []tamperCase {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if err := os.WriteFile(filepath.Join(dir, SignatureFile), must(EncodeJSON(sig)), 0o644); err != nil {
+			if err := os.WriteFile(filepath.Join(dir, SignatureFile), must(audit.Indented(sig)), 0o644); err != nil {
 				t.Fatal(err)
 			}
 		}, keyOnly(Verified), ""},

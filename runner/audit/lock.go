@@ -1,7 +1,6 @@
 package audit
 
 import (
-	"bytes"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -34,11 +33,8 @@ func WriteLock(path string, l Lock) error {
 	if err := l.check(); err != nil {
 		return err
 	}
-	var buf bytes.Buffer
-	enc := json.NewEncoder(&buf)
-	enc.SetEscapeHTML(false)
-	enc.SetIndent("", "  ")
-	if err := enc.Encode(l); err != nil {
+	b, err := Indented(l)
+	if err != nil {
 		return fmt.Errorf("write lock: %w", err)
 	}
 	f, err := CreateTemp(path)
@@ -47,7 +43,7 @@ func WriteLock(path string, l Lock) error {
 	}
 	tmp := f.Name()
 	defer os.Remove(tmp)
-	_, werr := f.Write(buf.Bytes())
+	_, werr := f.Write(b)
 	serr := f.Sync()
 	cerr := f.Close()
 	if err := errors.Join(werr, serr, cerr); err != nil {

@@ -7,7 +7,7 @@ import (
 	"strconv"
 	"time"
 
-	"rankplan/runner"
+	"rankplan/runner/audit"
 	"rankplan/runner/folder"
 	"rankplan/schemas"
 )
@@ -91,7 +91,7 @@ func EncodeRecord(rep *Report) ([]byte, error) {
 		Name: "rankplan", Version: t.Version, Revision: t.Revision, Modified: t.Modified,
 		Go: t.GoVersion, Platform: t.GOOS + "/" + t.GOARCH, Executable: rep.Executable,
 	}}
-	b, err := runner.EncodeJSON(rec)
+	b, err := audit.Indented(rec)
 	if err != nil {
 		return nil, fmt.Errorf("encode validation record: %w", err)
 	}
