@@ -261,7 +261,7 @@ func TestReportConclusions(t *testing.T) {
 	reportConclusions(r, old, now, "new.csv")
 	var lines []string
 	for _, c := range r.Checks {
-		lines = append(lines, c.Verdict+" "+c.Class+" "+c.Name+": "+c.Detail)
+		lines = append(lines, string(c.Verdict)+" "+string(c.Class)+" "+c.Name+": "+c.Detail)
 	}
 	want := []string{
 		"fail conclusion-changed conclusions: 2 of 9 conclusions at alpha changed on new.csv (0 of 5 p-values moved); each one follows",

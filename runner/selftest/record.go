@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"time"
 
+	"rankplan/runner"
 	"rankplan/runner/audit"
 	"rankplan/runner/folder"
 	"rankplan/schemas"
@@ -35,7 +36,7 @@ func writeFolder(ctx context.Context, rep *Report, opt Options, now func() time.
 	}
 	failed := []string{}
 	for _, o := range res.Cases {
-		if o.Verdict != Pass {
+		if o.Verdict != runner.Pass {
 			failed = append(failed, o.ID)
 		}
 	}
@@ -74,7 +75,7 @@ func writeFolder(ctx context.Context, rep *Report, opt Options, now func() time.
 		return fail(err)
 	}
 	rep.Head, rep.Seq, err = f.Finish(ctx, folder.SelftestFinished{
-		Status: res.Summary.Outcome, Cases: res.Summary.Cases, Passed: res.Summary.Passed, Failed: res.Summary.Failed,
+		Status: string(res.Summary.Outcome), Cases: res.Summary.Cases, Passed: res.Summary.Passed, Failed: res.Summary.Failed,
 	}, nil)
 	if err != nil {
 		return fail(err) // a closing record already written stays the last: the log is closed
