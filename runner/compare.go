@@ -157,12 +157,12 @@ func (c *conclusionComparison) analysis(a, b *results.Analysis, ma, mb *results.
 		rule := ""
 		for _, m := range []*results.Multiplicity{ma, mb} {
 			if m != nil && rule == "" {
-				rule = m.Rule
+				rule = string(m.Rule)
 			}
 		}
 		c.add(a.ID, ConclusionFamily, rule, nil, familyVerdict(a, fa), familyVerdict(b, fb), "p_adj")
 	} else {
-		c.add(a.ID, ConclusionOmnibus, a.Test, nil, omnibusVerdict(a), omnibusVerdict(b), "p")
+		c.add(a.ID, ConclusionOmnibus, string(a.Test), nil, omnibusVerdict(a), omnibusVerdict(b), "p")
 	}
 	pa, pb := a.PostHoc, b.PostHoc
 	if pa == nil && pb == nil {
@@ -172,9 +172,9 @@ func (c *conclusionComparison) analysis(a, b *results.Analysis, ma, mb *results.
 	if ref == nil {
 		ref = pb
 	}
-	item := ref.Method
+	item := string(ref.Method)
 	if ref.Simultaneous == "" {
-		item += ", " + ref.Adjust
+		item += ", " + string(ref.Adjust)
 	}
 	c.add(a.ID, ConclusionPostHoc, item, nil, postHocVerdict(pa), postHocVerdict(pb), "")
 	if pa == nil || pb == nil || !pa.Ran || !pb.Ran {

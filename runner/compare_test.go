@@ -14,6 +14,7 @@ import (
 	"github.com/rogpeppe/go-internal/txtar"
 
 	"rankplan/runner/results"
+	"rankplan/spec"
 )
 
 // comparedBase is a constructed pair of recorded results: analysis "a" (Kruskal-Wallis
@@ -42,7 +43,7 @@ type change struct{ analysis, kind, item, before, after string }
 
 func TestCompareResults(t *testing.T) {
 	p := func(v float64) *float64 { return &v }
-	family := func(r *results.Results, rule string, tested, reject bool, padjE float64) {
+	family := func(r *results.Results, rule spec.MultiplicityRule, tested, reject bool, padjE float64) {
 		r.Multiplicity = &results.Multiplicity{Rule: rule, Alpha: 0.05, Members: []results.Member{
 			{ID: "a", P: &results.Tail{Value: p(0.004)}, PAdjusted: 0.004, Tested: true, Reject: true},
 			{ID: "e", P: &results.Tail{Value: p(0.01)}, PAdjusted: padjE, Tested: tested, Reject: reject}}}
@@ -260,7 +261,7 @@ func TestReportConclusions(t *testing.T) {
 	reportConclusions(r, old, now, "new.csv")
 	var lines []string
 	for _, c := range r.Checks {
-		lines = append(lines, c.Verdict+" "+c.Class+" "+c.Name+": "+c.Detail)
+		lines = append(lines, string(c.Verdict)+" "+string(c.Class)+" "+c.Name+": "+c.Detail)
 	}
 	want := []string{
 		"fail conclusion-changed conclusions: 2 of 9 conclusions at alpha changed on new.csv (0 of 5 p-values moved); each one follows",

@@ -76,11 +76,11 @@ func TestRunFolderContract(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	before := must(EncodeJSON(prep))
+	before := must(audit.Indented(prep))
 	if _, err := Execute(context.Background(), prep, Options{}); err != nil {
 		t.Fatal(err)
 	}
-	if after := must(EncodeJSON(prep)); string(after) != string(before) {
+	if after := must(audit.Indented(prep)); string(after) != string(before) {
 		t.Error("Execute changed its Prepared input")
 	}
 }

@@ -37,7 +37,7 @@ func TestStoppedRunIsIncomplete(t *testing.T) {
 	type tc struct {
 		name    string
 		records int // -1: no log at all
-		want    string
+		want    Class
 	}
 	var cases []tc
 	for k := -1; k <= len(lines); k++ {

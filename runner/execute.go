@@ -153,7 +153,7 @@ func analyse(ctx context.Context, p *spec.Plan, index int, in *Input, opt Option
 	out := results.Analysis{
 		ID:       a.ID,
 		Title:    a.Title,
-		Test:     string(a.Test),
+		Test:     a.Test,
 		Outcome:  a.Outcome,
 		Unit:     a.Unit,
 		Subset:   subsetOf(a),
@@ -278,7 +278,7 @@ func tail(p, log10p float64) *results.Tail {
 // p-value method named in a plan meets its function in package stats.
 func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ranking, kw stats.KruskalWallis, opt Options) (*results.PValue, error) {
 	a := in.Analysis
-	pv := &results.PValue{Requested: string(a.PValue.Method)}
+	pv := &results.PValue{Requested: a.PValue.Method}
 	budget := stats.DefaultExactBudget
 	exact := func() error {
 		ex, err := in.exactP(ctx, r, opt.progress(a.ID, TaskExact))
@@ -286,13 +286,13 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 			return err
 		}
 		t := tail(ex.P, stats.Log10(ex.P))
-		pv.Method, pv.Value, pv.Log10 = string(spec.Exact), t.Value, t.Log10
+		pv.Method, pv.Value, pv.Log10 = spec.Exact, t.Value, t.Log10
 		pv.Exact = &results.ExactWork{PeakStates: ex.States, Work: ex.Work, BudgetStates: budget.MaxStates, BudgetWork: budget.MaxWork}
 		return nil
 	}
 	switch a.PValue.Method {
 	case spec.Asymptotic:
-		pv.Method, pv.Reason = string(spec.Asymptotic), "the plan asks for the asymptotic chi-square reference distribution"
+		pv.Method, pv.Reason = spec.Asymptotic, "the plan asks for the asymptotic chi-square reference distribution"
 		pv.Value, pv.Log10 = tail(kw.P, kw.Log10P).Value, kw.Log10P
 		return pv, nil
 	case spec.Exact:
@@ -330,7 +330,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	if err != nil {
 		return nil, err
 	}
-	pv.Method = string(spec.Permutation)
+	pv.Method = spec.Permutation
 	pv.Value, pv.Log10 = tail(mc.P, stats.Log10(mc.P)).Value, stats.Log10(mc.P)
 	pv.MonteCarlo = &results.MonteCarlo{
 		Resamples:   strconv.FormatInt(mc.Resamples, 10),
@@ -363,7 +363,7 @@ func effectSizes(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking,
 		return es, nil
 	case spec.NoncentralInterval:
 		iv := &results.EffectInterval{
-			Method: results.IntervalNoncentral,
+			Method: spec.NoncentralInterval,
 			Description: "inverts the noncentral chi-square approximation of H (df = k - 1) at the observed H (Steiger 2004) " +
 				"for the noncentrality lambda, and bounds xi^2 = lambda/(N - k), the population share of the rank variance " +
 				"between groups that epsilon-squared and eta-squared(H) both estimate, cut to [0, 1]; it contains 0 exactly " +
@@ -398,7 +398,7 @@ func effectSizes(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking,
 		lo, _ := stats.EpsilonSquared(bs.HLow, kw.N)
 		hi, _ := stats.EpsilonSquared(bs.HHigh, kw.N)
 		iv := &results.EffectInterval{
-			Method: results.IntervalBootstrap,
+			Method: spec.BootstrapInterval,
 			Description: "percentile bootstrap of H, resampling within groups, mapped to each statistic; H is never negative, " +
 				"so this interval rarely contains 0 even when the groups do not differ",
 			Level:          level,

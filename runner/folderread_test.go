@@ -144,7 +144,10 @@ func TestVerifyHostileInputs(t *testing.T) {
 			continue // a kind of file that infiletest.Make does not make
 		}
 		for _, c := range []struct {
-			path, check, verdict, class, detail string
+			path, check string
+			verdict     Verdict
+			class       Class
+			detail      string
 		}{
 			{dataPath, "data file", Fail, ClassDiffer, "the data file " + dataPath + " cannot be read: " + tc.reason},
 			{planPath, "plan file", Skip, Verified, "the original plan " + planPath + " is not at hand (" + tc.reason + "); the copy in the run folder is used"},
@@ -178,7 +181,7 @@ func TestVerifyHostileInputs(t *testing.T) {
 	}
 }
 
-func hasDetail(r *VerifyReport, name, verdict, detail string) bool {
+func hasDetail(r *VerifyReport, name string, verdict Verdict, detail string) bool {
 	for _, c := range r.Checks {
 		if c.Name == name && c.Verdict == verdict && c.Detail == detail {
 			return true

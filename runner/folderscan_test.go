@@ -62,8 +62,8 @@ func TestFolderEntries(t *testing.T) {
 		name       string
 		setup      func(t *testing.T, dir string) string
 		allowExtra bool
-		outcome    string
-		verdict    string // of the check that names file
+		outcome    Class
+		verdict    Verdict // of the check that names file
 		file       string
 		detail     string // the start of its detail
 	}{

@@ -63,7 +63,7 @@ func TestVerifyHeadForms(t *testing.T) {
 	}
 }
 
-func hasCheck(r *VerifyReport, name, verdict string) bool {
+func hasCheck(r *VerifyReport, name string, verdict Verdict) bool {
 	for _, c := range r.Checks {
 		if c.Name == name && c.Verdict == verdict {
 			return true

@@ -12,8 +12,8 @@ import (
 // and changed inputs are still found; combined with Data it is an input error.
 func TestVerifyIntegrityOnly(t *testing.T) {
 	planPath, rec := newRun(t, RunOptions{})
-	verdicts := func(r *VerifyReport) map[string]string {
-		m := map[string]string{}
+	verdicts := func(r *VerifyReport) map[string]Verdict {
+		m := map[string]Verdict{}
 		for _, c := range r.Checks {
 			if m[c.Name] != Fail {
 				m[c.Name] = c.Verdict

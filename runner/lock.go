@@ -36,7 +36,11 @@ func LockPlan(planPath, out string, actor audit.Actor, now time.Time) (audit.Loc
 		Tool:       "rankplan " + Version,
 		Actor:      actor,
 	}
-	if err := audit.WriteLock(out, l); err != nil {
+	b, err := audit.EncodeLock(l)
+	if err != nil {
+		return audit.Lock{}, err
+	}
+	if err := writeFileAtomic(out, b); err != nil {
 		return audit.Lock{}, err
 	}
 	return l, nil

@@ -12,18 +12,22 @@ import (
 
 // multiplicityMethods describes each rule of the plan's multiplicity section, with its
 // source. The adjustments are those of the post-hoc comparisons ([stats.AdjustP]).
+// Every rule of [spec.MultiplicityRules] has an entry (TestVocabularyImplemented).
 var multiplicityMethods = map[spec.MultiplicityRule]string{
-	"bonferroni": "Bonferroni: each omnibus p-value times the family size m, capped at 1",
-	"sidak":      "Šidák (1967): 1 − (1 − p)^m",
-	"holm":       "Holm (1979) step-down over the family's omnibus p-values",
-	"hochberg":   "Hochberg (1988) step-up over the family's omnibus p-values",
-	"hommel":     "Hommel (1988) closed Simes tests over the family's omnibus p-values",
-	"bh":         "Benjamini & Hochberg (1995) false discovery rate step-up",
-	"by":         "Benjamini & Yekutieli (2001) false discovery rate step-up under arbitrary dependence",
+	rule(spec.Bonferroni): "Bonferroni: each omnibus p-value times the family size m, capped at 1",
+	rule(spec.Sidak):      "Šidák (1967): 1 − (1 − p)^m",
+	rule(spec.Holm):       "Holm (1979) step-down over the family's omnibus p-values",
+	rule(spec.Hochberg):   "Hochberg (1988) step-up over the family's omnibus p-values",
+	rule(spec.Hommel):     "Hommel (1988) closed Simes tests over the family's omnibus p-values",
+	rule(spec.BH):         "Benjamini & Hochberg (1995) false discovery rate step-up",
+	rule(spec.BY):         "Benjamini & Yekutieli (2001) false discovery rate step-up under arbitrary dependence",
 	spec.FixedSequence: "fixed sequence (hierarchical testing; Maurer, Hothorn & Lehmacher 1995; Westfall & Krishen 2001): " +
 		"each analysis in the order listed is tested at the full alpha only if every earlier one rejected; " +
 		"adjusted p = the largest p-value so far in the sequence",
 }
+
+// rule names the multiplicity rule that adjusts the family's p-values by a.
+func rule(a spec.Adjustment) spec.MultiplicityRule { return spec.MultiplicityRule(a) }
 
 // multiplicity decides the analyses of the plan's family together and rewrites their
 // decisions. A family member whose test was not computable counts with p = 1: it takes
@@ -37,7 +41,7 @@ var multiplicityMethods = map[spec.MultiplicityRule]string{
 // Stat. Plan. Inference 99:25-40, both recalled from memory).
 func multiplicity(p *spec.Plan, as []results.Analysis) (*results.Multiplicity, error) {
 	m := p.Multiplicity
-	out := &results.Multiplicity{Rule: string(m.Rule), Method: multiplicityMethods[m.Rule], Alpha: p.Alpha}
+	out := &results.Multiplicity{Rule: m.Rule, Method: multiplicityMethods[m.Rule], Alpha: p.Alpha}
 	if out.Method == "" {
 		return nil, fmt.Errorf("multiplicity rule %q has no implementation", m.Rule)
 	}

@@ -122,7 +122,7 @@ func TestMultiplicityThreeEndpoints(t *testing.T) {
 				}
 			}
 			m := res.Multiplicity
-			if m == nil || m.Rule != tc.rule || len(m.Members) != 3 {
+			if m == nil || string(m.Rule) != tc.rule || len(m.Members) != 3 {
 				t.Fatalf("multiplicity %+v", m)
 			}
 			byID := map[string]results.Analysis{}

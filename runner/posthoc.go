@@ -21,7 +21,7 @@ func postHoc(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking, omn
 	if ph.Method == spec.NoPostHoc {
 		return nil, nil
 	}
-	out := &results.PostHoc{Method: string(ph.Method), Adjust: string(ph.Adjust), Family: "all-pairs", When: ph.When}
+	out := &results.PostHoc{Method: ph.Method, Adjust: ph.Adjust, Family: "all-pairs", When: ph.When}
 	k := len(in.Groups)
 	pairs := stats.AllPairs(k)
 	if ph.Control != "" {
@@ -42,7 +42,7 @@ func postHoc(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking, omn
 		out.Note = strings.TrimSpace(out.Note + " Many-to-one comparisons are referred to the all-pairs studentized range, so they are conservative.")
 	}
 	switch {
-	case ph.When == "always":
+	case ph.When == spec.WhenAlways:
 		out.Ran, out.Why = true, "posthoc.when is always: the comparisons run whatever the omnibus result"
 	case omnibus.Reject && omnibus.PAdjusted != nil:
 		out.Ran, out.Why = true, "the omnibus test rejected at alpha under the plan's multiplicity rule (posthoc.when: significant)"

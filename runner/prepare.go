@@ -390,7 +390,7 @@ func (prep *Prepared) Preview() *results.Preview {
 	}
 	for _, in := range prep.Analyses {
 		pa := results.PreviewAnalysis{
-			ID: in.Analysis.ID, Test: string(in.Analysis.Test), PValue: string(in.Analysis.PValue.Method),
+			ID: in.Analysis.ID, Test: in.Analysis.Test, PValue: in.Analysis.PValue.Method,
 			Outcome: in.Analysis.Outcome, Subset: subsetOf(in.Analysis), N: len(in.Values), Excluded: in.Excluded,
 		}
 		if n := in.Analysis.PValue.Resamples; n > 0 {
@@ -402,7 +402,7 @@ func (prep *Prepared) Preview() *results.Preview {
 		pv.Analyses = append(pv.Analyses, pa)
 	}
 	if m := p.Multiplicity; m != nil {
-		pv.Multiplicity = &results.PreviewMultiplicity{Rule: string(m.Rule), Analyses: m.Analyses}
+		pv.Multiplicity = &results.PreviewMultiplicity{Rule: m.Rule, Analyses: m.Analyses}
 	}
 	return pv
 }

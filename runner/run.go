@@ -314,7 +314,7 @@ func closeRunFolder(ctx context.Context, w *folder.Writer, in *runInputs, ex *ex
 			if err != nil {
 				return "", nil, fmt.Errorf("sign: %w", err)
 			}
-			b, err := EncodeJSON(sig)
+			b, err := audit.Indented(sig)
 			rec.Signature = &sig
 			return SignatureFile, b, err
 		}
@@ -465,7 +465,7 @@ func provenance(outputs []namedBytes, planPath string, plan []byte, dataPath, da
 			},
 		},
 	}
-	return EncodeJSON(st)
+	return audit.Indented(st)
 }
 
 type namedBytes struct {

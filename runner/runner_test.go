@@ -544,14 +544,14 @@ func TestEffectIntervalCreamTrial(t *testing.T) {
 		t.Fatalf("sleep p %v, asymptotic %v", *a.PValue.Value, *a.AsymptoticP.Value)
 	}
 	iv := a.EffectSizes.Interval
-	if iv == nil || iv.Method != results.IntervalNoncentral || iv.PopulationEffect == nil || iv.PopulationEffect.Low != 0 ||
+	if iv == nil || iv.Method != spec.NoncentralInterval || iv.PopulationEffect == nil || iv.PopulationEffect.Low != 0 ||
 		iv.Noncentrality.Low != 0 || !(iv.PopulationEffect.High > a.EffectSizes.EpsilonSquared) || iv.Level != 0.95 || iv.Warnings != nil {
 		t.Errorf("sleep interval %+v", iv)
 	}
 	p.Analyses[0].EffectSize.Interval, p.Analyses[0].EffectSize.Resamples = spec.BootstrapInterval, 1000
 	p.Analyses[0].PValue = spec.PValue{Method: spec.Asymptotic}
 	b := runAll(t, p).Analyses[0].EffectSizes.Interval
-	if b == nil || b.Method != results.IntervalBootstrap || !(b.EpsilonSquared.Low > 0) {
+	if b == nil || b.Method != spec.BootstrapInterval || !(b.EpsilonSquared.Low > 0) {
 		t.Errorf("sleep bootstrap interval %+v", b)
 	}
 }

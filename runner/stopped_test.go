@@ -24,7 +24,7 @@ func TestTornLastLine(t *testing.T) {
 	lines := strings.SplitAfter(string(must(os.ReadFile(filepath.Join(rec.Dir, AuditFile)))), "\n")
 	for _, tc := range []struct {
 		name string
-		want string
+		want Class
 	}{{"run.incomplete-0123abcd", ClassIncomplete}, {"run", ClassIntegrity}} {
 		for _, cut := range []int{1, 40, len(lines[5]) - 2} {
 			dir := filepath.Join(t.TempDir(), tc.name)

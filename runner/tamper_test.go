@@ -114,22 +114,22 @@ func (fx *tamperFixture) options(mode int) VerifyOptions {
 }
 
 // expect holds the outcome class required in each of the tamperModes; "a|b" allows either.
-type expect [4]string
+type expect [4]Class
 
 // caught is a content change found either as a contradiction inside the folder
 // (integrity) or by the rerun (differ): the issue leaves the class open.
 const caught = ClassIntegrity + "|" + ClassDiffer
 
-func every(class string) expect { return expect{class, class, class, class} }
+func every(class Class) expect { return expect{class, class, class, class} }
 
 // pinned: plain verify gives plain; the head kept elsewhere and the signature each show
 // that the log is not the one that was pinned.
-func pinned(plain string) expect {
+func pinned(plain Class) expect {
 	return expect{plain, ClassIntegrity, ClassIntegrity, ClassIntegrity}
 }
 
 // keyOnly: only the pinned key can tell; plain verify and --head give plain.
-func keyOnly(plain string) expect { return expect{plain, plain, ClassIntegrity, ClassIntegrity} }
+func keyOnly(plain Class) expect { return expect{plain, plain, ClassIntegrity, ClassIntegrity} }
 
 // tamperStep changes the copy dir of the fixture's run folder.
 type tamperStep func(t *testing.T, fx *tamperFixture, dir string)
@@ -298,7 +298,7 @@ func editSignature(edit func(map[string]any)) tamperStep {
 				t.Fatal(err)
 			}
 			edit(sig)
-			return must(EncodeJSON(sig))
+			return must(audit.Indented(sig))
 		})(t, fx, dir)
 	}
 }
@@ -547,7 +547,7 @@ func signatureTamperCases() []tamperCase {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if err := os.WriteFile(filepath.Join(dir, SignatureFile), must(EncodeJSON(sig)), 0o644); err != nil {
+			if err := os.WriteFile(filepath.Join(dir, SignatureFile), must(audit.Indented(sig)), 0o644); err != nil {
 				t.Fatal(err)
 			}
 		}, keyOnly(Verified), ""},
@@ -622,7 +622,7 @@ func TestTamperMatrix(t *testing.T) {
 					t.Errorf("%s: error %v, want a report", tamperModes[mode], err)
 					continue
 				}
-				if !slices.Contains(strings.Split(want, "|"), r.Outcome) {
+				if !slices.Contains(strings.Split(string(want), "|"), string(r.Outcome)) {
 					t.Errorf("%s: outcome %s, want %s (%s); %s", tamperModes[mode], r.Outcome, want, c.why, failedChecks(r))
 					continue
 				}

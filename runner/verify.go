@@ -20,22 +20,29 @@ import (
 	"rankplan/spec"
 )
 
-// Verdicts of a verify check. A skipped check is never counted as passed.
+// Verdict is the verdict of a check: of verify, or of a selftest case (pass or fail only).
+type Verdict string
+
+// Verdicts of a check. A skipped check is never counted as passed.
 const (
-	Pass = "pass"
-	Fail = "fail"
-	Skip = "skip"
-	Warn = "warn"
+	Pass Verdict = "pass"
+	Fail Verdict = "fail"
+	Skip Verdict = "skip"
+	Warn Verdict = "warn"
 )
 
-// Classes of failure, from the most to the least severe; the outcome of a verify is the
-// class of its worst failed check, or "verified".
+// Class is the class of a failed verify check, and the outcome of a verify: the class of
+// its worst failed check, or [Verified].
+type Class string
+
+// Classes of failure, from the most to the least severe, and the outcome when no check
+// failed.
 const (
-	ClassIntegrity  = "integrity"          // tampering, broken chain, bad signature, missing files
-	ClassIncomplete = "incomplete"         // the run never finished (killed, or failed)
-	ClassDiffer     = "differ"             // inputs changed, or the rerun gives other results
-	ClassConclusion = "conclusion-changed" // verify --data: a decision at alpha flipped
-	Verified        = "verified"
+	ClassIntegrity  Class = "integrity"          // tampering, broken chain, bad signature, missing files
+	ClassIncomplete Class = "incomplete"         // the run never finished (killed, or failed)
+	ClassDiffer     Class = "differ"             // inputs changed, or the rerun gives other results
+	ClassConclusion Class = "conclusion-changed" // verify --data: a decision at alpha flipped
+	Verified        Class = "verified"
 )
 
 // The records and the main file of a selftest folder (rankplan selftest --out), which
@@ -49,17 +56,17 @@ const (
 
 // Check is one verdict of [Verify].
 type Check struct {
-	Name    string `json:"check"`
-	Verdict string `json:"verdict"`
-	Class   string `json:"class,omitempty"` // for failures
-	File    string `json:"file,omitempty"`
-	Detail  string `json:"detail"`
+	Name    string  `json:"check"`
+	Verdict Verdict `json:"verdict"`
+	Class   Class   `json:"class,omitempty"` // for failures
+	File    string  `json:"file,omitempty"`
+	Detail  string  `json:"detail"`
 }
 
 // VerifyReport is everything [Verify] found.
 type VerifyReport struct {
 	Dir     string  `json:"dir"`
-	Outcome string  `json:"outcome"`
+	Outcome Class   `json:"outcome"`
 	Records int64   `json:"records"`
 	Head    string  `json:"head"`
 	Checks  []Check `json:"checks"`
@@ -108,7 +115,7 @@ func ParseHead(s string) (string, error) {
 	return "sha256:" + strings.ToLower(hexPart), nil
 }
 
-func (r *VerifyReport) add(name, verdict, class, file, format string, args ...any) {
+func (r *VerifyReport) add(name string, verdict Verdict, class Class, file, format string, args ...any) {
 	if verdict != Fail {
 		class = ""
 	}
@@ -559,7 +566,7 @@ func compareConclusions(r *VerifyReport, old []byte, fresh *results.Results, dat
 	reportConclusions(r, old, fresh, dataPath)
 }
 
-func failed(checks []Check, class string) bool {
+func failed(checks []Check, class Class) bool {
 	for _, c := range checks {
 		if c.Verdict == Fail && c.Class == class {
 			return true
@@ -568,8 +575,8 @@ func failed(checks []Check, class string) bool {
 	return false
 }
 
-func outcome(checks []Check) string {
-	for _, class := range []string{ClassIntegrity, ClassIncomplete, ClassDiffer, ClassConclusion} {
+func outcome(checks []Check) Class {
+	for _, class := range []Class{ClassIntegrity, ClassIncomplete, ClassDiffer, ClassConclusion} {
 		if failed(checks, class) {
 			return class
 		}
@@ -593,7 +600,7 @@ func (r *VerifyReport) WriteText(w io.Writer) error {
 	ew := &textWriter{w: w}
 	ew.printf("verify %s\n", r.Dir)
 	for _, c := range r.Checks {
-		ew.printf("  %-4s  %-11s %s\n", strings.ToUpper(c.Verdict), c.Name, c.Detail)
+		ew.printf("  %-4s  %-11s %s\n", strings.ToUpper(string(c.Verdict)), c.Name, c.Detail)
 	}
 	switch r.Outcome {
 	case Verified:
@@ -628,7 +635,7 @@ func (r *VerifyReport) WriteMarkdown(w io.Writer) error {
 	skipped := r.skipped()
 	switch {
 	case r.Outcome != Verified:
-		ew.printf("### Verify status: **not verified** (%s)\n\n", report.MarkdownText(r.Outcome))
+		ew.printf("### Verify status: **not verified** (%s)\n\n", report.MarkdownText(string(r.Outcome)))
 	case skipped > 0:
 		ew.printf("### Verify status: verified, with %d check(s) skipped\n\n", skipped)
 	default:

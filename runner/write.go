@@ -1,14 +1,13 @@
 package runner
 
 import (
-	"bytes"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io/fs"
 	"os"
 	"path/filepath"
 
+	"rankplan/runner/audit"
 	"rankplan/runner/folder"
 	"rankplan/runner/results"
 	"rankplan/schemas"
@@ -19,20 +18,17 @@ import (
 var ErrOutExists = folder.ErrExists
 
 // EncodeResults returns the bytes of results.json: indented JSON without HTML escaping,
-// ending in a newline. It checks the value against the results schema first, so that a
+// ending in a newline ([audit.Indented]). It checks the value against the results schema first, so that a
 // file that does not match its published schema is never written.
 func EncodeResults(res *results.Results) ([]byte, error) {
-	var buf bytes.Buffer
-	enc := json.NewEncoder(&buf)
-	enc.SetEscapeHTML(false)
-	enc.SetIndent("", "  ")
-	if err := enc.Encode(res); err != nil {
+	b, err := audit.Indented(res)
+	if err != nil {
 		return nil, fmt.Errorf("encode results: %w", err)
 	}
-	if err := ValidateResults(buf.Bytes()); err != nil {
+	if err := ValidateResults(b); err != nil {
 		return nil, err
 	}
-	return buf.Bytes(), nil
+	return b, nil
 }
 
 // ValidateResults checks results.json bytes against the embedded results schema.

@@ -38,31 +38,3 @@ func TestSource(t *testing.T) {
 		t.Error("unknown schema name accepted")
 	}
 }
-
-// TestPlanSchemaEnumsDocumented keeps the enumerations of the plan schema and the values
-// `rankplan init` offers in step: both are part of the interface scripts rely on.
-func TestPlanSchemaEnums(t *testing.T) {
-	_, tree, err := Plan()
-	if err != nil {
-		t.Fatal(err)
-	}
-	defs := tree.(map[string]any)["$defs"].(map[string]any)
-	enum := func(def, prop string) []string {
-		var out []string
-		for _, v := range defs[def].(map[string]any)["properties"].(map[string]any)[prop].(map[string]any)["enum"].([]any) {
-			out = append(out, v.(string))
-		}
-		return out
-	}
-	for _, tc := range []struct {
-		def, prop, want string
-	}{
-		{"pvalue", "method", "asymptotic exact permutation auto"},
-		{"posthoc", "method", "none dunn conover dscf nemenyi rank-sum"},
-		{"posthoc", "adjust", "none bonferroni sidak holm hochberg hommel bh by"},
-	} {
-		if got := strings.Join(enum(tc.def, tc.prop), " "); got != tc.want {
-			t.Errorf("%s.%s: %s, want %s", tc.def, tc.prop, got, tc.want)
-		}
-	}
-}

@@ -57,29 +57,32 @@ func (d Draft) YAML() []byte {
 	p("  outcome: %s\n", q(d.Outcome))
 	p("  missing:\n")
 	p("    tokens: [\"\", \"NA\"]  # cell texts that mean a missing value\n")
-	p("    policy: exclude  # exclude: leave such rows out and count them; fail: stop at the first\n\n")
+	p("    policy: %s  # %s: leave such rows out and count them; %s: stop at the first\n\n", ExcludeMissing, ExcludeMissing, FailOnMissing)
 	p("# groups:  # optional: analyse only some groups (include), or fix the report order (order)\n")
 	p("#   include: [\"A\", \"B\", \"C\"]\n\n")
 	p("alpha: %s  # the significance level\n", strconv.FormatFloat(d.Alpha, 'g', -1, 64))
 	p("seed: %d  # seeds every random stream; keep it once the plan is registered\n\n", d.Seed)
 	p("analyses:\n")
 	p("  - id: \"primary\"\n")
-	p("    test: kruskal-wallis\n")
+	p("    test: %s\n", KruskalWallis)
 	p("    pvalue:\n")
-	p("      method: %s  # asymptotic | exact | permutation | auto\n", d.PValue)
+	p("      method: %s  # %s\n", d.PValue, choices(PValueMethods()))
 	if d.Resamples > 0 {
 		p("      resamples: %d  # Monte Carlo resamples (permutation, auto)\n", d.Resamples)
 	} else {
 		p("      # resamples: 100000  # Monte Carlo resamples (permutation, auto)\n")
 	}
 	p("    effect_size:\n")
-	p("      interval: %s  # noncentral | bootstrap (then also resamples: 2000) | none\n", DefaultEffectInterval)
+	p("      interval: %s  # %s\n", DefaultEffectInterval, strings.Replace(choices(IntervalMethods()), string(BootstrapInterval), string(BootstrapInterval)+" (then also resamples: 2000)", 1))
 	p("      level: %s  # confidence level of the interval\n", strconv.FormatFloat(DefaultEffectLevel, 'g', -1, 64))
 	p("    posthoc:\n")
-	p("      method: %s  # none | dunn | conover | dscf | nemenyi | rank-sum\n", d.PostHoc)
-	p("      adjust: %s  # none | bonferroni | sidak | holm | hochberg | hommel | bh | by\n", d.Adjust)
+	p("      method: %s  # %s\n", d.PostHoc, choices(PostHocs()))
+	p("      adjust: %s  # %s\n", d.Adjust, choices(Adjustments()))
 	if d.Control != "" {
 		p("      control: %s  # compare each group with this one only\n", q(d.Control))
 	}
 	return b.Bytes()
 }
+
+// choices writes a vocabulary list as the draft's comments show it: "a | b | c".
+func choices[T ~string](values []T) string { return strings.Join(Names(values), " | ") }

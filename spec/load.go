@@ -146,7 +146,7 @@ func (p *Plan) check() ErrorList {
 			add(at+".outcome", "the outcome column must differ from the group column %q", p.Data.Group)
 		}
 		if a.Test != KruskalWallis {
-			add(at+".test", "%q is %s; use \"kruskal-wallis\"", a.Test, notImplemented)
+			add(at+".test", "%q is %s; use %q", a.Test, notImplemented, KruskalWallis)
 		}
 		switch m := a.PValue.Method; m {
 		case Permutation, Auto:

@@ -9,69 +9,6 @@ import (
 // FormatVersion is the plan format this package reads (the plan's `rankplan` key).
 const FormatVersion = 1
 
-// Test names an omnibus test. Only [KruskalWallis] runs in this release; the schema
-// accepts the others so that plans can name them, and [Parse] refuses them as not
-// implemented yet.
-type Test string
-
-// The omnibus tests a plan can name.
-const (
-	KruskalWallis      Test = "kruskal-wallis"
-	JonckheereTerpstra Test = "jonckheere-terpstra"
-	MedianTest         Test = "median"
-	ANOVA              Test = "anova"
-	WelchANOVA         Test = "welch-anova"
-	FlignerKilleen     Test = "fligner-killeen"
-)
-
-// PValueMethod names how the omnibus p-value is computed.
-type PValueMethod string
-
-// The p-value methods a plan can name.
-const (
-	Asymptotic  PValueMethod = "asymptotic"  // chi-square reference distribution
-	Exact       PValueMethod = "exact"       // exact permutation distribution given the ties
-	Permutation PValueMethod = "permutation" // Monte Carlo permutation with a resample count
-	Auto        PValueMethod = "auto"        // exact within the work budget, else Monte Carlo
-)
-
-// PostHoc names a pairwise procedure.
-type PostHoc string
-
-// The pairwise procedures a plan can name.
-const (
-	NoPostHoc PostHoc = "none"
-	Dunn      PostHoc = "dunn"
-	Conover   PostHoc = "conover"
-	DSCF      PostHoc = "dscf"
-	Nemenyi   PostHoc = "nemenyi"
-	RankSum   PostHoc = "rank-sum"
-)
-
-// Adjustment names a multiplicity adjustment.
-type Adjustment string
-
-// The adjustments a plan can name.
-const (
-	NoAdjustment Adjustment = "none"
-	Bonferroni   Adjustment = "bonferroni"
-	Sidak        Adjustment = "sidak"
-	Holm         Adjustment = "holm"
-	Hochberg     Adjustment = "hochberg"
-	Hommel       Adjustment = "hommel"
-	BH           Adjustment = "bh"
-	BY           Adjustment = "by"
-)
-
-// MissingPolicy says what happens to rows with a missing group or outcome.
-type MissingPolicy string
-
-// The missing-value policies.
-const (
-	ExcludeMissing MissingPolicy = "exclude" // leave the row out and count it per group and reason
-	FailOnMissing  MissingPolicy = "fail"    // stop with an error naming the cell
-)
-
 // Plan is a validated analysis plan. Optional keys hold their defaults after [Parse]
 // (see [Plan.applyDefaults]); [Plan.Pos] finds where any key was written.
 type Plan struct {
@@ -147,14 +84,6 @@ type Subset struct {
 	Values []string `json:"values"`
 }
 
-// MultiplicityRule names how decisions are made across a family of analyses: one of the
-// [Adjustment] names other than none, or [FixedSequence].
-type MultiplicityRule string
-
-// FixedSequence tests the family's analyses in the order listed, each at the full alpha,
-// and stops at the first that does not reject.
-const FixedSequence MultiplicityRule = "fixed-sequence"
-
 // Multiplicity is the plan's control of the error rate across analyses.
 type Multiplicity struct {
 	Rule MultiplicityRule `json:"rule"`
@@ -162,21 +91,6 @@ type Multiplicity struct {
 	// default: every analysis, in plan order.
 	Analyses []string `json:"analyses"`
 }
-
-// IntervalMethod names how the interval of the omnibus effect sizes is computed.
-type IntervalMethod string
-
-// The effect-size intervals a plan can name.
-const (
-	// NoncentralInterval inverts the noncentral chi-square approximation of H: an interval
-	// of the population effect that agrees with the asymptotic test (the default).
-	NoncentralInterval IntervalMethod = "noncentral"
-	// BootstrapInterval is the percentile bootstrap of H, resampling within groups; it needs
-	// resamples. Kept for plans that registered it.
-	BootstrapInterval IntervalMethod = "bootstrap"
-	// NoInterval reports the estimates alone.
-	NoInterval IntervalMethod = "none"
-)
 
 // EffectSize is how an analysis reports its omnibus effect sizes.
 type EffectSize struct {
@@ -202,7 +116,7 @@ type PostHocPlan struct {
 	Method  PostHoc    `json:"method"`            // default none
 	Adjust  Adjustment `json:"adjust"`            // default none
 	Control string     `json:"control,omitempty"` // empty: all pairs
-	When    string     `json:"when,omitempty"`    // "significant" or "always"
+	When    When       `json:"when,omitempty"`    // default significant, with a method
 }
 
 // Seed is the plan's seed, an unsigned 64-bit integer. In JSON it is written as a decimal
@@ -275,7 +189,7 @@ func (p *Plan) applyDefaults() {
 			a.PostHoc.Adjust = NoAdjustment
 		}
 		if a.PostHoc.When == "" && a.PostHoc.Method != NoPostHoc {
-			a.PostHoc.When = "significant"
+			a.PostHoc.When = WhenSignificant
 		}
 	}
 }

@@ -1,8 +1,6 @@
 package main
 
 import (
-	"encoding/json"
-
 	"github.com/spf13/cobra"
 
 	"rankplan/runner"
@@ -39,10 +37,7 @@ p-value method, groups and exclusions); with --quiet only problems are printed.`
 				return err
 			}
 			if jsonOut {
-				enc := json.NewEncoder(c.OutOrStdout())
-				enc.SetIndent("", "  ")
-				enc.SetEscapeHTML(false)
-				return enc.Encode(prep.Preview())
+				return writeJSON(c.OutOrStdout(), prep.Preview())
 			}
 			return report.PreviewWith(summaryOut(c), prep.Preview(), args[0], prep.DataPath, u.style())
 		},

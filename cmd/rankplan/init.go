@@ -15,10 +15,11 @@ import (
 // Monte Carlo standard error is then at most 0.0016, and about 0.0007 at p = 0.05.
 const defaultResamples = 100000
 
+// The choices of init's method flags: the plan vocabulary's lists (package spec).
 var (
-	pvalueNames  = []string{"asymptotic", "exact", "permutation", "auto"}
-	posthocNames = []string{"none", "dunn", "conover", "dscf", "nemenyi", "rank-sum"}
-	adjustNames  = []string{"none", "bonferroni", "sidak", "holm", "hochberg", "hommel", "bh", "by"}
+	pvalueNames  = spec.Names(spec.PValueMethods())
+	posthocNames = spec.Names(spec.PostHocs())
+	adjustNames  = spec.Names(spec.Adjustments())
 )
 
 func newInitCmd() *cobra.Command {

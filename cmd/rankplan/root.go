@@ -13,6 +13,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"rankplan/runner"
+	"rankplan/runner/audit"
 	"rankplan/runner/data"
 	"rankplan/runner/selftest"
 	"rankplan/spec"
@@ -189,6 +190,16 @@ func summaryOut(c *cobra.Command) io.Writer {
 		return io.Discard
 	}
 	return c.OutOrStdout()
+}
+
+// writeJSON writes v to w as the --json outputs show it ([audit.Indented]).
+func writeJSON(w io.Writer, v any) error {
+	b, err := audit.Indented(v)
+	if err != nil {
+		return err
+	}
+	_, err = w.Write(b)
+	return err
 }
 
 // exactArgs is cobra.ExactArgs with our usage error type and wording.

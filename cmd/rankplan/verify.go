@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/json"
 	"fmt"
 	"strings"
 
@@ -130,10 +129,7 @@ the rerun (not with --json or --quiet).`,
 					fmt.Fprintf(c.ErrOrStderr(), "rankplan: verify %s: not verified: %s; failed: %s\n", args[0], rep.Outcome, strings.Join(failed, "; "))
 				}
 			} else if jsonOut {
-				enc := json.NewEncoder(c.OutOrStdout())
-				enc.SetIndent("", "  ")
-				enc.SetEscapeHTML(false)
-				if err := enc.Encode(rep); err != nil {
+				if err := writeJSON(c.OutOrStdout(), rep); err != nil {
 					return err
 				}
 			} else if err := rep.WriteText(c.OutOrStdout()); err != nil {

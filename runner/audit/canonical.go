@@ -32,17 +32,34 @@ const digestPrefix = "sha256:"
 // strings. NaN, ±Inf, invalid UTF-8 surrogates and duplicate member names
 // (in a json.RawMessage) are errors.
 func Canonical(v any) ([]byte, error) {
-	var buf bytes.Buffer
-	enc := json.NewEncoder(&buf)
-	enc.SetEscapeHTML(false)
-	if err := enc.Encode(v); err != nil {
+	b, err := encodeJSON(v, "")
+	if err != nil {
 		return nil, fmt.Errorf("canonical json: %w", err)
 	}
-	out, err := jcs.Transform(bytes.TrimRight(buf.Bytes(), "\n"))
+	out, err := jcs.Transform(bytes.TrimRight(b, "\n"))
 	if err != nil {
 		return nil, fmt.Errorf("canonical json: %w", err)
 	}
 	return out, nil
+}
+
+// Indented returns v as JSON for people and for the files of a run: members on their own
+// lines indented by two spaces, no HTML escaping (<, > and & stay as written) and a final
+// newline. Every such output goes through it: results.json, validation.json, locks,
+// signatures, `check --json` and `verify --json`.
+func Indented(v any) ([]byte, error) { return encodeJSON(v, "  ") }
+
+// encodeJSON is json.Marshal without HTML escaping, indented by indent ("" for none),
+// with a final newline.
+func encodeJSON(v any, indent string) ([]byte, error) {
+	var buf bytes.Buffer
+	enc := json.NewEncoder(&buf)
+	enc.SetEscapeHTML(false)
+	enc.SetIndent("", indent)
+	if err := enc.Encode(v); err != nil {
+		return nil, err
+	}
+	return buf.Bytes(), nil
 }
 
 // Digest returns the content digest of b.

@@ -106,9 +106,7 @@ func ExampleDiff() {
 	// Output: [alpha analyses[0].pvalue.method seed] <nil>
 }
 
-func ExampleWriteLock() {
-	dir, _ := os.MkdirTemp("", "audit")
-	defer os.RemoveAll(dir)
+func ExampleEncodeLock() {
 	raw := []byte(`{"id": "demo", "alpha": 0.05}`) // an invented plan
 	plan, _ := audit.Canonical(json.RawMessage(raw))
 	l := audit.Lock{
@@ -116,13 +114,15 @@ func ExampleWriteLock() {
 		Plan: plan, LockedAt: audit.FormatTime(time.Date(2026, 12, 1, 0, 0, 0, 0, time.UTC)),
 		Tool: "rankplan demo", Actor: audit.Actor{User: "demo", Host: "h"},
 	}
-	path := filepath.Join(dir, "plan.lock")
-	fmt.Println(audit.WriteLock(path, l))
-	fmt.Println(audit.WriteLock(path, l) != nil) // never replaces a lock
-	got, err := audit.ReadLock(path)
+	b, err := audit.EncodeLock(l)
+	fmt.Println(err)
+	got, err := audit.ParseLock(b)
 	fmt.Println(string(got.Plan), err)
+	l.Plan = json.RawMessage(`{"id":"demo","alpha":0.01}`) // no longer the plan its digest names
+	_, err = audit.EncodeLock(l)
+	fmt.Println(err != nil)
 	// Output:
 	// <nil>
-	// true
 	// {"alpha":0.05,"id":"demo"} <nil>
+	// true
 }

@@ -1,11 +1,9 @@
 package audit
 
 import (
-	"bytes"
 	"encoding/json"
 	"errors"
 	"fmt"
-	"os"
 
 	"rankplan/internal/infile"
 )
@@ -27,36 +25,19 @@ type Lock struct {
 	Actor      Actor           `json:"actor"`
 }
 
-// WriteLock writes l to path as indented JSON, refusing an existing path: the file is
-// written to a temporary name in the same folder, synced and hard-linked into place (the
-// link fails if path exists).
-func WriteLock(path string, l Lock) error {
+// EncodeLock returns the bytes of the lock file for l: indented JSON ([Indented]), after
+// checking that l is whole (format, the plan's digest, raw_sha256, locked_at). The caller
+// writes them to a new file that never replaces one (runner.LockPlan, through
+// folder.WriteNew).
+func EncodeLock(l Lock) ([]byte, error) {
 	if err := l.check(); err != nil {
-		return err
+		return nil, err
 	}
-	var buf bytes.Buffer
-	enc := json.NewEncoder(&buf)
-	enc.SetEscapeHTML(false)
-	enc.SetIndent("", "  ")
-	if err := enc.Encode(l); err != nil {
-		return fmt.Errorf("write lock: %w", err)
-	}
-	f, err := CreateTemp(path)
+	b, err := Indented(l)
 	if err != nil {
-		return fmt.Errorf("write lock: %w", err)
+		return nil, fmt.Errorf("encode lock: %w", err)
 	}
-	tmp := f.Name()
-	defer os.Remove(tmp)
-	_, werr := f.Write(buf.Bytes())
-	serr := f.Sync()
-	cerr := f.Close()
-	if err := errors.Join(werr, serr, cerr); err != nil {
-		return fmt.Errorf("write lock: %w", err)
-	}
-	if err := os.Link(tmp, path); err != nil {
-		return fmt.Errorf("write lock: %w", err)
-	}
-	return nil
+	return b, nil
 }
 
 // MaxLockBytes is the largest lock file read: 1 MiB, four times the largest plan.

@@ -39,15 +39,12 @@ func TestLockRoundTrip(t *testing.T) {
 	l := Lock{Format: LockFormat, PlanID: "p", PlanSHA256: Digest(plan), RawSHA256: Digest([]byte("raw")),
 		Plan: plan, LockedAt: FormatTime(time.Date(2026, 12, 1, 0, 0, 0, 5, time.UTC)), Tool: "rankplan test", Actor: Actor{User: "u", Host: "h"}}
 	path := filepath.Join(t.TempDir(), "p.lock.json")
-	if err := WriteLock(path, l); err != nil {
+	if err := writeLock(path, l); err != nil {
 		t.Fatal(err)
 	}
 	got, err := ReadLock(path)
 	if err != nil || !reflect.DeepEqual(got, l) {
 		t.Fatalf("round trip: %v\n%+v\n%+v", err, got, l)
-	}
-	if err := WriteLock(path, l); err == nil {
-		t.Error("WriteLock replaced an existing file")
 	}
 	b, _ := os.ReadFile(path)
 	for name, edit := range map[string]func(string) string{

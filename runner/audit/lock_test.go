@@ -3,8 +3,6 @@ package audit
 import (
 	"bytes"
 	"encoding/json"
-	"errors"
-	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -26,11 +24,21 @@ func testLock(t testing.TB) Lock {
 		PlanID:     "demo-1",
 		PlanSHA256: Digest(canon),
 		RawSHA256:  Digest([]byte(planRaw)),
-		Plan:       json.RawMessage(planRaw), // WriteLock stores the canonical form
+		Plan:       json.RawMessage(planRaw), // the lock file holds it as written; ReadLock returns the canonical form
 		LockedAt:   FormatTime(signTime),
 		Tool:       "rankplan 0.0.0-test",
 		Actor:      testActor,
 	}
+}
+
+// writeLock writes the lock file for l to path, as runner.LockPlan does but without its
+// refusal of an existing path (folder.WriteNew, tested there).
+func writeLock(path string, l Lock) error {
+	b, err := EncodeLock(l)
+	if err != nil {
+		return err
+	}
+	return os.WriteFile(path, b, FileMode)
 }
 
 func TestLockRoundTripFile(t *testing.T) {
@@ -38,11 +46,11 @@ func TestLockRoundTripFile(t *testing.T) {
 	p := filepath.Join(dir, "plan.lock")
 	l := testLock(t)
 	before := append([]byte(nil), l.Plan...)
-	if err := WriteLock(p, l); err != nil {
+	if err := writeLock(p, l); err != nil {
 		t.Fatal(err)
 	}
 	if !bytes.Equal(l.Plan, before) {
-		t.Error("WriteLock changed the caller's Plan bytes")
+		t.Error("EncodeLock changed the caller's Plan bytes")
 	}
 	got, err := ReadLock(p)
 	if err != nil {
@@ -53,22 +61,10 @@ func TestLockRoundTripFile(t *testing.T) {
 		got.PlanID != "demo-1" || got.LockedAt != l.LockedAt || got.Tool != l.Tool || got.Actor.User != "tester" {
 		t.Errorf("read back %+v", got)
 	}
-	entries, _ := os.ReadDir(dir)
-	if len(entries) != 1 {
-		t.Errorf("directory holds %d entries after WriteLock, want only the lock", len(entries))
-	}
 }
 
-func TestWriteLockRefuses(t *testing.T) {
-	dir := t.TempDir()
-	p := filepath.Join(dir, "plan.lock")
-	os.WriteFile(p, []byte("keep"), 0o644)
-	if err := WriteLock(p, testLock(t)); !errors.Is(err, os.ErrExist) {
-		t.Errorf("existing path: %v", err)
-	}
-	if b, _ := os.ReadFile(p); string(b) != "keep" {
-		t.Error("existing lock overwritten")
-	}
+// TestEncodeLockRefuses: a lock that is not whole is never encoded.
+func TestEncodeLockRefuses(t *testing.T) {
 	bad := []func(*Lock){
 		func(l *Lock) { l.Format = "rankplan-lock/2" },
 		func(l *Lock) { l.PlanSHA256 = Digest([]byte("x")) },
@@ -80,12 +76,8 @@ func TestWriteLockRefuses(t *testing.T) {
 	for i, f := range bad {
 		l := testLock(t)
 		f(&l)
-		q := filepath.Join(dir, fmt.Sprintf("bad%d.lock", i))
-		if err := WriteLock(q, l); err == nil {
-			t.Errorf("bad lock %d written", i)
-		}
-		if _, err := os.Stat(q); !errors.Is(err, os.ErrNotExist) {
-			t.Errorf("bad lock %d left a file", i)
+		if b, err := EncodeLock(l); err == nil {
+			t.Errorf("bad lock %d encoded: %s", i, b)
 		}
 	}
 }
@@ -94,7 +86,7 @@ func TestWriteLockRefuses(t *testing.T) {
 func TestReadLockTamper(t *testing.T) {
 	dir := t.TempDir()
 	p := filepath.Join(dir, "plan.lock")
-	if err := WriteLock(p, testLock(t)); err != nil {
+	if err := writeLock(p, testLock(t)); err != nil {
 		t.Fatal(err)
 	}
 	good, _ := os.ReadFile(p)

@@ -205,7 +205,7 @@ func TestParseSignatureStrict(t *testing.T) {
 func TestReadLockKinds(t *testing.T) {
 	dir := t.TempDir()
 	p := filepath.Join(dir, "plan.lock")
-	if err := WriteLock(p, testLock(t)); err != nil {
+	if err := writeLock(p, testLock(t)); err != nil {
 		t.Fatal(err)
 	}
 	good, err := os.ReadFile(p)

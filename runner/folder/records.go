@@ -1,6 +1,9 @@
 package folder
 
-import "rankplan/runner/results"
+import (
+	"rankplan/runner/results"
+	"rankplan/spec"
+)
 
 // Record is the data of one audit record: a typed value that knows its event.
 type Record interface {
@@ -110,12 +113,12 @@ type RandomStream struct {
 
 // AnalysisFinished records how one analysis ended.
 type AnalysisFinished struct {
-	Analysis        string       `json:"analysis"`
-	Status          string       `json:"status"`
-	PValueRequested string       `json:"p_value_requested,omitempty"`
-	PValueMethod    string       `json:"p_value_method,omitempty"`
-	Reason          string       `json:"reason,omitempty"`
-	RandomStream    RandomStream `json:"random_stream"`
+	Analysis        string            `json:"analysis"`
+	Status          string            `json:"status"`
+	PValueRequested spec.PValueMethod `json:"p_value_requested,omitempty"`
+	PValueMethod    spec.PValueMethod `json:"p_value_method,omitempty"`
+	Reason          string            `json:"reason,omitempty"`
+	RandomStream    RandomStream      `json:"random_stream"`
 }
 
 // OutputWritten records one file of the folder with its size and SHA-256. The main file

@@ -57,14 +57,14 @@ func PairsCSV(w io.Writer, res *results.Results) error {
 		if ph == nil || !ph.Ran {
 			continue
 		}
-		adjust := ph.Adjust
+		adjust := string(ph.Adjust)
 		if ph.Simultaneous != "" {
 			adjust = "simultaneous"
 		}
 		for _, p := range ph.Pairs {
 			hl := p.HodgesLehmann
 			row := []string{
-				cellText(a.ID), cellText(a.Outcome), ph.Method, adjust, ph.Family, cellText(p.Groups[0]), cellText(p.Groups[1]),
+				cellText(a.ID), cellText(a.Outcome), string(ph.Method), adjust, ph.Family, cellText(p.Groups[0]), cellText(p.Groups[1]),
 				f(p.MeanRankDiff), ph.Statistic, fp(p.Statistic), p.PMethod, fp(p.P), fp(p.PAdjusted), strconv.FormatBool(p.Reject),
 				f(p.CliffsDelta), f(p.VarghaDelaneyA), f(hl.Shift), f(hl.Interval.Low), f(hl.Interval.High), f(hl.Interval.Level),
 				"", hl.IndexMethod, strconv.FormatBool(hl.LevelAttainable), strconv.FormatBool(hl.TiedValues),

@@ -11,6 +11,7 @@ import (
 	"strings"
 
 	"rankplan/runner/results"
+	"rankplan/spec"
 )
 
 // Meta is what the report shows beyond results.json: provenance for the header and footer.
@@ -214,7 +215,7 @@ func analysisView(i int, a *results.Analysis, alpha float64, vals [][]float64) (
 	if ph := a.PostHoc; ph != nil {
 		v.PostHocSay = postHocNames[ph.Method]
 		if v.PostHocSay == "" {
-			v.PostHocSay = ph.Method
+			v.PostHocSay = string(ph.Method)
 		}
 		v.FamilySay = "all pairs of groups"
 		if ph.Family == "many-to-one" {
@@ -277,16 +278,18 @@ var htmlFuncs = template.FuncMap{
 		}
 		return v
 	},
-	"hlinterval": func(p results.Pair) string { return hlIntervalCell(p.HodgesLehmann) },
-	"hlnotes":    func(a *htmlAnalysis) []string { return hlIntervalNotes(a.Analysis) },
-	"num":        Num,
-	"pct":        pct,
-	"fmtp":       FormatP,
-	"method":     methodName,
-	"test":       testName,
-	"exclude":    Exclusions,
-	"subset":     subsetText,
-	"reason":     reasonText,
+	"hlinterval":  func(p results.Pair) string { return hlIntervalCell(p.HodgesLehmann) },
+	"hlnotes":     func(a *htmlAnalysis) []string { return hlIntervalNotes(a.Analysis) },
+	"num":         Num,
+	"isBootstrap": func(m spec.IntervalMethod) bool { return m == spec.BootstrapInterval },
+	"isAlways":    func(w spec.When) bool { return w == spec.WhenAlways },
+	"pct":         pct,
+	"fmtp":        FormatP,
+	"method":      methodName,
+	"test":        testName,
+	"exclude":     Exclusions,
+	"subset":      subsetText,
+	"reason":      reasonText,
 	"group": func(g string) string {
 		if g == "" {
 			return "(no group)"
@@ -453,7 +456,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 </section>
 {{with .EffectSizes}}<section class="effects">
 <h3>Effect sizes</h3>
-{{$boot := and .Interval (eq .Interval.Method "bootstrap")}}<table>
+{{$boot := and .Interval (isBootstrap .Interval.Method)}}<table>
 <thead><tr><th>measure</th><th class="r">estimate</th>{{if $boot}}<th>{{pct .Interval.Level}} interval</th>{{end}}</tr></thead>
 <tbody>
 <tr><td>epsilon-squared, H / ((N² − 1)/(N + 1))</td><td class="r">{{template "val" (v (key $id "epsilon_squared") .EpsilonSquared)}}</td>{{if $boot}}{{with .Interval.EpsilonSquared}}<td>[{{template "val" (v (key $id "epsilon_squared_low") .Low)}}, {{template "val" (v (key $id "epsilon_squared_high") .High)}}]</td>{{end}}{{end}}</tr>
@@ -468,7 +471,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 {{end}}</section>{{end}}
 {{with .PostHoc}}<section class="pairs">
 <h3>Pairwise comparisons</h3>
-<p>Planned: {{$a.PostHocSay}}, {{$a.FamilySay}}; {{if .Simultaneous}}{{.Simultaneous}}{{else}}adjustment of the p-values: <code>{{.Adjust}}</code>{{end}}; run {{if eq .When "always"}}whatever the omnibus result{{else}}only if the omnibus test rejects{{end}}.</p>
+<p>Planned: {{$a.PostHocSay}}, {{$a.FamilySay}}; {{if .Simultaneous}}{{.Simultaneous}}{{else}}adjustment of the p-values: <code>{{.Adjust}}</code>{{end}}; run {{if isAlways .When}}whatever the omnibus result{{else}}only if the omnibus test rejects{{end}}.</p>
 {{if .Note}}<p class="note">Note: {{.Note}}</p>{{end}}
 {{if .NotComputable}}<p class="decision">Not computable on these data: {{.NotComputable}}.</p>
 {{else if .Ran}}{{$ph := .}}

@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"rankplan/runner/results"
+	"rankplan/spec"
 )
 
 // Markdown writes summary.md: a short summary of a run for CI step summaries and pull
@@ -53,7 +54,7 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 		if ph == nil {
 			continue
 		}
-		how := "adjustment " + ph.Adjust
+		how := "adjustment " + string(ph.Adjust)
 		if ph.Simultaneous != "" {
 			how = "simultaneous"
 		}
@@ -91,7 +92,7 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 		}
 	}
 	if m := res.Multiplicity; m != nil {
-		ew.printf("\n**Across analyses** (%s):\n\n", mdText(m.Rule))
+		ew.printf("\n**Across analyses** (%s):\n\n", mdText(string(m.Rule)))
 		for _, mem := range m.Members {
 			ew.printf("- %s: %s\n", mdText(mem.ID), mdText(mem.Why))
 		}
@@ -134,7 +135,7 @@ func writeEffectSizesMarkdown(ew *errWriter, analyses []results.Analysis) {
 		if iv := es.Interval; iv != nil {
 			method = intervalName(iv)
 			switch {
-			case iv.Method == results.IntervalBootstrap:
+			case iv.Method == spec.BootstrapInterval:
 				interval = "epsilon-squared " + bracket(*iv.EpsilonSquared)
 				if iv.EtaSquaredH != nil {
 					interval += ", eta-squared(H) " + bracket(*iv.EtaSquaredH)

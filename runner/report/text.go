@@ -10,6 +10,7 @@ import (
 	"unicode/utf8"
 
 	"rankplan/runner/results"
+	"rankplan/spec"
 )
 
 // Caution is printed under every summary and report.
@@ -171,7 +172,7 @@ func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) e
 			ew.printf("      %s of %s resamples reached H; Monte Carlo SE %s, %s%% interval [%s, %s]\n",
 				mc.Exceedances, mc.Resamples, Num(mc.SE), Num(100*mc.CI.Level), Num(mc.CI.Low), Num(mc.CI.High))
 		}
-		if pv.Method != "asymptotic" {
+		if pv.Method != spec.Asymptotic {
 			ew.printf("      asymptotic chi-square p = %s\n", FormatP(a.AsymptoticP.Value, a.AsymptoticP.Log10))
 		}
 		if es := a.EffectSizes; es != nil {
@@ -251,23 +252,23 @@ func writeMultiplicity(ew *errWriter, m *results.Multiplicity, st Style) {
 	}
 }
 
-func testName(t string) string {
-	if t == "kruskal-wallis" {
+func testName(t spec.Test) string {
+	if t == spec.KruskalWallis {
 		return "Kruskal-Wallis"
 	}
-	return t
+	return string(t)
 }
 
-func methodName(m string) string {
+func methodName(m spec.PValueMethod) string {
 	switch m {
-	case "asymptotic":
+	case spec.Asymptotic:
 		return "asymptotic chi-square"
-	case "exact":
+	case spec.Exact:
 		return "exact, given the ties"
-	case "permutation":
+	case spec.Permutation:
 		return "Monte Carlo permutation"
 	}
-	return m
+	return string(m)
 }
 
 type errWriter struct {
@@ -303,7 +304,7 @@ func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st
 	writeLookAlikes(ew, pv.Data)
 	show := labelShower(pv.Data)
 	for _, a := range pv.Analyses {
-		method := a.PValue
+		method := string(a.PValue)
 		if a.Resamples != "" {
 			method += " (" + a.Resamples + " Monte Carlo resamples)"
 		}
@@ -324,7 +325,7 @@ func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st
 	}
 	if m := pv.Multiplicity; m != nil {
 		order := "adjusted together"
-		if m.Rule == "fixed-sequence" {
+		if m.Rule == spec.FixedSequence {
 			order = "tested in this order, each only if every earlier one rejects"
 		}
 		ew.printf("\n%s: %s over %s (%s)\n", st.heading("multiplicity across analyses"), m.Rule, strings.Join(m.Analyses, ", "), order)
@@ -333,11 +334,13 @@ func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st
 	return ew.err
 }
 
-var postHocNames = map[string]string{
-	"dunn": "Dunn z-tests on the joint ranks", "conover": "Conover-Iman t-tests on the joint ranks",
-	"rank-sum": "pairwise Wilcoxon-Mann-Whitney rank-sum tests",
-	"nemenyi":  "Nemenyi comparisons of mean joint ranks (studentized range)",
-	"dscf":     "Dwass-Steel-Critchlow-Fligner comparisons with pairwise ranking (studentized range)",
+// postHocNames says each post-hoc procedure in words.
+var postHocNames = map[spec.PostHoc]string{
+	spec.Dunn:    "Dunn z-tests on the joint ranks",
+	spec.Conover: "Conover-Iman t-tests on the joint ranks",
+	spec.RankSum: "pairwise Wilcoxon-Mann-Whitney rank-sum tests",
+	spec.Nemenyi: "Nemenyi comparisons of mean joint ranks (studentized range)",
+	spec.DSCF:    "Dwass-Steel-Critchlow-Fligner comparisons with pairwise ranking (studentized range)",
 }
 
 func writePostHoc(ew *errWriter, a *results.Analysis, alpha float64, st Style) {
@@ -412,7 +415,7 @@ func writePostHoc(ew *errWriter, a *results.Analysis, alpha float64, st Style) {
 // population effect, then any warnings, one line each.
 func effectSizeLines(es *results.EffectSizes) []string {
 	iv := es.Interval
-	boot := iv != nil && iv.Method == results.IntervalBootstrap
+	boot := iv != nil && iv.Method == spec.BootstrapInterval
 	line := "epsilon-squared = " + Num(es.EpsilonSquared)
 	if boot && iv.EpsilonSquared != nil {
 		line += " " + bracket(*iv.EpsilonSquared)
@@ -449,12 +452,12 @@ func effectSizeLines(es *results.EffectSizes) []string {
 // intervalName names the method of an effect-size interval in a few words.
 func intervalName(iv *results.EffectInterval) string {
 	switch iv.Method {
-	case results.IntervalNoncentral:
+	case spec.NoncentralInterval:
 		return "noncentral chi-square inversion of H"
-	case results.IntervalBootstrap:
+	case spec.BootstrapInterval:
 		return pct(iv.Level) + " percentile bootstrap"
 	}
-	return iv.Method
+	return string(iv.Method)
 }
 
 func bracket(b results.Bounds) string { return "[" + Num(b.Low) + ", " + Num(b.High) + "]" }

@@ -4,6 +4,8 @@
 // machine; who ran it, when and where belongs in the audit log.
 package results
 
+import "rankplan/spec"
+
 // Format names this layout of results.json; a change of layout changes the name.
 const Format = "rankplan-results/2"
 
@@ -62,7 +64,7 @@ type Conventions struct {
 type Analysis struct {
 	ID       string      `json:"id"`
 	Title    string      `json:"title,omitempty"`
-	Test     string      `json:"test"`
+	Test     spec.Test   `json:"test"`
 	Outcome  string      `json:"outcome"`
 	Unit     string      `json:"unit,omitempty"` // the outcome's unit from the plan, for labels
 	Subset   *Subset     `json:"subset,omitempty"`
@@ -91,13 +93,13 @@ type Subset struct {
 
 // PostHoc is the pairwise follow-up of an analysis.
 type PostHoc struct {
-	Method  string `json:"method"` // dunn, conover, dscf, nemenyi or rank-sum
-	Adjust  string `json:"adjust"`
-	Family  string `json:"family"` // all-pairs or many-to-one
-	Control string `json:"control,omitempty"`
-	When    string `json:"when"` // significant or always
-	Ran     bool   `json:"ran"`
-	Why     string `json:"why"`
+	Method  spec.PostHoc    `json:"method"` // any but none
+	Adjust  spec.Adjustment `json:"adjust"`
+	Family  string          `json:"family"` // all-pairs or many-to-one
+	Control string          `json:"control,omitempty"`
+	When    spec.When       `json:"when"`
+	Ran     bool            `json:"ran"`
+	Why     string          `json:"why"`
 	// NotComputable, when not empty, says why the comparisons could not be computed on
 	// these data (e.g. every group internally constant for Conover-Iman); Ran is then
 	// false and there are no pairs. The rest of the run is unaffected.
@@ -229,13 +231,13 @@ type KruskalWallis struct {
 // Value is null when the p-value is below the smallest positive normal double; Log10 is
 // always given.
 type PValue struct {
-	Requested  string      `json:"requested"` // the plan's method: asymptotic, exact, permutation or auto
-	Method     string      `json:"method"`    // the method used: asymptotic, exact or permutation
-	Reason     string      `json:"reason"`
-	Value      *float64    `json:"value"`
-	Log10      float64     `json:"log10"`
-	Exact      *ExactWork  `json:"exact,omitempty"`
-	MonteCarlo *MonteCarlo `json:"monte_carlo,omitempty"`
+	Requested  spec.PValueMethod `json:"requested"` // the plan's method
+	Method     spec.PValueMethod `json:"method"`    // the method used: any but auto
+	Reason     string            `json:"reason"`
+	Value      *float64          `json:"value"`
+	Log10      float64           `json:"log10"`
+	Exact      *ExactWork        `json:"exact,omitempty"`
+	MonteCarlo *MonteCarlo       `json:"monte_carlo,omitempty"`
 }
 
 // Tail is a p-value alone: Value null when below the smallest positive normal double.
@@ -280,12 +282,6 @@ type EffectSizes struct {
 	Interval *EffectInterval `json:"interval,omitempty"`
 }
 
-// Interval methods of the omnibus effect sizes, as the plan names them.
-const (
-	IntervalNoncentral = "noncentral"
-	IntervalBootstrap  = "bootstrap"
-)
-
 // EffectInterval is the interval of the omnibus effect sizes. Which bounds it holds depends
 // on Method:
 //
@@ -298,7 +294,7 @@ const (
 //     two statistics themselves, with the resample count, the resamples in which every
 //     value was tied and the random stream.
 type EffectInterval struct {
-	Method string `json:"method"`
+	Method spec.IntervalMethod `json:"method"` // any but none
 	// Description says in words how the interval was computed and what it bounds.
 	Description string  `json:"description"`
 	Level       float64 `json:"level"`
@@ -342,9 +338,9 @@ type Decision struct {
 
 // Multiplicity is the error-rate control across the plan's analyses.
 type Multiplicity struct {
-	Rule   string  `json:"rule"` // an adjustment name or fixed-sequence
-	Method string  `json:"method"`
-	Alpha  float64 `json:"alpha"`
+	Rule   spec.MultiplicityRule `json:"rule"`
+	Method string                `json:"method"`
+	Alpha  float64               `json:"alpha"`
 	// Members are the family's analyses, in the plan's listed order.
 	Members []Member `json:"analyses"`
 }
@@ -373,15 +369,15 @@ type Preview struct {
 
 // PreviewMultiplicity is the plan's multiplicity section as it will apply.
 type PreviewMultiplicity struct {
-	Rule     string   `json:"rule"`
-	Analyses []string `json:"analyses"`
+	Rule     spec.MultiplicityRule `json:"rule"`
+	Analyses []string              `json:"analyses"`
 }
 
 // PreviewAnalysis is one analysis as it would run.
 type PreviewAnalysis struct {
-	ID     string `json:"id"`
-	Test   string `json:"test"`
-	PValue string `json:"p_value_method"`
+	ID     string            `json:"id"`
+	Test   spec.Test         `json:"test"`
+	PValue spec.PValueMethod `json:"p_value_method"`
 	// Resamples is the Monte Carlo resample count (decimal string), for permutation and auto.
 	Resamples string       `json:"resamples,omitempty"`
 	Outcome   string       `json:"outcome"`

@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"rankplan/runner"
+	"rankplan/runner/audit"
 	"rankplan/runner/folder"
 	"rankplan/schemas"
 )
@@ -35,7 +36,7 @@ func writeFolder(ctx context.Context, rep *Report, opt Options, now func() time.
 	}
 	failed := []string{}
 	for _, o := range res.Cases {
-		if o.Verdict != Pass {
+		if o.Verdict != runner.Pass {
 			failed = append(failed, o.ID)
 		}
 	}
@@ -74,7 +75,7 @@ func writeFolder(ctx context.Context, rep *Report, opt Options, now func() time.
 		return fail(err)
 	}
 	rep.Head, rep.Seq, err = f.Finish(ctx, folder.SelftestFinished{
-		Status: res.Summary.Outcome, Cases: res.Summary.Cases, Passed: res.Summary.Passed, Failed: res.Summary.Failed,
+		Status: string(res.Summary.Outcome), Cases: res.Summary.Cases, Passed: res.Summary.Passed, Failed: res.Summary.Failed,
 	}, nil)
 	if err != nil {
 		return fail(err) // a closing record already written stays the last: the log is closed
@@ -91,7 +92,7 @@ func EncodeRecord(rep *Report) ([]byte, error) {
 		Name: "rankplan", Version: t.Version, Revision: t.Revision, Modified: t.Modified,
 		Go: t.GoVersion, Platform: t.GOOS + "/" + t.GOARCH, Executable: rep.Executable,
 	}}
-	b, err := runner.EncodeJSON(rec)
+	b, err := audit.Indented(rec)
 	if err != nil {
 		return nil, fmt.Errorf("encode validation record: %w", err)
 	}

@@ -8,6 +8,8 @@ import (
 	"strings"
 	"time"
 	"unicode/utf8"
+
+	"rankplan/runner"
 )
 
 // Caution is said wherever the selftest's verdict is shown.
@@ -86,8 +88,8 @@ func (rep *Report) WriteText(w io.Writer) error {
 		if o.Obtained != nil {
 			got = brief(*o.Obtained)
 		}
-		rows = append(rows, []string{strings.ToUpper(o.Verdict), o.ID, brief(o.Expected), got, toleranceText(o.Tolerance), o.Source.Reference})
-		if o.Verdict != Pass {
+		rows = append(rows, []string{strings.ToUpper(string(o.Verdict)), o.ID, brief(o.Expected), got, toleranceText(o.Tolerance), o.Source.Reference})
+		if o.Verdict != runner.Pass {
 			details[len(rows)-1] = o.Detail
 		}
 	}

@@ -15,12 +15,6 @@ import (
 // Format names the layout of validation.json; a change of layout changes the name.
 const Format = "rankplan-validation/1"
 
-// Verdicts of a case.
-const (
-	Pass = "pass"
-	Fail = "fail"
-)
-
 // Results is the part of the validation record that the results digest covers: the
 // cases, what each obtained, and the verdicts. It holds no times, hosts, paths or build
 // identity, so that the same build computing the same values gives the same digest on any
@@ -35,10 +29,10 @@ type Results struct {
 
 // Summary counts the verdicts.
 type Summary struct {
-	Cases   int    `json:"cases"`
-	Passed  int    `json:"passed"`
-	Failed  int    `json:"failed"`
-	Outcome string `json:"outcome"` // pass when every case passed, else fail
+	Cases   int            `json:"cases"`
+	Passed  int            `json:"passed"`
+	Failed  int            `json:"failed"`
+	Outcome runner.Verdict `json:"outcome"` // pass when every case passed, else fail
 	// Added counts cases that did not come from the case file (tests of the failure path).
 	Added int `json:"added_cases"`
 }
@@ -58,9 +52,9 @@ type Outcome struct {
 	Obtained *Value `json:"obtained"`
 	// Deviation is the largest |obtained − expected| over the numbers, relative to
 	// |expected| for a relative tolerance; absent for text and failed computations.
-	Deviation *float64 `json:"deviation,omitempty"`
-	Verdict   string   `json:"verdict"`
-	Detail    string   `json:"detail,omitempty"`
+	Deviation *float64       `json:"deviation,omitempty"`
+	Verdict   runner.Verdict `json:"verdict"`
+	Detail    string         `json:"detail,omitempty"`
 }
 
 // FailedError says that some cases did not reproduce their expected values. The report is
@@ -122,15 +116,15 @@ func Evaluate(ctx context.Context, set *CaseSet, caseFile string, added []Case, 
 	s := &res.Summary
 	s.Cases, s.Added = len(res.Cases), len(added)
 	for _, o := range res.Cases {
-		if o.Verdict == Pass {
+		if o.Verdict == runner.Pass {
 			s.Passed++
 		} else {
 			s.Failed++
 		}
 	}
-	s.Outcome = Pass
+	s.Outcome = runner.Pass
 	if s.Failed > 0 {
-		s.Outcome = Fail
+		s.Outcome = runner.Fail
 	}
 	return res, nil
 }
@@ -141,7 +135,7 @@ func Evaluate(ctx context.Context, set *CaseSet, caseFile string, added []Case, 
 //	numbers: for every element, |o − e| ≤ abs, or |o − e| ≤ rel·|e|, or o = e when both
 //	         tolerances are 0; a NaN or infinite o fails
 func judge(c Case, got Value, err error) Outcome {
-	o := Outcome{Case: c, Verdict: Fail}
+	o := Outcome{Case: c, Verdict: runner.Fail}
 	if err != nil {
 		o.Detail = "the computation failed: " + err.Error()
 		return o
@@ -157,7 +151,7 @@ func judge(c Case, got Value, err error) Outcome {
 	}
 	if c.Expected.Text != nil {
 		if *got.Text == *c.Expected.Text {
-			o.Verdict = Pass
+			o.Verdict = runner.Pass
 		} else {
 			o.Detail = "the text differs"
 		}
@@ -192,7 +186,7 @@ func judge(c Case, got Value, err error) Outcome {
 	}
 	o.Deviation = &worst
 	if bad < 0 {
-		o.Verdict = Pass
+		o.Verdict = runner.Pass
 		return o
 	}
 	where := ""
@@ -304,7 +298,7 @@ func Run(ctx context.Context, opt Options) (*Report, error) {
 	if s := rep.Results.Summary; s.Failed > 0 {
 		fe := &FailedError{Failed: s.Failed, Cases: s.Cases}
 		for _, o := range rep.Results.Cases {
-			if o.Verdict != Pass {
+			if o.Verdict != runner.Pass {
 				fe.IDs = append(fe.IDs, o.ID)
 			}
 		}

@@ -51,11 +51,11 @@ func TestSelftestBuiltinPasses(t *testing.T) {
 		t.Fatal(err)
 	}
 	s := rep.Results.Summary
-	if s.Cases < 30 || s.Cases > 80 || s.Passed != s.Cases || s.Failed != 0 || s.Outcome != Pass || s.Added != 0 {
+	if s.Cases < 30 || s.Cases > 80 || s.Passed != s.Cases || s.Failed != 0 || s.Outcome != runner.Pass || s.Added != 0 {
 		t.Errorf("summary %+v", s)
 	}
 	for _, o := range rep.Results.Cases {
-		if o.Verdict != Pass {
+		if o.Verdict != runner.Pass {
 			t.Errorf("%s: %s", o.ID, o.Detail)
 		}
 	}
@@ -358,7 +358,7 @@ func TestSelftestJudge(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			tc.tol.Why = "test"
 			o := judge(Case{ID: "x", Expected: tc.expected, Tolerance: tc.tol}, tc.got, tc.err)
-			if (o.Verdict == Pass) != tc.pass || !strings.Contains(o.Detail, tc.detail) {
+			if (o.Verdict == runner.Pass) != tc.pass || !strings.Contains(o.Detail, tc.detail) {
 				t.Errorf("verdict %s, detail %q; want pass %v, detail containing %q", o.Verdict, o.Detail, tc.pass, tc.detail)
 			}
 			if (tc.err != nil || !tc.got.finite()) != (o.Obtained == nil) {
@@ -561,7 +561,7 @@ func TestSelftestFolderVerifies(t *testing.T) {
 		name   string
 		change func(dir string)
 		opt    runner.VerifyOptions
-		want   string
+		want   runner.Class
 	}{
 		{"a byte of validation.json", func(d string) { flipByte(t, filepath.Join(d, runner.ValidationFile)) }, opt, runner.ClassIntegrity},
 		{"a byte of report.html", func(d string) { flipByte(t, filepath.Join(d, ReportFile)) }, opt, runner.ClassIntegrity},
@@ -630,7 +630,7 @@ func TestSelftestInjectedFailure(t *testing.T) {
 		t.Fatalf("error %v", err)
 	}
 	s := rep.Results.Summary
-	if s.Failed != 1 || s.Added != 1 || s.Outcome != Fail || s.Passed != s.Cases-1 {
+	if s.Failed != 1 || s.Added != 1 || s.Outcome != runner.Fail || s.Passed != s.Cases-1 {
 		t.Errorf("summary %+v", s)
 	}
 
@@ -660,7 +660,7 @@ func TestSelftestInjectedFailure(t *testing.T) {
 			Summary Summary
 			Cases   []struct {
 				ID       string
-				Verdict  string
+				Verdict  runner.Verdict
 				Obtained json.RawMessage
 				Detail   string
 			}
@@ -672,7 +672,7 @@ func TestSelftestInjectedFailure(t *testing.T) {
 	last := rec.Results.Cases[len(rec.Results.Cases)-1]
 	var obtained float64
 	json.Unmarshal(last.Obtained, &obtained)
-	if rec.Results.Summary.Outcome != Fail || last.ID != "injected-wrong-h" || last.Verdict != Fail ||
+	if rec.Results.Summary.Outcome != runner.Fail || last.ID != "injected-wrong-h" || last.Verdict != runner.Fail ||
 		math.Abs(obtained-7.988229) > 5e-7 || !strings.Contains(last.Detail, "outside abs 5e-07") {
 		t.Errorf("validation.json: %+v, last case %+v", rec.Results.Summary, last)
 	}

@@ -1,0 +1,159 @@
+package spec
+
+// The plan's vocabulary: every name a plan can give a test, a p-value method, a post-hoc
+// procedure, an adjustment, a multiplicity rule, an effect-size interval, a missing-value
+// policy or the condition of the post-hoc comparisons is declared here once, as a typed
+// constant, with the list of valid values in the order the documentation gives them.
+// The plan schema (schemas/plan.schema.json), `rankplan init`, the README's plan-format
+// table and the code all follow these lists; TestVocabularyAgrees in cmd/rankplan holds
+// them equal.
+
+// Test names an omnibus test. Only [KruskalWallis] runs in this release; the schema
+// accepts the others so that plans can name them, and [Parse] refuses them as not
+// implemented yet.
+type Test string
+
+// The omnibus tests a plan can name.
+const (
+	KruskalWallis      Test = "kruskal-wallis"
+	JonckheereTerpstra Test = "jonckheere-terpstra"
+	MedianTest         Test = "median"
+	ANOVA              Test = "anova"
+	WelchANOVA         Test = "welch-anova"
+	FlignerKilleen     Test = "fligner-killeen"
+)
+
+// Tests returns every test a plan can name, the one implemented first.
+func Tests() []Test {
+	return []Test{KruskalWallis, JonckheereTerpstra, MedianTest, ANOVA, WelchANOVA, FlignerKilleen}
+}
+
+// ImplementedTests returns the tests this release runs.
+func ImplementedTests() []Test { return []Test{KruskalWallis} }
+
+// PValueMethod names how the omnibus p-value is computed.
+type PValueMethod string
+
+// The p-value methods a plan can name.
+const (
+	Asymptotic  PValueMethod = "asymptotic"  // chi-square reference distribution
+	Exact       PValueMethod = "exact"       // exact permutation distribution given the ties
+	Permutation PValueMethod = "permutation" // Monte Carlo permutation with a resample count
+	Auto        PValueMethod = "auto"        // exact within the work budget, else Monte Carlo
+)
+
+// PValueMethods returns every p-value method a plan can name.
+func PValueMethods() []PValueMethod { return []PValueMethod{Asymptotic, Exact, Permutation, Auto} }
+
+// UsedPValueMethods returns the methods a p-value can have been computed by: every
+// [PValueMethods] value but [Auto], which resolves to one of them.
+func UsedPValueMethods() []PValueMethod { return []PValueMethod{Asymptotic, Exact, Permutation} }
+
+// PostHoc names a pairwise procedure.
+type PostHoc string
+
+// The pairwise procedures a plan can name.
+const (
+	NoPostHoc PostHoc = "none"
+	Dunn      PostHoc = "dunn"
+	Conover   PostHoc = "conover"
+	DSCF      PostHoc = "dscf"
+	Nemenyi   PostHoc = "nemenyi"
+	RankSum   PostHoc = "rank-sum"
+)
+
+// PostHocs returns every pairwise procedure a plan can name, [NoPostHoc] first.
+func PostHocs() []PostHoc { return []PostHoc{NoPostHoc, Dunn, Conover, DSCF, Nemenyi, RankSum} }
+
+// Adjustment names a multiplicity adjustment of p-values.
+type Adjustment string
+
+// The adjustments a plan can name.
+const (
+	NoAdjustment Adjustment = "none"
+	Bonferroni   Adjustment = "bonferroni"
+	Sidak        Adjustment = "sidak"
+	Holm         Adjustment = "holm"
+	Hochberg     Adjustment = "hochberg"
+	Hommel       Adjustment = "hommel"
+	BH           Adjustment = "bh"
+	BY           Adjustment = "by"
+)
+
+// Adjustments returns every adjustment a plan can name, [NoAdjustment] first.
+func Adjustments() []Adjustment {
+	return []Adjustment{NoAdjustment, Bonferroni, Sidak, Holm, Hochberg, Hommel, BH, BY}
+}
+
+// MultiplicityRule names how decisions are made across a family of analyses: one of the
+// [Adjustment] names other than none, or [FixedSequence].
+type MultiplicityRule string
+
+// FixedSequence tests the family's analyses in the order listed, each at the full alpha,
+// and stops at the first that does not reject.
+const FixedSequence MultiplicityRule = "fixed-sequence"
+
+// MultiplicityRules returns every rule a plan can name: the adjustments other than
+// [NoAdjustment], in their order, then [FixedSequence].
+func MultiplicityRules() []MultiplicityRule {
+	var out []MultiplicityRule
+	for _, a := range Adjustments() {
+		if a != NoAdjustment {
+			out = append(out, MultiplicityRule(a))
+		}
+	}
+	return append(out, FixedSequence)
+}
+
+// IntervalMethod names how the interval of the omnibus effect sizes is computed.
+type IntervalMethod string
+
+// The effect-size intervals a plan can name.
+const (
+	// NoncentralInterval inverts the noncentral chi-square approximation of H: an interval
+	// of the population effect that agrees with the asymptotic test (the default).
+	NoncentralInterval IntervalMethod = "noncentral"
+	// BootstrapInterval is the percentile bootstrap of H, resampling within groups; it needs
+	// resamples. Kept for plans that registered it.
+	BootstrapInterval IntervalMethod = "bootstrap"
+	// NoInterval reports the estimates alone.
+	NoInterval IntervalMethod = "none"
+)
+
+// IntervalMethods returns every effect-size interval a plan can name, the default first.
+func IntervalMethods() []IntervalMethod {
+	return []IntervalMethod{NoncentralInterval, BootstrapInterval, NoInterval}
+}
+
+// MissingPolicy says what happens to rows with a missing group or outcome.
+type MissingPolicy string
+
+// The missing-value policies.
+const (
+	ExcludeMissing MissingPolicy = "exclude" // leave the row out and count it per group and reason
+	FailOnMissing  MissingPolicy = "fail"    // stop with an error naming the cell
+)
+
+// MissingPolicies returns every missing-value policy, the default first.
+func MissingPolicies() []MissingPolicy { return []MissingPolicy{ExcludeMissing, FailOnMissing} }
+
+// When names the condition under which the post-hoc comparisons run.
+type When string
+
+// The conditions of the post-hoc comparisons.
+const (
+	WhenSignificant When = "significant" // only when the omnibus test rejects at alpha
+	WhenAlways      When = "always"      // whatever the omnibus result
+)
+
+// Whens returns every condition of the post-hoc comparisons, the default first.
+func Whens() []When { return []When{WhenSignificant, WhenAlways} }
+
+// Names returns the values of a vocabulary list as plain strings, in order.
+func Names[T ~string](values []T) []string {
+	out := make([]string, len(values))
+	for i, v := range values {
+		out[i] = string(v)
+	}
+	return out
+}
