@@ -509,10 +509,6 @@ func orUnknown(s string) string {
 	return s
 }
 
-// maxPlotPoints bounds the points drawn per group in the report's plots: larger groups
-// are shown by evenly spaced order statistics, so a report of 10^7 rows stays small.
-const maxPlotPoints = 1000
-
 // renderings writes report.html, summary.md and pairs.csv from the results.
 func renderings(ctx context.Context, res *results.Results, meta report.Meta, sorted [][][]float64, dir string) ([]namedBytes, error) {
 	h, err := renderReport(res, meta, sorted)
@@ -536,7 +532,7 @@ func renderReport(res *results.Results, meta report.Meta, sorted [][][]float64) 
 	for i, groups := range sorted {
 		values[i].ID = res.Analyses[i].ID
 		for _, g := range groups {
-			values[i].Groups = append(values[i].Groups, thin(g, maxPlotPoints))
+			values[i].Groups = append(values[i].Groups, report.Thin(g, report.MaxPointsPerGroup))
 		}
 	}
 	var h bytes.Buffer
@@ -556,17 +552,4 @@ func renderTexts(res *results.Results, meta report.Meta, dir string) ([]namedByt
 		return nil, fmt.Errorf("write %s: %w", PairsFile, err)
 	}
 	return []namedBytes{{SummaryFile, md.Bytes()}, {PairsFile, pc.Bytes()}}, nil
-}
-
-// thin returns at most m evenly spaced order statistics of the sorted s (all of s when it
-// is short enough), always including the minimum and the maximum.
-func thin(s []float64, m int) []float64 {
-	if len(s) <= m {
-		return s
-	}
-	out := make([]float64, m)
-	for j := range out {
-		out[j] = s[int(int64(j)*int64(len(s)-1)/int64(m-1))]
-	}
-	return out
 }

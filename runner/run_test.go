@@ -13,6 +13,7 @@ import (
 	"time"
 
 	"rankplan/runner/audit"
+	"rankplan/runner/report"
 )
 
 // clock is a fixed, advancing clock for tests.
@@ -428,12 +429,12 @@ func TestVerifyMarkdown(t *testing.T) {
 }
 
 // TestRunLargeGroups runs a plan whose groups are larger than the points the report draws
-// (maxPlotPoints): the run must write its renderings from the thinned values, and the
+// (report.MaxPointsPerGroup): the run must write its renderings from the thinned values, and the
 // report must say that it shows some of the observations.
 func TestRunLargeGroups(t *testing.T) {
 	var csv strings.Builder
 	csv.WriteString("g,y\n")
-	for i := range 3 * (maxPlotPoints + 201) {
+	for i := range 3 * (report.MaxPointsPerGroup + 201) {
 		fmt.Fprintf(&csv, "%c,%d\n", 'A'+i%3, (i*7919)%1000+i%3*40)
 	}
 	p := methodPlan(t, "{method: asymptotic}", "{interval: bootstrap, resamples: 50}", csv.String())

@@ -727,7 +727,7 @@ func bigAnalysis(n int) (*results.Results, []AnalysisValues) {
 func TestHTMLLargeGroupsCapped(t *testing.T) {
 	res, vals := bigAnalysis(300_000)
 	page := render(t, res, Meta{}, vals)
-	if n := bytes.Count(page, []byte("<path")); n > 3*maxPointsPerGroup+200 {
+	if n := bytes.Count(page, []byte("<path")); n > 3*MaxPointsPerGroup+200 {
 		t.Errorf("%d paths for 3 groups; points are not capped", n)
 	}
 	if !bytes.Contains(page, []byte("show 400 of them")) {

@@ -74,10 +74,24 @@ func pColor(p float64) color.NRGBA {
 	return color.NRGBA{mix(a.R, b.R), mix(a.G, b.G), mix(a.B, b.B), 0xFF}
 }
 
-// maxPointsPerGroup caps the points drawn per group in the box plot, so that the page
+// MaxPointsPerGroup caps the points drawn per group in the box plot, so that the page
 // stays small for any N: a larger group shows this many of its order statistics, evenly
-// spaced in rank (the caption says so).
-const maxPointsPerGroup = 400
+// spaced in rank (the caption says so). It is the one cap: the caller thins with [Thin].
+const MaxPointsPerGroup = 400
+
+// Thin returns at most m order statistics of the ascending s, evenly spaced in rank
+// (pointIndex), always including the minimum and the maximum; all of s when it is short
+// enough. It is the one thinning step between a run's values and the plots.
+func Thin(s []float64, m int) []float64 {
+	if len(s) <= m {
+		return s
+	}
+	out := make([]float64, m)
+	for j := range out {
+		out[j] = s[pointIndex(j, m, len(s))]
+	}
+	return out
+}
 
 // pointIndex is the index into a sorted group of n values of the j-th of m drawn points,
 //
@@ -206,7 +220,7 @@ func (b boxPlotter) Plot(c draw.Canvas, plt *plot.Plot) {
 			continue
 		}
 		vals := b.values[i]
-		m := min(len(vals), maxPointsPerGroup)
+		m := min(len(vals), MaxPointsPerGroup)
 		dot := draw.GlyphStyle{Color: darker(groupColor(i)), Radius: vg.Points(2), Shape: draw.CircleGlyph{}}
 		for j := range m {
 			v := vals[pointIndex(j, m, len(vals))]
