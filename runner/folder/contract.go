@@ -91,7 +91,8 @@ func KindOf(firstEvent string) *Kind {
 
 // CheckOrder reports the first place where the events of a log break the kind's order:
 // the fixed Sequence, then any number of Repeats, then output.written records, then at most
-// one closing record (Finished or Failed) which must be last. A log cut short is in order
+// one closing record (Finished or Failed) which must be last (Finished may be followed by
+// Failed alone, when the folder could not be moved into place). A log cut short is in order
 // as far as it goes (its incompleteness is reported on its own). Failed may come anywhere
 // after the first record. It returns "" when the order holds.
 func (k *Kind) CheckOrder(events []string) string {
@@ -109,7 +110,9 @@ func (k *Kind) CheckOrder(events []string) string {
 				return "record " + strconv.Itoa(i+1) + " is " + e + ", where " + k.Sequence[i] + " belongs: the records do not start with " + strings.Join(k.Sequence, ", ")
 			}
 		case e == k.Finished:
-			if i != len(events)-1 {
+			// The closing record is last, or followed only by Failed: a writer whose final
+			// rename failed (another took DIR where flock(2) is lacking) says so after it.
+			if i != len(events)-1 && !(i == len(events)-2 && events[i+1] == k.Failed) {
 				return "record " + strconv.Itoa(i+1) + " (" + e + ") is not the last record"
 			}
 		case slices.Contains(k.Repeats, e):

@@ -149,6 +149,8 @@ func TestCheckOrder(t *testing.T) {
 		{"data before plan", Run, []string{EventRunStarted, EventDataBound, EventPlanBound}, "record 2 is data.bound, where plan.bound belongs"},
 		{"finished not last", Run, cat(run, []string{EventRunFinished, EventOutputWritten}), "record 5 (run.finished) is not the last record"},
 		{"failed not last", Run, cat(run, []string{EventRunFailed, EventRunFinished}), "record 5 (run.failed) is not the last record"},
+		{"finished, then the rename failed", Run, cat(run, []string{EventOutputWritten, EventRunFinished, EventRunFailed}), ""},
+		{"finished twice", Run, cat(run, []string{EventRunFinished, EventRunFinished}), "record 5 (run.finished) is not the last record"},
 		{"starts failed", Run, []string{EventRunFailed}, "the log starts with run.failed"},
 		{"analysis after outputs", Run, cat(run, []string{EventOutputWritten, EventAnalysisFinished}), "record 6 (analysis.finished) comes after output.written"},
 		{"selftest event in a run", Run, cat(run, []string{EventCasesEvaluated}), "has no place in a run folder's log"},
