@@ -24,7 +24,7 @@ import (
 	"rankplan/runner/results"
 )
 
-var updateShots = flag.Bool("update-screenshots", false, "rewrite testdata/screenshots/*.png")
+var update = flag.Bool("update", false, "rewrite testdata/screenshots/*.png")
 
 // chromium finds the browser; without one the test is skipped, except in CI (CI=true),
 // where .ci/run installs it and a missing browser is a failure.
@@ -151,13 +151,13 @@ func TestReportInChromium(t *testing.T) {
 			}
 			checkPrint(ctx, t)
 			path := filepath.Join("testdata", "screenshots", name+".png")
-			if *updateShots {
+			if *update {
 				os.MkdirAll(filepath.Dir(path), 0o755)
 				if err := os.WriteFile(path, shot, 0o644); err != nil {
 					t.Fatal(err)
 				}
 			} else if _, err := os.Stat(path); err != nil {
-				t.Errorf("no committed screenshot %s for review (go test ./runner/report/browser -update-screenshots): %v", path, err)
+				t.Errorf("no committed screenshot %s for review (go test ./runner/report/browser -update): %v", path, err)
 			}
 		})
 	}
