@@ -3,5 +3,5 @@
 // [results.Results] value, and writes the run folder.
 //
 // A newcomer can follow `rankplan run` in this order: [Prepare] (data → analysis inputs),
-// [Execute] (analysis inputs → results), [WriteRun] (results → run folder).
+// [Execute] (analysis inputs → results), [Run] (the whole run, results → run folder).
 package runner

@@ -119,7 +119,8 @@ func ExampleWriteLock() {
 	path := filepath.Join(dir, "plan.lock")
 	fmt.Println(audit.WriteLock(path, l))
 	fmt.Println(audit.WriteLock(path, l) != nil) // never replaces a lock
-	got, err := audit.ReadLock(path)
+	b, _ := os.ReadFile(path)
+	got, err := audit.ParseLock(b)
 	fmt.Println(string(got.Plan), err)
 	// Output:
 	// <nil>
