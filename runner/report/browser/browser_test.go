@@ -26,18 +26,22 @@ import (
 
 var update = flag.Bool("update", false, "rewrite testdata/screenshots/*.png")
 
-// chromium finds the browser; without one the test is skipped, except in CI (CI=true),
-// where .ci/run installs it and a missing browser is a failure.
+// browserNames are the executables looked for on PATH, in this order.
+var browserNames = []string{"chromium", "chromium-browser", "google-chrome"}
+
+// chromium finds the browser. Without one the test fails in CI (CI=true), where .ci/run
+// installs it, so that a green CI has always opened the reports; elsewhere it is skipped
+// with a message naming what to install.
 func chromium(t *testing.T) string {
-	for _, name := range []string{"chromium", "chromium-browser", "google-chrome"} {
+	for _, name := range browserNames {
 		if p, err := exec.LookPath(name); err == nil {
 			return p
 		}
 	}
 	if os.Getenv("CI") == "true" {
-		t.Fatal("no chromium on PATH; .ci/run installs the Debian package chromium")
+		t.Fatalf("CI=true and none of %v is on PATH: the reports were not opened in a browser; .ci/run installs the Debian package chromium", browserNames)
 	}
-	t.Skip("no chromium on PATH (apt-get install chromium)")
+	t.Skipf("the reports were not opened in a browser: none of %v is on PATH; install the Debian package chromium (apt-get install chromium) to run this test", browserNames)
 	return ""
 }
 
