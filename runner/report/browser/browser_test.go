@@ -60,11 +60,19 @@ func TestReportInChromium(t *testing.T) {
 	opts := append(chromedp.DefaultExecAllocatorOptions[:], chromedp.ExecPath(exe),
 		chromedp.NoSandbox, chromedp.Flag("disable-gpu", true), chromedp.WindowSize(1100, 1400),
 		chromedp.Flag("host-resolver-rules", "MAP * ~NOTFOUND"), chromedp.ProxyServer("127.0.0.1:9"))
-	actx, cancel := chromedp.NewExecAllocator(context.Background(), opts...)
-	defer cancel()
+	// One browser for all examples, each in its own tab, run in parallel; the browser is
+	// closed when the last of them has finished (t.Cleanup, not defer).
+	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
+	t.Cleanup(cancelAlloc)
+	bctx, cancelBrowser := chromedp.NewContext(actx)
+	t.Cleanup(cancelBrowser)
+	if err := chromedp.Do(bctx); err != nil {
+		t.Fatalf("start %s: %v", exe, err)
+	}
 	for _, plan := range plans {
 		name := filepath.Base(filepath.Dir(plan))
 		t.Run(name, func(t *testing.T) {
+			t.Parallel()
 			dir := filepath.Join(t.TempDir(), "run")
 			if _, err := runner.Run(context.Background(), plan, runner.RunOptions{Out: dir, Workers: 2}); err != nil {
 				t.Fatal(err)
@@ -77,7 +85,7 @@ func TestReportInChromium(t *testing.T) {
 			if err := json.Unmarshal(b, &res); err != nil {
 				t.Fatal(err)
 			}
-			ctx, cancel := chromedp.NewContext(actx)
+			ctx, cancel := chromedp.NewContext(bctx)
 			defer cancel()
 			ctx, cancel = context.WithTimeout(ctx, 60*time.Second)
 			defer cancel()
