@@ -49,7 +49,7 @@ func TestRunFolderContract(t *testing.T) {
 		t.Error(msg)
 	}
 	for _, r := range f.Chain.Records {
-		if _, err := folder.Typed(r); err != nil {
+		if _, err := audittest.Typed(r); err != nil {
 			t.Error(err)
 		}
 	}

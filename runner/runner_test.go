@@ -227,26 +227,29 @@ func TestAgainstStats(t *testing.T) {
 	}
 }
 
-func TestWriteRun(t *testing.T) {
+// TestWriteNewFile: a file is written once and never replaced, with no temporary file
+// left beside it; encoding the same results twice gives the same bytes.
+func TestWriteNewFile(t *testing.T) {
 	res := runAll(t, setup(t, "", "g,y\nA,1\nB,2\nA,3\n"))
-	dir := filepath.Join(t.TempDir(), "out")
-	if err := WriteRun(dir, res); err != nil {
-		t.Fatal(err)
-	}
-	first, err := os.ReadFile(filepath.Join(dir, "results.json"))
+	dir := t.TempDir()
+	first, err := EncodeResults(res)
 	if err != nil {
 		t.Fatal(err)
 	}
-	err = WriteRun(dir, res)
-	if !errors.Is(err, ErrOutExists) {
-		t.Errorf("second write: %v", err)
+	path := filepath.Join(dir, "results.json")
+	if err := WriteNewFile(path, first); err != nil {
+		t.Fatal(err)
 	}
-	again, _ := os.ReadFile(filepath.Join(dir, "results.json"))
+	var ie *InputError
+	if err := WriteNewFile(path, []byte("x")); !errors.As(err, &ie) {
+		t.Errorf("second write: %v, want an InputError", err)
+	}
+	if err := writeFileAtomic(path, []byte("x")); err == nil {
+		t.Error("writeFileAtomic replaced an existing file")
+	}
+	again, _ := os.ReadFile(path)
 	if !bytes.Equal(first, again) {
 		t.Error("results.json changed")
-	}
-	if err := writeFileAtomic(filepath.Join(dir, "results.json"), []byte("x")); err == nil {
-		t.Error("writeFileAtomic replaced an existing file")
 	}
 	entries, _ := os.ReadDir(dir)
 	if len(entries) != 1 {

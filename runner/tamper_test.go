@@ -535,7 +535,11 @@ func signatureTamperCases() []tamperCase {
 		}), keyOnly(Verified), SignatureFile},
 		{"signature/signer renamed", keyed, editSignature(func(s map[string]any) { s["signer"] = "B. Boss" }), keyOnly(Verified), ""},
 		{"signature/re-signed with another key", keyed, func(t *testing.T, fx *tamperFixture, dir string) {
-			key, err := audit.LoadPrivateKey(fx.forgerKey)
+			b, err := os.ReadFile(fx.forgerKey)
+			if err != nil {
+				t.Fatal(err)
+			}
+			key, err := audit.ParsePrivateKey(b)
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -1,11 +1,8 @@
 package runner
 
 import (
-	"errors"
 	"fmt"
-	"io/fs"
 	"os"
-	"path/filepath"
 
 	"rankplan/runner/audit"
 	"rankplan/runner/folder"
@@ -38,23 +35,6 @@ func ValidateResults(b []byte) error {
 		return err
 	}
 	return schemas.Check(schema, schemas.ResultsID, "results", b)
-}
-
-// WriteRun creates the folder dir (its parent must exist; dir itself must not) and writes
-// results.json into it. Each file is written to a temporary name, synced and renamed, so
-// a file in the folder is either complete or absent.
-func WriteRun(dir string, res *results.Results) error {
-	b, err := EncodeResults(res)
-	if err != nil {
-		return err
-	}
-	if err := os.Mkdir(dir, 0o755); err != nil {
-		if errors.Is(err, fs.ErrExist) {
-			return &InputError{Err: fmt.Errorf("%s: %w", dir, ErrOutExists)}
-		}
-		return fmt.Errorf("create output folder: %w", err)
-	}
-	return writeFileAtomic(filepath.Join(dir, "results.json"), b)
 }
 
 // writeFileAtomic writes b to path, which must not exist, through a synced temporary

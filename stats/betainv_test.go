@@ -76,6 +76,7 @@ func TestBetaQuantileErrors(t *testing.T) {
 // Clopper-Pearson interval of up to 10^12 resamples) must give a value, while the corners
 // (a shape near 1e-300, or both beyond 10^13) may report that the work bound was reached.
 func TestBetaQuantileExtremeArguments(t *testing.T) {
+	t.Parallel()
 	sub := math.SmallestNonzeroFloat64
 	shapes := []float64{math.NaN(), math.Inf(-1), -1, math.Copysign(0, -1), 0, sub, 1e-310, 1e-300, 1e-10, 0.5, 1, 2,
 		1e5, 1e10, 1e12 + 1, 1e13, 1e15, 0x1p60 + 1, 0x1p63, 1e19, 1e300, 1e308, math.MaxFloat64, math.Inf(1)}

@@ -3,13 +3,8 @@ package stats
 import (
 	"math"
 	"math/rand/v2"
-	"os"
 	"testing"
 )
-
-// exhaustive reports whether the long variants of the seeded simulations run: set
-// RANKPLAN_EXHAUSTIVE=1 (.ci/run does).
-func exhaustive() bool { return os.Getenv("RANKPLAN_EXHAUSTIVE") == "1" }
 
 // coverageScenario is a design and a population for the coverage simulation: groups of
 // sizes ns drawn from one family (normal, exponential or a five-point scale), shifted.

@@ -1,7 +1,6 @@
 package stats
 
 import (
-	"errors"
 	"fmt"
 	"math/bits"
 	"slices"
@@ -26,7 +25,7 @@ type Letters struct {
 // 52 letters, every name is one character (a..z, then A..Z) and the names are written
 // together ("ab", "aC"); when it has more, the names are joined with "." ("a.b1.Z3"). A
 // name is always one ASCII letter followed by an optional number without a leading zero,
-// so either form reads back to exactly one list of names ([ParseLetters]): a group with
+// so either form reads back to exactly one list of names (the tests check it): a group with
 // the letters "a" and "b" never reads like a group with one letter "ab".
 func (l Letters) Text(g int) string {
 	if l.Count <= 52 {
@@ -49,59 +48,6 @@ func LetterName(n int) string {
 		return string(c)
 	}
 	return string(c) + strconv.Itoa(n/52)
-}
-
-// ParseLetters reads a group's letters written by [Letters.Text] back into the list of
-// names: with a "." the text is split there and each part must be one name; without one,
-// every ASCII letter starts a new name and the digits after it belong to it. It returns an
-// error for text no display writes (empty names, a leading digit or zero, other
-// characters, a name given twice).
-func ParseLetters(s string) ([]string, error) {
-	var names []string
-	if strings.Contains(s, ".") {
-		names = strings.Split(s, ".")
-	} else {
-		for i := 0; i < len(s); {
-			j := i + 1
-			for j < len(s) && s[j] >= '0' && s[j] <= '9' {
-				j++
-			}
-			names = append(names, s[i:j])
-			i = j
-		}
-	}
-	if len(names) == 0 {
-		return nil, errors.New("letters: empty text")
-	}
-	seen := make(map[string]bool, len(names))
-	for _, n := range names {
-		if !validLetterName(n) {
-			return nil, fmt.Errorf("letters %q: %q is not a letter name (one ASCII letter and an optional number without a leading zero)", s, n)
-		}
-		if seen[n] {
-			return nil, fmt.Errorf("letters %q: %q appears twice", s, n)
-		}
-		seen[n] = true
-	}
-	return names, nil
-}
-
-func validLetterName(n string) bool {
-	if n == "" || !('a' <= n[0] && n[0] <= 'z' || 'A' <= n[0] && n[0] <= 'Z') {
-		return false
-	}
-	if len(n) == 1 {
-		return true
-	}
-	if n[1] == '0' {
-		return false
-	}
-	for i := 1; i < len(n); i++ {
-		if n[i] < '0' || n[i] > '9' {
-			return false
-		}
-	}
-	return true
 }
 
 // letterWork bounds the insert-and-absorb step, counted in 64-bit word operations on the

@@ -1,6 +1,7 @@
 package stats
 
 import (
+	"errors"
 	"fmt"
 	"math/rand/v2"
 	"reflect"
@@ -90,7 +91,7 @@ func displayError(m [][]bool, l Letters) error {
 	sets := make([]map[string]bool, k)
 	used := map[string]bool{}
 	for g := range k {
-		names, err := ParseLetters(l.Text(g))
+		names, err := parseLetters(l.Text(g))
 		if err != nil {
 			return fmt.Errorf("group %d: %w", g, err)
 		}
@@ -366,8 +367,8 @@ func TestLetterNames(t *testing.T) {
 		if got := LetterName(tc.n); got != tc.want {
 			t.Errorf("LetterName(%d) = %q, want %q", tc.n, got, tc.want)
 		}
-		if names, err := ParseLetters(LetterName(tc.n)); err != nil || !slices.Equal(names, []string{tc.want}) {
-			t.Errorf("ParseLetters(%q) = %v, %v", tc.want, names, err)
+		if names, err := parseLetters(LetterName(tc.n)); err != nil || !slices.Equal(names, []string{tc.want}) {
+			t.Errorf("parseLetters(%q) = %v, %v", tc.want, names, err)
 		}
 	}
 	for _, tc := range []struct {
@@ -381,13 +382,13 @@ func TestLetterNames(t *testing.T) {
 		{"a.b12.Z3", []string{"a", "b12", "Z3"}},
 		{"a1", []string{"a1"}},
 	} {
-		if got, err := ParseLetters(tc.text); err != nil || !slices.Equal(got, tc.want) {
-			t.Errorf("ParseLetters(%q) = %v, %v, want %v", tc.text, got, err, tc.want)
+		if got, err := parseLetters(tc.text); err != nil || !slices.Equal(got, tc.want) {
+			t.Errorf("parseLetters(%q) = %v, %v, want %v", tc.text, got, err, tc.want)
 		}
 	}
 	for _, bad := range []string{"", ".", "a.", ".a", "a..b", "1a", "a0", "a01", "ab.c", "a.a", "aa", "a-b", "é", "a b"} {
-		if got, err := ParseLetters(bad); err == nil {
-			t.Errorf("ParseLetters(%q) = %v, want an error", bad, got)
+		if got, err := parseLetters(bad); err == nil {
+			t.Errorf("parseLetters(%q) = %v, want an error", bad, got)
 		}
 	}
 }
@@ -412,7 +413,7 @@ func TestLettersTextInjective(t *testing.T) {
 			t.Fatalf("%v and %v both written %q", prev, names, text)
 		}
 		seen[text] = names
-		if got, err := ParseLetters(text); err != nil || !slices.Equal(got, names) {
+		if got, err := parseLetters(text); err != nil || !slices.Equal(got, names) {
 			t.Fatalf("%q reads back as %v, %v, want %v", text, got, err, names)
 		}
 		if strings.Count(text, ".") != len(names)-1 {
@@ -441,4 +442,58 @@ func TestCompactLettersErrors(t *testing.T) {
 	if l, err := CompactLetters(nil); err != nil || l.Count != 0 || len(l.Names) != 0 {
 		t.Errorf("no groups: %+v, %v", l, err)
 	}
+}
+
+// parseLetters reads a group's letters written by [Letters.Text] back into the list of
+// names: with a "." the text is split there and each part must be one name; without one,
+// every ASCII letter starts a new name and the digits after it belong to it. It returns an
+// error for text no display writes (empty names, a leading digit or zero, other
+// characters, a name given twice). The tests read every display back with it to check
+// that its text is unambiguous.
+func parseLetters(s string) ([]string, error) {
+	var names []string
+	if strings.Contains(s, ".") {
+		names = strings.Split(s, ".")
+	} else {
+		for i := 0; i < len(s); {
+			j := i + 1
+			for j < len(s) && s[j] >= '0' && s[j] <= '9' {
+				j++
+			}
+			names = append(names, s[i:j])
+			i = j
+		}
+	}
+	if len(names) == 0 {
+		return nil, errors.New("letters: empty text")
+	}
+	seen := make(map[string]bool, len(names))
+	for _, n := range names {
+		if !validLetterName(n) {
+			return nil, fmt.Errorf("letters %q: %q is not a letter name (one ASCII letter and an optional number without a leading zero)", s, n)
+		}
+		if seen[n] {
+			return nil, fmt.Errorf("letters %q: %q appears twice", s, n)
+		}
+		seen[n] = true
+	}
+	return names, nil
+}
+
+func validLetterName(n string) bool {
+	if n == "" || !('a' <= n[0] && n[0] <= 'z' || 'A' <= n[0] && n[0] <= 'Z') {
+		return false
+	}
+	if len(n) == 1 {
+		return true
+	}
+	if n[1] == '0' {
+		return false
+	}
+	for i := 1; i < len(n); i++ {
+		if n[i] < '0' || n[i] > '9' {
+			return false
+		}
+	}
+	return true
 }

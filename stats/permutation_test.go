@@ -18,7 +18,7 @@ import (
 	"rankplan/stats/stream"
 )
 
-var updatePermutationGolden = flag.Bool("update-permutation", false,
+var update = flag.Bool("update", false,
 	"rewrite testdata/permutation/golden.json from the current code (read the diff: any change breaks reproducibility)")
 
 // Designs of the permutation tests.
@@ -671,7 +671,7 @@ func TestPermutationFusedShuffle(t *testing.T) {
 }
 
 // permGolden is testdata/permutation/golden.json. It was written by TestPermutationGolden
-// with -update-permutation and must not be edited by hand: a failure means the recorded
+// with -update and must not be edited by hand: a failure means the recorded
 // Monte Carlo p-values of rankplan/stream/v1 are no longer reproducible.
 type permGolden struct {
 	Note       string  `json:"note"`
@@ -695,7 +695,7 @@ func TestPermutationGolden(t *testing.T) {
 	opt := PermutationOptions{Seed: 20240229, AnalysisID: "golden", Resamples: 3*PermutationBlockSize + 17}
 	p := permRun(t, tiedToy, opt)
 	got := permGolden{
-		Note:       "written by `go test ./stats -run TestPermutationGolden -update-permutation`; do not edit by hand. A change means recorded permutation p-values are no longer reproducible.",
+		Note:       "written by `go test ./stats -run TestPermutationGolden -update`; do not edit by hand. A change means recorded permutation p-values are no longer reproducible.",
 		Scheme:     PermutationScheme,
 		Design:     "tied toy {1,2,2,3},{2,3,3,4},{3,4,5,5} (docs/methods.md §1.5)",
 		Seed:       strconv.FormatUint(opt.Seed, 10),
@@ -708,7 +708,7 @@ func TestPermutationGolden(t *testing.T) {
 		CIHigh:     p.CIHigh,
 		Comparison: p.Comparison,
 	}
-	if *updatePermutationGolden {
+	if *update {
 		b, err := json.MarshalIndent(got, "", "  ")
 		if err != nil {
 			t.Fatal(err)

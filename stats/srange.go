@@ -538,6 +538,10 @@ func checkSRange(k int, df float64) error {
 // from memory), by fixed Gauss-Legendre rules on panels. When the CDF is above 1/2 it is
 // 1 − [StudentizedRangeSurvival]. The absolute error is below 1e-11 in the tests (against
 // mpmath 1.2.1 and scipy 1.10.1). Its result is the same bits on every architecture.
+//
+// No command calls it (post-hoc tests need the upper tail); it stays as the distribution's
+// lower tail beside [StudentizedRangeSurvival] and [StudentizedRangeQuantile], and the tests
+// check the quantile through it (CDF(Quantile(p)) = p) and the lower tail against mpmath.
 func StudentizedRangeCDF(q float64, k int, df float64) (float64, error) {
 	if err := checkSRange(k, df); err != nil {
 		return 0, err

@@ -186,9 +186,16 @@ func loadSRangeScipy(t *testing.T) *srangeScipyRef {
 	return &ref
 }
 
+// The strides of the samples of the scipy grids checked by default: prime to the 7 × 4
+// (df, p) rows of the quantile grid and to the 7 × 12 (df, q) rows of the distribution
+// grid per k.
+const srangeQuantileStride, srangeDistStride = 13, 5
+
 // TestStudentizedRangeScipy compares CDF and Survival with scipy 1.10.1
 // stats.studentized_range.cdf/.sf (testdata/reference/srange_scipy.py) on k = 2..20,
-// df = 2, 5, 10, 20, 60, 120, inf and q = 0.1..25, rows where scipy's value is ≥ 1e-10.
+// df = 2, 5, 10, 20, 60, 120, inf and q = 0.1..25, rows where scipy's value is ≥ 1e-10;
+// by default every srangeDistStride-th row (every k, and every df and q at some k), every
+// row with RANKPLAN_EXHAUSTIVE=1.
 // Tolerances, per row class:
 //   - CDF: absolute 1e-10 (scipy's own integration is of that order);
 //   - CDF below 1e-3: relative 1e-7 where it is ≥ 1e-6, and 2e-4 below (scipy's lower tail
@@ -202,10 +209,14 @@ func loadSRangeScipy(t *testing.T) *srangeScipyRef {
 //     sf(10; 15, ∞), where scipy is off by up to 5e-6. Those tails are held to 1e-8 by
 //     TestStudentizedRangeMpmath and TestStudentizedRangeK2.
 func TestStudentizedRangeScipy(t *testing.T) {
+	t.Parallel()
 	ref := loadSRangeScipy(t)
 	worstAbs, worstRel := 0.0, 0.0
 	n := 0
-	for _, r := range ref.Dist {
+	for i, r := range ref.Dist {
+		if !sampled(i, srangeDistStride) {
+			continue
+		}
 		df := float64(r.DF)
 		lo, up := srangeTails(r.Q, r.K, df)
 		if r.CDF != nil {
@@ -242,12 +253,15 @@ func TestStudentizedRangeScipy(t *testing.T) {
 // TestStudentizedRangeQuantileScipy compares StudentizedRangeQuantile with scipy 1.10.1
 // stats.studentized_range.ppf at p = 0.05, 0.5, 0.95, 0.99 on the same (k, df) grid,
 // relative 1e-7 in q, and checks that the CDF at the returned q gives back p (absolute
-// 1e-12). With -short only every 7th row is checked.
+// 1e-12). Each row takes tens of milliseconds, so by default every
+// srangeQuantileStride-th row is checked (every k, and every df and p at some k; see
+// TestSampled), and every row with RANKPLAN_EXHAUSTIVE=1.
 func TestStudentizedRangeQuantileScipy(t *testing.T) {
+	t.Parallel()
 	ref := loadSRangeScipy(t)
 	worst := 0.0
 	for n, r := range ref.Quantile {
-		if testing.Short() && n%7 != 0 {
+		if !sampled(n, srangeQuantileStride) {
 			continue
 		}
 		df := float64(r.DF)

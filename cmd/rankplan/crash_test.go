@@ -24,7 +24,8 @@ func TestCrash(t *testing.T) {
 	if testing.Short() {
 		t.Skip("builds the binary")
 	}
-	work, bin := t.TempDir(), buildRankplan(t)
+	t.Parallel()
+	work, bin := t.TempDir(), rankplanBinary(t)
 	// A plan with enough resampling that a run takes a noticeable time (invented data).
 	var data strings.Builder
 	data.WriteString("g,y\n")

@@ -4,12 +4,14 @@ import (
 	"bufio"
 	"errors"
 	"flag"
+	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
 	"regexp"
 	"strconv"
 	"strings"
+	"sync"
 	"testing"
 
 	"github.com/rogpeppe/go-internal/testscript"
@@ -22,7 +24,7 @@ import (
 var update = flag.Bool("update", false, "rewrite the expected output in testdata/script/*.txtar")
 
 func TestMain(m *testing.M) {
-	testscript.Main(m, map[string]func(){
+	testscript.Main(withBinaryDir{m}, map[string]func(){
 		"rankplan": func() { os.Exit(Main(os.Args[1:], os.Stdout, os.Stderr)) },
 		// rankplan with one wrong case added to the selftest's built-in cases, to see the
 		// failure path without touching the real cases.
@@ -32,6 +34,61 @@ func TestMain(m *testing.M) {
 		},
 	})
 }
+
+// withBinaryDir runs the tests of this process with a temporary folder for the rankplan
+// binary that rankplanBinary builds, and removes the folder afterwards. The processes
+// that testscript starts as commands never come here.
+type withBinaryDir struct{ m *testing.M }
+
+func (w withBinaryDir) Run() int {
+	dir, err := os.MkdirTemp("", "rankplan-test-bin-")
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "folder for the test binary: %v\n", err)
+		return 1
+	}
+	defer os.RemoveAll(dir)
+	binary.dir = dir
+	return w.m.Run()
+}
+
+// binary is the rankplan executable shared by the tests that run it as a real process
+// (crash, signals, terminal): built once per test process, on first use.
+var binary struct {
+	dir  string
+	once sync.Once
+	path string
+	err  error
+}
+
+// rankplanBinary returns the path of rankplan built from this package, building it on
+// the first call. It is built with GOAMD64=v1 so that TestSignals can check that the
+// run.started record names the level the binary was built for, not the one in the
+// environment of the run (GOAMD64 has no effect on other architectures).
+func rankplanBinary(t *testing.T) string {
+	t.Helper()
+	binary.once.Do(func() {
+		if binary.dir == "" {
+			binary.err = errors.New("no folder for the binary (TestMain did not run)")
+			return
+		}
+		path := filepath.Join(binary.dir, "rankplan")
+		build := exec.Command("go", "build", "-o", path, ".")
+		build.Env = append(os.Environ(), "GOAMD64=v1")
+		if out, err := build.CombinedOutput(); err != nil {
+			binary.err = fmt.Errorf("go build: %v\n%s", err, out)
+			return
+		}
+		binary.path = path
+	})
+	if binary.err != nil {
+		t.Fatal(binary.err)
+	}
+	return binary.path
+}
+
+// exhaustive reports whether the long variants of the tests run (RANKPLAN_EXHAUSTIVE=1,
+// as .ci/run sets it); scripts ask with the condition [exhaustive].
+func exhaustive() bool { return os.Getenv("RANKPLAN_EXHAUSTIVE") == "1" }
 
 // wrongSelftestCase is PlantGrowth's H* (7.988229, scipy 1.10.1 stats.kruskal on Dobson's
 // 1983 data) with a deliberately wrong expected value.
@@ -75,6 +132,12 @@ func TestScripts(t *testing.T) {
 		Dir:                 "testdata/script",
 		UpdateScripts:       *update,
 		RequireExplicitExec: true,
+		Condition: func(cond string) (bool, error) {
+			if cond == "exhaustive" {
+				return exhaustive(), nil
+			}
+			return false, fmt.Errorf("unknown condition %q", cond)
+		},
 		Setup: func(env *testscript.Env) error {
 			return os.CopyFS(filepath.Join(env.WorkDir, "examples"), os.DirFS("../../examples"))
 		},

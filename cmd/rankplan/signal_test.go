@@ -313,7 +313,7 @@ func TestSignals(t *testing.T) {
 	if testing.Short() {
 		t.Skip("builds the binary")
 	}
-	dir, bin := t.TempDir(), buildRankplan(t, "GOAMD64=v1")
+	dir, bin := t.TempDir(), rankplanBinary(t)
 	writeSignalInputs(t, dir)
 	big := filepath.Join(dir, "big.csv")
 	done := filepath.Join(dir, "done")

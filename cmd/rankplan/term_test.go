@@ -187,20 +187,6 @@ func TestDurationText(t *testing.T) {
 	}
 }
 
-// buildRankplan builds the command into the test's temporary folder (the build cache
-// makes the second build quick), with env (KEY=VALUE) added to the environment of the
-// build, and returns its path.
-func buildRankplan(t *testing.T, env ...string) string {
-	t.Helper()
-	bin := filepath.Join(t.TempDir(), "rankplan")
-	build := exec.Command("go", "build", "-o", bin, ".")
-	build.Env = append(os.Environ(), env...)
-	if out, err := build.CombinedOutput(); err != nil {
-		t.Fatalf("go build: %v\n%s", err, out)
-	}
-	return bin
-}
-
 // runWithPTY runs the built rankplan in dir with args, stdout and/or stderr attached to a
 // pseudo-terminal of 100 columns, and returns what the terminal and the pipe received.
 func runWithPTY(t *testing.T, bin, dir string, env []string, stdoutTTY, stderrTTY bool, args ...string) (tty, pipe string) {
@@ -259,7 +245,8 @@ func copyExamples(t *testing.T) string {
 // lines appear there, stdout (a pipe) has none, and results.json is byte-identical to
 // that of a run without a terminal.
 func TestProgressOnTerminal(t *testing.T) {
-	dir, bin := copyExamples(t), buildRankplan(t)
+	t.Parallel()
+	dir, bin := copyExamples(t), rankplanBinary(t)
 	tty, stdout := runWithPTY(t, bin, dir, termEnv("TERM=xterm"), false, true, "run", "examples/dissolution/plan.yaml", "--out", "tty")
 	for _, want := range []string{"primary: permutation resamples [", "/100000 ", "/s ", " left"} {
 		if !strings.Contains(tty, want) {
@@ -299,7 +286,8 @@ var escape = regexp.MustCompile("\x1b\\[[0-9;]*m")
 // TestColorOnTerminal: the check preview on a terminal has bold headings, unless
 // NO_COLOR is set (to anything) or TERM is dumb; a pipe never gets colour.
 func TestColorOnTerminal(t *testing.T) {
-	dir, bin := copyExamples(t), buildRankplan(t)
+	t.Parallel()
+	dir, bin := copyExamples(t), rankplanBinary(t)
 	args := []string{"check", "examples/dissolution/plan.yaml"}
 	for _, tc := range []struct {
 		name      string

@@ -145,3 +145,43 @@ func RecordsOutput(rec audit.Record, name string) bool {
 	var d struct{ File string }
 	return rec.Event == folder.EventOutputWritten && json.Unmarshal(rec.Data, &d) == nil && d.File == name
 }
+
+// Typed decodes a record's data into the typed record of its event ([folder.RunStarted] for
+// run.started, [folder.Failure] for run.failed and selftest.failed, ...), refusing unknown
+// members; an event that has no typed record is an error. The contract tests of run and
+// selftest folders decode every record with it.
+func Typed(r audit.Record) (any, error) {
+	var v any
+	switch r.Event {
+	case folder.EventRunStarted:
+		v = &folder.RunStarted{}
+	case folder.EventPlanBound:
+		v = &folder.PlanBound{}
+	case folder.EventDataBound:
+		v = &folder.DataBound{}
+	case folder.EventExclusions:
+		v = &folder.ExclusionsApplied{}
+	case folder.EventAnalysisFinished:
+		v = &folder.AnalysisFinished{}
+	case folder.EventOutputWritten:
+		v = &folder.OutputWritten{}
+	case folder.EventRunFinished:
+		v = &folder.RunFinished{}
+	case folder.EventRunFailed, folder.EventSelftestFailed:
+		v = &folder.Failure{}
+	case folder.EventSelftestStarted:
+		v = &folder.SelftestStarted{}
+	case folder.EventCasesBound:
+		v = &folder.CasesBound{}
+	case folder.EventCasesEvaluated:
+		v = &folder.CasesEvaluated{}
+	case folder.EventSelftestFinished:
+		v = &folder.SelftestFinished{}
+	default:
+		return nil, fmt.Errorf("record %d: no record type for event %q", r.Seq, r.Event)
+	}
+	if err := folder.Decode(r, v); err != nil {
+		return nil, err
+	}
+	return v, nil
+}

@@ -4,8 +4,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-
-	"rankplan/internal/infile"
 )
 
 // LockFormat names the layout of lock files.
@@ -42,20 +40,6 @@ func EncodeLock(l Lock) ([]byte, error) {
 
 // MaxLockBytes is the largest lock file read: 1 MiB, four times the largest plan.
 const MaxLockBytes = 1 << 20
-
-// ReadLock reads the lock file at path, a regular file of at most MaxLockBytes (symbolic
-// links followed), with ParseLock.
-func ReadLock(path string) (Lock, error) {
-	b, err := infile.ReadFile(path, MaxLockBytes)
-	if err != nil {
-		return Lock{}, fmt.Errorf("%s: %w", path, err)
-	}
-	l, err := ParseLock(b)
-	if err != nil {
-		return Lock{}, fmt.Errorf("%s: %w", path, err)
-	}
-	return l, nil
-}
 
 // ParseLock reads and checks the bytes of a lock file: one JSON object of known format
 // with no unknown fields and nothing after it, whose plan has the recorded canonical

@@ -42,7 +42,7 @@ func TestLockRoundTrip(t *testing.T) {
 	if err := writeLock(path, l); err != nil {
 		t.Fatal(err)
 	}
-	got, err := ReadLock(path)
+	got, err := readLock(path)
 	if err != nil || !reflect.DeepEqual(got, l) {
 		t.Fatalf("round trip: %v\n%+v\n%+v", err, got, l)
 	}
@@ -61,7 +61,7 @@ func TestLockRoundTrip(t *testing.T) {
 			continue
 		}
 		os.WriteFile(p, []byte(edited), 0o644)
-		if _, err := ReadLock(p); err == nil {
+		if _, err := readLock(p); err == nil {
 			t.Errorf("%s: tampered lock accepted", name)
 		}
 	}

@@ -13,8 +13,6 @@ import (
 	"io"
 	"os"
 	"time"
-
-	"rankplan/internal/infile"
 )
 
 // SignatureFormat names the format of a Signature.
@@ -169,31 +167,6 @@ func parseKey[K any](b []byte, typ, form string, parse func([]byte) (any, error)
 		return zero, fmt.Errorf("not an Ed25519 key (%T)", k)
 	}
 	return key, nil
-}
-
-// LoadPrivateKey reads the file at path, a regular file of at most MaxKeyBytes
-// (symbolic links followed), with ParsePrivateKey.
-func LoadPrivateKey(path string) (ed25519.PrivateKey, error) {
-	return loadKey(path, "private", ParsePrivateKey)
-}
-
-// LoadPublicKey reads the file at path, a regular file of at most MaxKeyBytes (symbolic
-// links followed), with ParsePublicKey.
-func LoadPublicKey(path string) (ed25519.PublicKey, error) {
-	return loadKey(path, "public", ParsePublicKey)
-}
-
-// loadKey reads the key file at path with parse; what is "private" or "public".
-func loadKey[K any](path, what string, parse func([]byte) (K, error)) (K, error) {
-	b, err := infile.ReadFile(path, MaxKeyBytes)
-	if err == nil {
-		var k K
-		if k, err = parse(b); err == nil {
-			return k, nil
-		}
-	}
-	var zero K
-	return zero, fmt.Errorf("load %s key %s: %w", what, path, err)
 }
 
 // ParseSignature reads a signature file as the tool writes it: one JSON object with the

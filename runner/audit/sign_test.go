@@ -21,11 +21,11 @@ func newKeys(t testing.TB) (ed25519.PrivateKey, ed25519.PublicKey, string) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	sk, err := LoadPrivateKey(priv)
+	sk, err := loadPrivateKey(priv)
 	if err != nil {
 		t.Fatal(err)
 	}
-	pk, err := LoadPublicKey(pub)
+	pk, err := loadPublicKey(pub)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -166,23 +166,23 @@ func TestGenerateKeyFiles(t *testing.T) {
 		t.Error("refused GenerateKey changed an existing key file")
 	}
 	// Loading the wrong kind of file fails.
-	if _, err := LoadPrivateKey(filepath.Join(dir, "k.pub")); err == nil {
-		t.Error("LoadPrivateKey of a public key: no error")
+	if _, err := loadPrivateKey(filepath.Join(dir, "k.pub")); err == nil {
+		t.Error("loadPrivateKey of a public key: no error")
 	}
-	if _, err := LoadPublicKey(filepath.Join(dir, "k.pem")); err == nil {
-		t.Error("LoadPublicKey of a private key: no error")
+	if _, err := loadPublicKey(filepath.Join(dir, "k.pem")); err == nil {
+		t.Error("loadPublicKey of a private key: no error")
 	}
 	junk := filepath.Join(dir, "junk")
 	os.WriteFile(junk, []byte("not pem"), 0o600)
-	if _, err := LoadPrivateKey(junk); err == nil {
-		t.Error("LoadPrivateKey of junk: no error")
+	if _, err := loadPrivateKey(junk); err == nil {
+		t.Error("loadPrivateKey of junk: no error")
 	}
 }
 
 // TestEd25519RFC8032Vector runs RFC 8032 §7.1 TEST 1 (Josefsson and
 // Liusvaara 2017; the same line is the first of Go 1.26.8's
 // src/crypto/ed25519/testdata/sign.input.gz) through a PKCS #8 PEM file,
-// LoadPrivateKey, Fingerprint and the Sign/Verify path.
+// ParsePrivateKey, Fingerprint and the Sign/Verify path.
 func TestEd25519RFC8032Vector(t *testing.T) {
 	const (
 		secret = "9d61b19deffd5a60ba844af492ec2cc44449c5697b326919703bac031cae7f60"
@@ -198,7 +198,7 @@ func TestEd25519RFC8032Vector(t *testing.T) {
 	if err := os.WriteFile(p, pem.EncodeToMemory(&pem.Block{Type: "PRIVATE KEY", Bytes: der}), 0o600); err != nil {
 		t.Fatal(err)
 	}
-	sk, err := LoadPrivateKey(p)
+	sk, err := loadPrivateKey(p)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -221,4 +221,22 @@ func TestEd25519RFC8032Vector(t *testing.T) {
 	if s.KeyFingerprint != Fingerprint(pk) {
 		t.Error("fingerprint")
 	}
+}
+
+// loadPrivateKey and loadPublicKey read a key file the tests wrote and parse it; the
+// command reads key files through runner's flag-file readers (size limits, no pipes).
+func loadPrivateKey(path string) (ed25519.PrivateKey, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	return ParsePrivateKey(b)
+}
+
+func loadPublicKey(path string) (ed25519.PublicKey, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	return ParsePublicKey(b)
 }

@@ -38,7 +38,7 @@ func benchOptions() Options {
 		OutcomeColumns: []string{"minutes"}, MissingTokens: []string{"", "NA"}}
 }
 
-// noLen hides the Len method of a reader, so Load cannot size its slices in advance.
+// noLen hides the Len method of a reader, so loadReader cannot size its slices in advance.
 type noLen struct{ r io.Reader }
 
 func (n noLen) Read(b []byte) (int, error) { return n.r.Read(b) }
@@ -59,7 +59,7 @@ func TestAllocsDoNotGrowWithRows(t *testing.T) {
 				if !sized {
 					r = noLen{r}
 				}
-				tab, err := Load(context.Background(), r, benchOptions())
+				tab, err := loadReader(context.Background(), r, benchOptions())
 				if err != nil || tab.Rows == 0 {
 					t.Fatal(err)
 				}
@@ -73,7 +73,7 @@ func TestAllocsDoNotGrowWithRows(t *testing.T) {
 	}
 }
 
-// BenchmarkLoad measures Load on invented files of 10^6 and 10^7 rows, four groups,
+// BenchmarkLoad measures loadReader on invented files of 10^6 and 10^7 rows, four groups,
 // from a reader of known length (columns sized once) and of unknown length (columns
 // grown by append).
 func BenchmarkLoad(b *testing.B) {
@@ -92,7 +92,7 @@ func BenchmarkLoad(b *testing.B) {
 					if !sized {
 						r = noLen{r}
 					}
-					tab, err := Load(context.Background(), r, benchOptions())
+					tab, err := loadReader(context.Background(), r, benchOptions())
 					if err != nil || tab.Rows != n {
 						b.Fatal(err)
 					}
@@ -119,11 +119,11 @@ func TestPresizeSameResult(t *testing.T) {
 		}
 	}
 	for name, in := range map[string][]byte{"generated": genCSV(5000), "long first": longFirst.Bytes(), "short first": shortFirst.Bytes()} {
-		sized, err := Load(context.Background(), bytes.NewReader(in), benchOptions())
+		sized, err := loadReader(context.Background(), bytes.NewReader(in), benchOptions())
 		if err != nil {
 			t.Fatal(err)
 		}
-		grown, err := Load(context.Background(), noLen{bytes.NewReader(in)}, benchOptions())
+		grown, err := loadReader(context.Background(), noLen{bytes.NewReader(in)}, benchOptions())
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -27,7 +27,7 @@ func (c *cancelAfter) Read(b []byte) (int, error) {
 	return k, err
 }
 
-// TestLoadCancel checks that Load stops with the context: cancelled before the call it
+// TestLoadCancel checks that loadReader stops with the context: cancelled before the call it
 // reads nothing; cancelled after the first megabyte of a 200,000-row file (invented
 // rows) it returns context.Canceled having read at most one more buffer; with a live
 // context it loads the same table as with context.Background.
@@ -55,7 +55,7 @@ func TestLoadCancel(t *testing.T) {
 			if tc.after < 0 {
 				cancel()
 			}
-			tab, err := Load(ctx, src, base())
+			tab, err := loadReader(ctx, src, base())
 			if tc.wantErr != (err != nil) || err != nil && !errors.Is(err, context.Canceled) {
 				t.Fatalf("error %v, want context.Canceled: %v", err, tc.wantErr)
 			}
@@ -65,7 +65,7 @@ func TestLoadCancel(t *testing.T) {
 			if err != nil {
 				return
 			}
-			want, err := Load(context.Background(), bytes.NewReader(in.Bytes()), base())
+			want, err := loadReader(context.Background(), bytes.NewReader(in.Bytes()), base())
 			if err != nil {
 				t.Fatal(err)
 			}

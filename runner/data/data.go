@@ -128,11 +128,38 @@ type LabelColumn struct {
 // through a second buffer.
 const bufSize = 64 << 10
 
-// Load reads one CSV data file in long format from r: a header record, then one record
-// per observation. It reads r exactly once, to its end, hashing the bytes as they pass:
+// load reads the CSV text of r as [LoadFile] describes; size is the expected number of
+// bytes of r, or -1 if unknown, and only sizes the table's slices once the first rows
+// show the bytes per row.
+func load(ctx context.Context, r io.Reader, opt Options, size int64) (*Table, error) {
+	if err := opt.check(); err != nil {
+		return nil, err
+	}
+	hr := &hashReader{r: infile.ContextReader(ctx, r), h: sha256.New()}
+	br := bufio.NewReaderSize(hr, bufSize)
+	if err := skipBOM(br, opt.Name); err != nil {
+		return nil, err
+	}
+	lim := opt.Limits.resolve()
+	l := &loader{opt: opt, lim: lim, p: newRecordReader(br, opt.Name, opt.Delimiter, lim.CellBytes, lim.RecordBytes),
+		ids: map[string]int32{}, hr: hr, br: br, expect: size}
+	t, err := l.run()
+	if err != nil {
+		return nil, err
+	}
+	t.Size = hr.n
+	hr.h.Sum(t.SHA256[:0])
+	return t, nil
+}
+
+// LoadFile reads the CSV data file at path, in long format: a header record, then one
+// record per observation. Options.Name (default: path) names the file in errors. Only a
+// regular file (after following symbolic links) of at most [MaxFileBytes] is read: a
+// named pipe, a device or a directory is refused before anything is read from it (see
+// [Open]). It reads the file exactly once, to its end, hashing the bytes as they pass:
 //
-//	SHA256 = SHA-256(every byte of r)       (NIST FIPS 180-4, 2015)
-//	Size   = number of bytes of r
+//	SHA256 = SHA-256(every byte of the file)       (NIST FIPS 180-4, 2015)
+//	Size   = number of bytes of the file
 //
 // Records follow RFC 4180 (Shafranovich 2005): quoted fields, "" for a quote inside a
 // quoted field, quoted fields spanning lines, LF or CRLF line ends, and an optional
@@ -155,48 +182,12 @@ const bufSize = 64 << 10
 // negative zero. Missing cells follow Options.MissingTokens and Options.FailOnMissing.
 // Group labels must be valid UTF-8.
 //
-// Every data error is an *Error; a failing read of r is returned wrapped. Load
-// allocates nothing per row: group labels are allocated once each, and the columns
-// grow by append, or are sized once from the first rows when the input's length is
-// known (r has a Len method, or LoadFile's regular file).
+// Every data error is an *Error; a failing read is returned wrapped. LoadFile
+// allocates nothing per row: group labels are allocated once each, and the columns are
+// sized once from the first rows and the file's size.
 //
-// ctx is checked before every read of r, that is every 64 KiB: once ctx is done, Load
+// ctx is checked before every read, that is every 64 KiB: once ctx is done, LoadFile
 // returns its error (wrapped) within a buffer of rows.
-func Load(ctx context.Context, r io.Reader, opt Options) (*Table, error) {
-	size := int64(-1)
-	if lr, ok := r.(interface{ Len() int }); ok { // bytes.Reader, strings.Reader, bytes.Buffer
-		size = int64(lr.Len())
-	}
-	return load(ctx, r, opt, size)
-}
-
-// load is Load with the expected number of bytes of r, or -1 if unknown. The size is
-// only used to size the table's slices once the first rows show the bytes per row.
-func load(ctx context.Context, r io.Reader, opt Options, size int64) (*Table, error) {
-	if err := opt.check(); err != nil {
-		return nil, err
-	}
-	hr := &hashReader{r: infile.ContextReader(ctx, r), h: sha256.New()}
-	br := bufio.NewReaderSize(hr, bufSize)
-	if err := skipBOM(br, opt.Name); err != nil {
-		return nil, err
-	}
-	lim := opt.Limits.resolve()
-	l := &loader{opt: opt, lim: lim, p: newRecordReader(br, opt.Name, opt.Delimiter, lim.CellBytes, lim.RecordBytes),
-		ids: map[string]int32{}, hr: hr, br: br, expect: size}
-	t, err := l.run()
-	if err != nil {
-		return nil, err
-	}
-	t.Size = hr.n
-	hr.h.Sum(t.SHA256[:0])
-	return t, nil
-}
-
-// LoadFile opens the file at path and loads it with [Load], which stops when ctx is
-// done. Options.Name defaults to path. Only a regular file (after following symbolic
-// links) of at most [MaxFileBytes] is read: a named pipe, a device or a directory is
-// refused before anything is read from it (see [Open]).
 func LoadFile(ctx context.Context, path string, opt Options) (*Table, error) {
 	if opt.Name == "" {
 		opt.Name = path
@@ -341,7 +332,7 @@ func (o *Options) check() error {
 	return nil
 }
 
-// loader holds the state of one Load.
+// loader holds the state of one load.
 type loader struct {
 	opt Options
 	lim Limits // the limits in force

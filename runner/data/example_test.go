@@ -4,6 +4,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"os"
+	"path/filepath"
 	"strings"
 
 	"rankplan/runner/data"
@@ -11,13 +13,28 @@ import (
 
 // The data in these examples is invented.
 
-func ExampleLoad() {
-	const file = "id;arm;minutes\n" +
-		"1;control;12,5\n" +
-		"2;\"treated\";9,75\n" +
-		"3;control;NA\n" +
-		"4;;11\n"
-	tab, err := data.Load(context.Background(), strings.NewReader(file), data.Options{
+// writeExample writes text to a file name in a new temporary folder and returns the
+// file's path and a function that removes the folder.
+func writeExample(name, text string) (string, func()) {
+	dir, err := os.MkdirTemp("", "data-example")
+	if err != nil {
+		panic(err)
+	}
+	path := filepath.Join(dir, name)
+	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+		panic(err)
+	}
+	return path, func() { os.RemoveAll(dir) }
+}
+
+func ExampleLoadFile_options() {
+	path, remove := writeExample("trial.csv", "id;arm;minutes\n"+
+		"1;control;12,5\n"+
+		"2;\"treated\";9,75\n"+
+		"3;control;NA\n"+
+		"4;;11\n")
+	defer remove()
+	tab, err := data.LoadFile(context.Background(), path, data.Options{
 		Name:           "trial.csv",
 		Delimiter:      ';',
 		Decimal:        ',',
@@ -70,7 +87,9 @@ func ExampleHeader() {
 }
 
 func ExampleError() {
-	_, err := data.Load(context.Background(), strings.NewReader("arm,minutes\na,1\nb,\"inf\"\n"), data.Options{
+	path, remove := writeExample("x.csv", "arm,minutes\na,1\nb,\"inf\"\n")
+	defer remove()
+	_, err := data.LoadFile(context.Background(), path, data.Options{
 		Name: "x.csv", Delimiter: ',', Decimal: '.', GroupColumn: "arm", OutcomeColumns: []string{"minutes"},
 	})
 	fmt.Println(err)

@@ -74,7 +74,7 @@ func TestLimits(t *testing.T) {
 			opt := base()
 			opt.Limits = tc.lim
 			start := time.Now()
-			_, err := Load(context.Background(), tc.in, opt)
+			_, err := loadReader(context.Background(), tc.in, opt)
 			switch {
 			case tc.want == "" && err != nil:
 				t.Errorf("error %v", err)
@@ -96,7 +96,7 @@ func TestLabelColumnLimit(t *testing.T) {
 	opt := base()
 	opt.LabelColumns = []string{"site"}
 	opt.Limits.Labels = 2
-	_, err := Load(context.Background(), strings.NewReader("g,site,x\na,s1,1\na,s2,2\nb,s1,3\nb,s3,4\n"), opt)
+	_, err := loadReader(context.Background(), strings.NewReader("g,site,x\na,s1,1\na,s2,2\nb,s1,3\nb,s3,4\n"), opt)
 	want := `d.csv:5:3: column "site": more than 2 distinct labels, the limit for a group or subset column (this cell holds label 3)`
 	if err == nil || err.Error() != want {
 		t.Errorf("error\n%v\nwant\n%s", err, want)

@@ -6,6 +6,7 @@ import (
 	"crypto/sha256"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -27,7 +28,7 @@ func base() Options {
 }
 
 func loadString(s string, opt Options) (*Table, error) {
-	return Load(context.Background(), strings.NewReader(s), opt)
+	return loadReader(context.Background(), strings.NewReader(s), opt)
 }
 
 // sameFloat reports whether a and b are the same float64, telling -0 from 0 and
@@ -461,21 +462,21 @@ func TestReaders(t *testing.T) {
 	}
 	for name, r := range map[string]func() *Table{
 		"one byte": func() *Table {
-			tab, err := Load(context.Background(), iotest.OneByteReader(strings.NewReader(in)), base())
+			tab, err := loadReader(context.Background(), iotest.OneByteReader(strings.NewReader(in)), base())
 			if err != nil {
 				t.Fatal(err)
 			}
 			return tab
 		},
 		"half": func() *Table {
-			tab, err := Load(context.Background(), iotest.HalfReader(strings.NewReader(in)), base())
+			tab, err := loadReader(context.Background(), iotest.HalfReader(strings.NewReader(in)), base())
 			if err != nil {
 				t.Fatal(err)
 			}
 			return tab
 		},
 		"data with EOF": func() *Table {
-			tab, err := Load(context.Background(), iotest.DataErrReader(strings.NewReader(in)), base())
+			tab, err := loadReader(context.Background(), iotest.DataErrReader(strings.NewReader(in)), base())
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -501,7 +502,7 @@ func TestReadError(t *testing.T) {
 		"mid-field": "g,x\na,\"1",
 	} {
 		t.Run(name, func(t *testing.T) {
-			_, err := Load(context.Background(), &failAfter{data: []byte(prefix), err: boom}, base())
+			_, err := loadReader(context.Background(), &failAfter{data: []byte(prefix), err: boom}, base())
 			if !errors.Is(err, boom) {
 				t.Errorf("got %v, want an error wrapping %v", err, boom)
 			}
@@ -524,7 +525,7 @@ func (f *failAfter) Read(b []byte) (int, error) {
 	return n, nil
 }
 
-// TestInputsUnchanged checks that Load changes neither the options' slices nor the
+// TestInputsUnchanged checks that loadReader changes neither the options' slices nor the
 // input bytes, also when it rewrites decimal commas.
 func TestInputsUnchanged(t *testing.T) {
 	in := []byte("g;x;y\na;1,5;2\r\nb;\"3,25\";NA\n")
@@ -534,12 +535,12 @@ func TestInputsUnchanged(t *testing.T) {
 	opt.OutcomeColumns = []string{"y", "x"}
 	opt.MissingTokens = []string{"NA", ""}
 	cols, toks := slices.Clone(opt.OutcomeColumns), slices.Clone(opt.MissingTokens)
-	tab, err := Load(context.Background(), bytes.NewReader(in), opt)
+	tab, err := loadReader(context.Background(), bytes.NewReader(in), opt)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if !bytes.Equal(in, inCopy) || !slices.Equal(opt.OutcomeColumns, cols) || !slices.Equal(opt.MissingTokens, toks) {
-		t.Error("Load changed its inputs")
+		t.Error("loadReader changed its inputs")
 	}
 	if !slices.EqualFunc(tab.Outcome[1], []float64{1.5, 3.25}, sameFloat) ||
 		!slices.EqualFunc(tab.Outcome[0], []float64{2, math.NaN()}, sameFloat) {
@@ -600,7 +601,7 @@ func TestHeader(t *testing.T) {
 	}
 }
 
-// FuzzLoad checks that Load never panics and that a table it returns is consistent:
+// FuzzLoad checks that loadReader never panics and that a table it returns is consistent:
 // parallel columns of equal length, group indices in range, distinct valid UTF-8
 // labels, increasing line numbers, and the digest of exactly the input bytes.
 func FuzzLoad(f *testing.F) {
@@ -611,7 +612,7 @@ func FuzzLoad(f *testing.F) {
 		f.Add([]byte(s))
 	}
 	f.Fuzz(func(t *testing.T, in []byte) {
-		tab, err := Load(context.Background(), bytes.NewReader(in), base())
+		tab, err := loadReader(context.Background(), bytes.NewReader(in), base())
 		if err != nil {
 			var e *Error
 			if !errors.As(err, &e) {
@@ -699,7 +700,7 @@ func TestLabelColumns(t *testing.T) {
 	}
 	allocs := func(in []byte) float64 {
 		return testing.AllocsPerRun(3, func() {
-			if _, err := Load(context.Background(), bytes.NewReader(in), opt); err != nil {
+			if _, err := loadReader(context.Background(), bytes.NewReader(in), opt); err != nil {
 				t.Fatal(err)
 			}
 		})
@@ -707,4 +708,14 @@ func TestLabelColumns(t *testing.T) {
 	if a, b := allocs(gen(10_000)), allocs(gen(100_000)); b-a >= 200 {
 		t.Errorf("allocations grow with rows: %.0f for 10^4 rows, %.0f for 10^5 rows", a, b)
 	}
+}
+
+// loadReader loads CSV text from r as LoadFile loads a file, sizing the table from r's
+// Len method when it has one (bytes.Reader, strings.Reader, bytes.Buffer).
+func loadReader(ctx context.Context, r io.Reader, opt Options) (*Table, error) {
+	size := int64(-1)
+	if lr, ok := r.(interface{ Len() int }); ok {
+		size = int64(lr.Len())
+	}
+	return load(ctx, r, opt, size)
 }

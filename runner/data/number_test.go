@@ -23,7 +23,7 @@ func regexpSignificant(mantissa string) int {
 }
 
 // FuzzNumber checks scanDecimal against the regular expressions above, and the value
-// Load reads against strconv.ParseFloat of the same text (Go 1.26 standard library).
+// loadReader reads against strconv.ParseFloat of the same text (Go 1.26 standard library).
 func FuzzNumber(f *testing.F) {
 	for _, s := range []string{
 		"1.5", "-0", ".5", "1.", "1e5", "1e", "+.5e-3", "0x1p3", "inf", "NaN", "1_0",
@@ -55,7 +55,7 @@ func FuzzNumber(f *testing.F) {
 		want, perr := strconv.ParseFloat(strings.Replace(s, ",", ".", 1), 64)
 		if perr != nil || (want == 0 && sig > 0) {
 			if err == nil || !strings.Contains(err.Error(), "is out of range") {
-				t.Fatalf("%q: ParseFloat %v, %v; Load error %v", s, want, perr, err)
+				t.Fatalf("%q: ParseFloat %v, %v; loadReader error %v", s, want, perr, err)
 			}
 			return
 		}

@@ -120,7 +120,7 @@ func errText(err error) string {
 // Behaviour both share, checked rather than assumed: a CRLF line end inside a quoted
 // field becomes LF, a lone CR is kept as data, and a CR that is the last byte of the
 // input is dropped. The one intentional difference, a leading UTF-8 byte order mark,
-// is kept out of this comparison: Load strips it before the parser runs, and
+// is kept out of this comparison: loadReader strips it before the parser runs, and
 // encoding/csv keeps it as part of the first field.
 func FuzzParse(f *testing.F) {
 	for _, s := range []string{

@@ -20,7 +20,7 @@ import (
 	"rankplan/runner/results"
 )
 
-var updateHTML = flag.Bool("update-html", false, "rewrite the HTML report golden file under testdata/html")
+var update = flag.Bool("update", false, "rewrite the HTML report golden file under testdata/html")
 
 // The fixtures are results.json of `rankplan run examples/NAME/plan.yaml` (invented demo
 // data) and the observations of those examples, written by testdata/html/make_values.py.
@@ -496,12 +496,12 @@ func TestHTMLEscapes(t *testing.T) {
 }
 
 // TestHTMLGolden compares the whole page for one example with its golden file
-// (go test ./runner/report -run TestHTMLGolden -update-html rewrites it).
+// (go test ./runner/report -run TestHTMLGolden -update rewrites it).
 func TestHTMLGolden(t *testing.T) {
 	res, vals := loadFixture(t, "dissolution")
 	got := render(t, res, goldenMeta, vals)
 	path := filepath.Join("testdata", "html", "dissolution.golden.html")
-	if *updateHTML {
+	if *update {
 		if err := os.WriteFile(path, got, 0o644); err != nil {
 			t.Fatal(err)
 		}
@@ -511,7 +511,7 @@ func TestHTMLGolden(t *testing.T) {
 		t.Fatal(err)
 	}
 	if !bytes.Equal(got, want) {
-		t.Errorf("page differs from %s; rerun with -update-html after checking the change", path)
+		t.Errorf("page differs from %s; rerun with -update after checking the change", path)
 	}
 }
 

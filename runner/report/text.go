@@ -126,11 +126,6 @@ func leftColumn(col []string) []string {
 	return out
 }
 
-// Summary writes the short summary of a run as plain text; see [SummaryWith].
-func Summary(w io.Writer, res *results.Results, dataPath string) error {
-	return SummaryWith(w, res, dataPath, Style{})
-}
-
 // SummaryWith writes the short terminal summary of a run in style st. Tables have their
 // first column (and columns of words) left-aligned and their numbers right-aligned.
 func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) error {
@@ -286,11 +281,6 @@ func (e *errWriter) Write(b []byte) (int, error) {
 }
 
 func (e *errWriter) printf(format string, args ...any) { fmt.Fprintf(e, format, args...) }
-
-// Preview writes what `rankplan check` found as plain text; see [PreviewWith].
-func Preview(w io.Writer, pv *results.Preview, planPath, dataPath string) error {
-	return PreviewWith(w, pv, planPath, dataPath, Style{})
-}
 
 // PreviewWith writes what `rankplan check` found, in style st: the groups and their
 // sizes, and the rows that would be left out, for each analysis.

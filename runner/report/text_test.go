@@ -49,7 +49,7 @@ func TestSummaryNotComputable(t *testing.T) {
 			Reason: "all observations are tied", Groups: []results.Group{{Name: "A", N: 2}, {Name: "B", N: 1}}}},
 	}
 	var b strings.Builder
-	if err := Summary(&b, res, "d.csv"); err != nil {
+	if err := SummaryWith(&b, res, "d.csv", Style{}); err != nil {
 		t.Fatal(err)
 	}
 	for _, want := range []string{"not computable: all observations are tied", Caution} {
@@ -103,7 +103,7 @@ func TestSummaryHodgesLehmann(t *testing.T) {
 	pairs[1].HodgesLehmann.TiedValues = true
 	pairs[2].HodgesLehmann.Coverage, pairs[2].HodgesLehmann.IndexMethod = nil, "normal"
 	var b strings.Builder
-	if err := Summary(&b, res, "d.csv"); err != nil {
+	if err := SummaryWith(&b, res, "d.csv", Style{}); err != nil {
 		t.Fatal(err)
 	}
 	for _, want := range []string{
@@ -116,7 +116,7 @@ func TestSummaryHodgesLehmann(t *testing.T) {
 		}
 	}
 	// An untied pair with an exact index needs no words beyond the table.
-	if err := Summary(&b, layoutResults(), "d.csv"); err != nil || strings.Count(b.String(), " interval: ") != 3 {
+	if err := SummaryWith(&b, layoutResults(), "d.csv", Style{}); err != nil || strings.Count(b.String(), " interval: ") != 3 {
 		t.Errorf("%d interval lines, want 3 (%v)", strings.Count(b.String(), " interval: "), err)
 	}
 }
@@ -135,7 +135,7 @@ func column(line, field string) int {
 // same column).
 func TestSummaryTables(t *testing.T) {
 	var b strings.Builder
-	if err := Summary(&b, layoutResults(), "d.csv"); err != nil {
+	if err := SummaryWith(&b, layoutResults(), "d.csv", Style{}); err != nil {
 		t.Fatal(err)
 	}
 	lines := strings.Split(b.String(), "\n")
@@ -183,7 +183,7 @@ var sgr = regexp.MustCompile("\x1b\\[[0-9;]*m")
 // the headings and the decisions.
 func TestSummaryColor(t *testing.T) {
 	var plain, color strings.Builder
-	if err := Summary(&plain, layoutResults(), "d.csv"); err != nil {
+	if err := SummaryWith(&plain, layoutResults(), "d.csv", Style{}); err != nil {
 		t.Fatal(err)
 	}
 	if err := SummaryWith(&color, layoutResults(), "d.csv", Style{Color: true}); err != nil {
@@ -221,7 +221,7 @@ func TestPreviewColor(t *testing.T) {
 		Multiplicity: &results.PreviewMultiplicity{Rule: "holm", Analyses: []string{"first"}},
 	}
 	var plain, color strings.Builder
-	if err := Preview(&plain, pv, "p.yaml", "d.csv"); err != nil {
+	if err := PreviewWith(&plain, pv, "p.yaml", "d.csv", Style{}); err != nil {
 		t.Fatal(err)
 	}
 	if err := PreviewWith(&color, pv, "p.yaml", "d.csv", Style{Color: true}); err != nil {
@@ -300,7 +300,7 @@ func TestLettersRenderings(t *testing.T) {
 	want := "A a, Zürich-Süd b1, control group a.b1"
 	caption := "not found to differ at alpha = 0.05 in simultaneous comparisons, without adjustment"
 	var text, md strings.Builder
-	if err := Summary(&text, res, "d.csv"); err != nil {
+	if err := SummaryWith(&text, res, "d.csv", Style{}); err != nil {
 		t.Fatal(err)
 	}
 	if err := Markdown(&md, res, Meta{}, "DIR"); err != nil {

@@ -15,6 +15,7 @@ import (
 	"testing"
 	"time"
 
+	"rankplan/internal/audittest"
 	"rankplan/runner"
 	"rankplan/runner/audit"
 	"rankplan/runner/folder"
@@ -523,7 +524,7 @@ func TestSelftestFolderVerifies(t *testing.T) {
 		t.Fatalf("folder.Read: %v %v", err, f.Problems)
 	}
 	for _, r := range f.Chain.Records {
-		if _, err := folder.Typed(r); err != nil {
+		if _, err := audittest.Typed(r); err != nil {
 			t.Error(err)
 		}
 	}

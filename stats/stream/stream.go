@@ -119,6 +119,11 @@ func (s *Stream) Below(n uint64) uint64 {
 //	for i = len(a)−1 down to 1:  j = s.Below(i+1);  swap a[i], a[j]
 //
 // It draws exactly as [Shuffle] does.
+//
+// It is the specification's shuffle (step 4 of the package documentation) as code,
+// checked against the independent Python replay: the Monte Carlo test of package stats
+// runs the same loop inline, adding ranks as it swaps, and its tests check the two agree
+// (TestPermutationFusedShuffle), so no command calls this one.
 func ShuffleInt32(s *Stream, a []int32) {
 	for i := len(a) - 1; i > 0; i-- {
 		j := s.Below(uint64(i) + 1)
@@ -129,6 +134,8 @@ func ShuffleInt32(s *Stream, a []int32) {
 // Shuffle permutes a in place by Fisher-Yates, exactly as [ShuffleInt32]:
 //
 //	for i = len(a)−1 down to 1:  j = s.Below(i+1);  swap a[i], a[j]
+//
+// Like [ShuffleInt32], it is the specification's shuffle as code; no command calls it.
 func Shuffle[E any](s *Stream, a []E) {
 	for i := len(a) - 1; i > 0; i-- {
 		j := s.Below(uint64(i) + 1)
@@ -143,6 +150,10 @@ func Shuffle[E any](s *Stream, a []E) {
 //
 // A bootstrap resample of n items takes len(dst) = n. n < 1 is a programmer error and
 // Indices panics.
+//
+// It is the specification's resampling step (step 5 of the package documentation) as
+// code, checked against the independent Python replay; the bootstrap of package stats
+// calls Below itself, group by group, so no command calls this one.
 func Indices[I ~int | ~int32 | ~int64](s *Stream, dst []I, n I) {
 	if n < 1 {
 		panic(fmt.Sprintf("stream: Indices with n = %d", int64(n)))

@@ -24,20 +24,24 @@ import (
 	"rankplan/runner/results"
 )
 
-var updateShots = flag.Bool("update-screenshots", false, "rewrite testdata/screenshots/*.png")
+var update = flag.Bool("update", false, "rewrite testdata/screenshots/*.png")
 
-// chromium finds the browser; without one the test is skipped, except in CI (CI=true),
-// where .ci/run installs it and a missing browser is a failure.
+// browserNames are the executables looked for on PATH, in this order.
+var browserNames = []string{"chromium", "chromium-browser", "google-chrome"}
+
+// chromium finds the browser. Without one the test fails in CI (CI=true), where .ci/run
+// installs it, so that a green CI has always opened the reports; elsewhere it is skipped
+// with a message naming what to install.
 func chromium(t *testing.T) string {
-	for _, name := range []string{"chromium", "chromium-browser", "google-chrome"} {
+	for _, name := range browserNames {
 		if p, err := exec.LookPath(name); err == nil {
 			return p
 		}
 	}
 	if os.Getenv("CI") == "true" {
-		t.Fatal("no chromium on PATH; .ci/run installs the Debian package chromium")
+		t.Fatalf("CI=true and none of %v is on PATH: the reports were not opened in a browser; .ci/run installs the Debian package chromium", browserNames)
 	}
-	t.Skip("no chromium on PATH (apt-get install chromium)")
+	t.Skipf("the reports were not opened in a browser: none of %v is on PATH; install the Debian package chromium (apt-get install chromium) to run this test", browserNames)
 	return ""
 }
 
@@ -56,11 +60,19 @@ func TestReportInChromium(t *testing.T) {
 	opts := append(chromedp.DefaultExecAllocatorOptions[:], chromedp.ExecPath(exe),
 		chromedp.NoSandbox, chromedp.Flag("disable-gpu", true), chromedp.WindowSize(1100, 1400),
 		chromedp.Flag("host-resolver-rules", "MAP * ~NOTFOUND"), chromedp.ProxyServer("127.0.0.1:9"))
-	actx, cancel := chromedp.NewExecAllocator(context.Background(), opts...)
-	defer cancel()
+	// One browser for all examples, each in its own tab, run in parallel; the browser is
+	// closed when the last of them has finished (t.Cleanup, not defer).
+	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
+	t.Cleanup(cancelAlloc)
+	bctx, cancelBrowser := chromedp.NewContext(actx)
+	t.Cleanup(cancelBrowser)
+	if err := chromedp.Do(bctx); err != nil {
+		t.Fatalf("start %s: %v", exe, err)
+	}
 	for _, plan := range plans {
 		name := filepath.Base(filepath.Dir(plan))
 		t.Run(name, func(t *testing.T) {
+			t.Parallel()
 			dir := filepath.Join(t.TempDir(), "run")
 			if _, err := runner.Run(context.Background(), plan, runner.RunOptions{Out: dir, Workers: 2}); err != nil {
 				t.Fatal(err)
@@ -73,7 +85,7 @@ func TestReportInChromium(t *testing.T) {
 			if err := json.Unmarshal(b, &res); err != nil {
 				t.Fatal(err)
 			}
-			ctx, cancel := chromedp.NewContext(actx)
+			ctx, cancel := chromedp.NewContext(bctx)
 			defer cancel()
 			ctx, cancel = context.WithTimeout(ctx, 60*time.Second)
 			defer cancel()
@@ -151,13 +163,13 @@ func TestReportInChromium(t *testing.T) {
 			}
 			checkPrint(ctx, t)
 			path := filepath.Join("testdata", "screenshots", name+".png")
-			if *updateShots {
+			if *update {
 				os.MkdirAll(filepath.Dir(path), 0o755)
 				if err := os.WriteFile(path, shot, 0o644); err != nil {
 					t.Fatal(err)
 				}
 			} else if _, err := os.Stat(path); err != nil {
-				t.Errorf("no committed screenshot %s for review (go test ./runner/report/browser -update-screenshots): %v", path, err)
+				t.Errorf("no committed screenshot %s for review (go test ./runner/report/browser -update): %v", path, err)
 			}
 		})
 	}
