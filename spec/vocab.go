@@ -7,6 +7,10 @@ package spec
 // The plan schema (schemas/plan.schema.json), `rankplan init`, the README's plan-format
 // table and the code all follow these lists; TestVocabularyAgrees in cmd/rankplan holds
 // them equal.
+//
+// A list that no command calls (the command checks a plan against the schema, which the
+// test holds equal to the list) stays on purpose: it is the definition the schema, init
+// and the docs are checked against. .ci/deadcode-allowed names each such list.
 
 // Test names an omnibus test. Only [KruskalWallis] runs in this release; the schema
 // accepts the others so that plans can name them, and [Parse] refuses them as not
