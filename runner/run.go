@@ -128,11 +128,12 @@ type runInputs struct {
 	toolRec           folder.Tool
 	exe               string
 	exeSize           int64
+	missing           []string // folders above --out to create, outermost first
 	now               func() time.Time
 }
 
-// bindInputs reads and checks everything a run needs: the output folder's name, the
-// plan, its lock and deviations, the data, the work's size and the signing key.
+// bindInputs reads and checks everything a run needs: the output folder's name and the
+// folders above it that are missing (created later, by openRunFolder), the plan, its lock and deviations, the data, the work's size and the signing key.
 func bindInputs(ctx context.Context, planPath string, opt RunOptions) (*runInputs, error) {
 	in := &runInputs{planPath: planPath, now: opt.Now}
 	if in.now == nil {
@@ -141,10 +142,10 @@ func bindInputs(ctx context.Context, planPath string, opt RunOptions) (*runInput
 	if err := CheckNewFile(opt.Out); err != nil {
 		return nil, err
 	}
-	if parent := filepath.Dir(opt.Out); !isDir(parent) {
-		return nil, &InputError{Err: fmt.Errorf("--out %s: the folder %s does not exist; create it first, or name a folder inside an existing one", opt.Out, parent)}
-	}
 	var err error
+	if in.missing, err = missingParents(opt.Out); err != nil {
+		return nil, err
+	}
 	if in.raw, err = spec.ReadFile(planPath); err != nil {
 		return nil, &InputError{Err: err}
 	}
@@ -186,12 +187,17 @@ func bindInputs(ctx context.Context, planPath string, opt RunOptions) (*runInput
 	return in, nil
 }
 
-// openRunFolder creates the working folder and records the bound inputs: run.started,
-// plan.bound, data.bound and exclusions.applied.
+// openRunFolder creates the missing folders above --out, then the working folder, and
+// records the bound inputs: run.started (naming the folders it created), plan.bound,
+// data.bound and exclusions.applied.
 func openRunFolder(in *runInputs, opt RunOptions) (*folder.Writer, error) {
 	getenv := opt.Getenv
 	if getenv == nil {
 		getenv = os.Getenv
+	}
+	created, err := createParents(in.missing)
+	if err != nil {
+		return nil, err
 	}
 	w, err := folder.Create(opt.Out, folder.Run, audit.CurrentActor(getenv, opt.Signer, opt.Reason), in.now)
 	if err != nil {
@@ -213,7 +219,8 @@ func openRunFolder(in *runInputs, opt RunOptions) (*folder.Writer, error) {
 	for _, r := range []folder.Record{
 		folder.RunStarted{
 			Tool: in.toolRec, Command: opt.Args, Out: opt.Out, Workers: opt.Workers, CPUs: runtime.NumCPU(),
-			Note: "the plan and its data were validated before this record was written",
+			Note:           "the plan and its data were validated before this record was written",
+			CreatedFolders: created,
 		},
 		in.planRec,
 		in.dataRec,
@@ -337,12 +344,6 @@ func Failure(ctx context.Context, err error) folder.Failure {
 		f.Signal = in.Name()
 	}
 	return f
-}
-
-// isDir reports whether path names a directory (after following symbolic links).
-func isDir(path string) bool {
-	fi, err := os.Stat(path)
-	return err == nil && fi.IsDir()
 }
 
 // ResultsDigest is the SHA-256 of the canonical (RFC 8785) form of the results: the

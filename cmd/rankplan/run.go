@@ -96,7 +96,7 @@ success.`,
 		},
 	}
 	f := c.Flags()
-	f.StringVar(&o.Out, "out", "", "the folder to create for the results (must not exist)")
+	f.StringVar(&o.Out, "out", "", "the folder to create for the results (must not exist; missing folders above it are created)")
 	f.IntVar(&o.Workers, "workers", 0, "goroutines for resampling (0: one per core); results are identical for any value")
 	f.StringVar(&o.Signer, "signer", "", "your name, recorded with every audit record")
 	f.StringVar(&o.Reason, "reason", "", "why this run is made, recorded in the audit log")

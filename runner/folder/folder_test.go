@@ -25,7 +25,8 @@ var allRecords = []struct {
 	def   string // the schema's $defs entry for the data
 	rec   any
 }{
-	{EventRunStarted, "run_started", RunStarted{Tool: tool(), Command: []string{"run", "plan.yaml"}, Out: "run", Workers: 2, CPUs: 2, Note: "n"}},
+	{EventRunStarted, "run_started", RunStarted{Tool: tool(), Command: []string{"run", "plan.yaml"}, Out: "runs/a/run", Workers: 2, CPUs: 2, Note: "n",
+		CreatedFolders: []string{"runs", "runs/a"}}},
 	{EventPlanBound, "plan_bound", PlanBound{Path: "p.yaml", AbsolutePath: "/p.yaml", Bytes: 10, RawSHA256: digest, CanonicalSHA256: digest,
 		PlanID: "x", PlanFormat: 1, Schema: schemas.PlanID,
 		Lock:       LockState{Status: LockDeviates, Path: "l.json", LockSHA256: digest, LockedAt: "2026-01-01T00:00:00Z", LockedPlanSHA256: digest},

@@ -32,6 +32,9 @@ type RunStarted struct {
 	Workers int      `json:"workers"`
 	CPUs    int      `json:"cpus"`
 	Note    string   `json:"note"`
+	// CreatedFolders are the folders above Out that did not exist and that the run
+	// created, outermost first, as named on the command line; omitted when none.
+	CreatedFolders []string `json:"created_folders,omitempty"`
 }
 
 // LockState says whether the plan was locked and whether it matches its lock.
