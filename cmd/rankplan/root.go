@@ -184,6 +184,11 @@ follows the lab's own procedures and software validation.
 	}
 	root.SetOut(stdout)
 	root.SetErr(stderr)
+	// --version prints what the version command prints. The flag is declared here so that
+	// cobra adds no -v shorthand for it.
+	root.Version = versionText()
+	root.SetVersionTemplate("{{.Version}}")
+	root.Flags().Bool("version", false, "print the version, as 'rankplan version' does")
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		if c == c.Root() {
 			return &usageError{err}
