@@ -42,6 +42,6 @@ p-value method, groups and exclusions); with --quiet only problems are printed.`
 			return report.PreviewWith(summaryOut(c), prep.Preview(), args[0], prep.DataPath, u.style())
 		},
 	}
-	c.Flags().BoolVar(&jsonOut, "json", false, "print the preview as JSON")
+	c.Flags().BoolVar(&jsonOut, "json", false, "print the preview as JSON (or, on failure, a JSON error object)")
 	return c
 }

@@ -57,8 +57,12 @@ func usageErrorf(format string, args ...any) error {
 
 // Main runs rankplan with args and returns the exit code. It is the only place that prints
 // errors: each line once, as "rankplan: <context>: <cause>".
+//
+// A command given --json that fails before writing to stdout also prints the error there
+// as one JSON object ([errorReport]).
 func Main(args []string, stdout, stderr io.Writer) int {
-	root := newRoot(stdout, stderr)
+	out := &countingWriter{w: stdout}
+	root := newRoot(out, stderr)
 	root.SetArgs(args)
 	ctx, stop := signalContext()
 	defer stop()
@@ -79,6 +83,11 @@ func Main(args []string, stdout, stderr io.Writer) int {
 	var ue *usageError
 	if errors.As(err, &ue) {
 		fmt.Fprintf(stderr, "rankplan: see 'rankplan --help' for usage\n")
+	}
+	if wantsJSON(cmd) && out.n == 0 {
+		if werr := writeJSON(stdout, newErrorReport(err, code)); werr != nil {
+			fmt.Fprintf(stderr, "rankplan: writing the error as JSON: %v\n", werr)
+		}
 	}
 	return code
 }

@@ -105,7 +105,7 @@ success.`,
 	f.BoolVar(&dataSeen, "data-seen", false, "with --deviation: whether the data had been seen when the plan was changed")
 	f.StringVar(&o.SignKey, "sign", "", "an Ed25519 private key (from 'rankplan keygen') to sign the audit head")
 	f.StringVar(&o.Meaning, "meaning", "authorship", "with --sign: the meaning of the signature (e.g. authorship, review, approval)")
-	f.BoolVar(&jsonOut, "json", false, "print results.json on standard output, exactly as written to DIR; other lines go to standard error")
+	f.BoolVar(&jsonOut, "json", false, "print results.json on standard output, exactly as written to DIR (or, on failure, a JSON error object); other lines go to standard error")
 	_ = c.MarkFlagDirname("out")
 	return c
 }
