@@ -83,6 +83,7 @@ success.`,
 			} else if err := report.SummaryWith(w, rec.Results, rec.Prepared.DataPath, u.style()); err != nil {
 				return err
 			}
+			fmt.Fprintf(w, "%s\n", runner.LockText(rec.Lock))
 			for _, d := range rec.Deviations {
 				fmt.Fprintf(w, "deviation from the locked plan (data seen: %v): %s; changed: %v\n", d.DataSeen, d.Reason, d.Changed)
 			}
