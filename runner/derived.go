@@ -3,9 +3,11 @@ package runner
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"slices"
+	"strings"
 
 	"rankplan/runner/audit"
 	"rankplan/runner/folder"
@@ -60,6 +62,7 @@ func crossCheck(r *VerifyReport, f *folder.Folder, sameBuild bool) *results.Resu
 		r.add("contract", Fail, ClassIntegrity, AuditFile, "the log records the outputs %v, but a run writes %v", names, want)
 		return nil
 	}
+	checkLockState(r, dir, plan)
 	problems := 0
 	fail := func(file, format string, args ...any) {
 		problems++
@@ -206,4 +209,51 @@ func decodeResults(b []byte) (*results.Results, error) {
 		return nil, err
 	}
 	return &res, nil
+}
+
+// checkLockState states whether the plan was locked, as plan.bound records it, and checks
+// that lock.json agrees: for "matches" the lock's plan digest is the canonical digest of
+// the plan that ran; for "deviates" it is the digest plan.bound recorded for the locked
+// plan, differs from the plan that ran, and the log records the reasons for the
+// deviation. A lock state that is not one of the three, or a lock that disagrees, is an
+// integrity failure; a deviation is a warning.
+func checkLockState(r *VerifyReport, dir string, plan folder.PlanBound) {
+	lock := plan.Lock
+	if lock.Status == folder.LockNone {
+		r.add("lock", Pass, "", "", "%s", LockText(lock))
+		return
+	}
+	if lock.Status != folder.LockMatches && lock.Status != folder.LockDeviates {
+		r.add("lock", Fail, ClassIntegrity, AuditFile, "plan.bound records the lock state %q; expected none, matches or deviates", lock.Status)
+		return
+	}
+	b, err := os.ReadFile(filepath.Join(dir, LockCopyFile))
+	if err != nil {
+		r.add("lock", Fail, ClassIntegrity, LockCopyFile, "cannot read %s: %v", LockCopyFile, unwrapPathError(err))
+		return
+	}
+	l, err := audit.ParseLock(b)
+	if err != nil {
+		r.add("lock", Fail, ClassIntegrity, LockCopyFile, "%s is not a plan lock: %v", LockCopyFile, err)
+		return
+	}
+	switch {
+	case l.PlanSHA256 != lock.LockedPlanSHA256:
+		r.add("lock", Fail, ClassIntegrity, LockCopyFile, "%s locks the plan %s, but plan.bound records the locked plan as %s", LockCopyFile, l.PlanSHA256, lock.LockedPlanSHA256)
+	case lock.Status == folder.LockMatches && l.PlanSHA256 != plan.CanonicalSHA256:
+		r.add("lock", Fail, ClassIntegrity, LockCopyFile, "plan.bound says the plan matches its lock, but %s locks the plan %s and the plan that ran is %s", LockCopyFile, l.PlanSHA256, plan.CanonicalSHA256)
+	case lock.Status == folder.LockMatches:
+		r.add("lock", Pass, "", LockCopyFile, "%s; %s locks the plan that ran (%s)", LockText(lock), LockCopyFile, plan.CanonicalSHA256)
+	case l.PlanSHA256 == plan.CanonicalSHA256:
+		r.add("lock", Fail, ClassIntegrity, LockCopyFile, "plan.bound records deviations, but %s locks the plan that ran (%s)", LockCopyFile, plan.CanonicalSHA256)
+	case len(plan.Deviations) == 0:
+		r.add("lock", Fail, ClassIntegrity, AuditFile, "the plan differs from its lock, but plan.bound records no reason for the deviation")
+	default:
+		reasons := make([]string, len(plan.Deviations))
+		for i, d := range plan.Deviations {
+			reasons[i] = fmt.Sprintf("%q (data seen: %v)", d.Reason, d.DataSeen)
+		}
+		r.add("lock", Warn, "", LockCopyFile, "%s; changed: %s; reasons recorded: %s", LockText(lock),
+			strings.Join(plan.Deviations[0].Changed, ", "), strings.Join(reasons, "; "))
+	}
 }

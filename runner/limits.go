@@ -146,3 +146,19 @@ func exactRefused(p *spec.Plan, index int, err error) *spec.Error {
 	return p.Errorf(fmt.Sprintf("analyses.%d.pvalue.method", index),
 		"the exact p-value of this design does not fit the work budget (%v); use method auto or permutation", err)
 }
+
+// autoChoice is the method that p-value method auto takes for the input, as [pValue]
+// decides it: exact when the exact p-value fitted the work budget, permutation when it
+// did not. It is empty before [Prepared.CheckWork] has tried the exact p-value, and when
+// that gave no p-value for another reason (every value tied).
+func (in *Input) autoChoice() spec.PValueMethod {
+	switch {
+	case in.exact == nil:
+		return ""
+	case in.exact.err == nil:
+		return spec.Exact
+	case errors.Is(in.exact.err, stats.ErrExactBudget):
+		return spec.Permutation
+	}
+	return ""
+}

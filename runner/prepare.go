@@ -396,6 +396,9 @@ func (prep *Prepared) Preview() *results.Preview {
 		if n := in.Analysis.PValue.Resamples; n > 0 {
 			pa.Resamples = strconv.FormatInt(n, 10)
 		}
+		if in.Analysis.PValue.Method == spec.Auto {
+			pa.Chosen = in.autoChoice()
+		}
 		for j, g := range in.Groups {
 			pa.Groups = append(pa.Groups, results.GroupCount{Name: g, N: in.Counts[j]})
 		}

@@ -66,6 +66,24 @@ type RunRecord struct {
 	Seq        int64
 	Deviations []Deviation
 	Signature  *audit.Signature
+	// Lock is whether the plan was locked and whether it matched its lock, as plan.bound
+	// records it.
+	Lock LockState
+}
+
+// LockState says whether the plan was locked and whether it matches its lock.
+type LockState = folder.LockState
+
+// LockText says a lock state in one sentence, as the run summary, summary.md,
+// report.html and verify show it.
+func LockText(lock LockState) string {
+	switch lock.Status {
+	case folder.LockMatches:
+		return fmt.Sprintf("locked: the plan matches its lock %s (locked %s)", lock.LockSHA256, lock.LockedAt)
+	case folder.LockDeviates:
+		return fmt.Sprintf("locked, with deviations: the plan differs from its lock %s (locked %s)", lock.LockSHA256, lock.LockedAt)
+	}
+	return "no lock: the plan was not locked before this run"
 }
 
 // Deviation is one difference between the locked plan and the plan that ran.
@@ -309,7 +327,7 @@ func closeRunFolder(ctx context.Context, w *folder.Writer, in *runInputs, ex *ex
 			return nil, err
 		}
 	}
-	rec := &RunRecord{Dir: opt.Out, Prepared: in.prep, Results: res, Deviations: in.devs}
+	rec := &RunRecord{Dir: opt.Out, Prepared: in.prep, Results: res, Deviations: in.devs, Lock: in.lock}
 	var seal folder.Seal
 	if in.signKey != nil {
 		seal = func(head string, seq int64) (string, []byte, error) {
@@ -485,14 +503,7 @@ func reportMeta(plan folder.PlanBound, data folder.DataBound, tool folder.Tool, 
 		Seed: seed, RNG: "ChaCha8Rand (C2SP chacha8rand), scheme " + stream.Label,
 		AuditHead: head, AuditSeq: seq,
 	}
-	switch lock := plan.Lock; lock.Status {
-	case folder.LockMatches:
-		m.Lock = fmt.Sprintf("locked: the plan matches its lock %s (locked %s)", lock.LockSHA256, lock.LockedAt)
-	case folder.LockDeviates:
-		m.Lock = fmt.Sprintf("locked, with deviations: the plan differs from its lock %s (locked %s)", lock.LockSHA256, lock.LockedAt)
-	default:
-		m.Lock = "no lock: the plan was not locked before this run"
-	}
+	m.Lock = LockText(plan.Lock)
 	for _, d := range plan.Deviations {
 		seen := "before the data were seen"
 		if d.DataSeen {

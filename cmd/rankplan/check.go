@@ -22,7 +22,8 @@ under the work budget, which takes a second at most. Nothing else is computed.
 Every problem is reported at once, each as FILE:LINE:COL: KEY: what was expected.
 
 With --json the preview is printed as JSON (plan, data, and for each analysis its
-p-value method, groups and exclusions); with --quiet only problems are printed.`,
+p-value method, for auto the method chosen, groups and exclusions); with --quiet only
+problems are printed.`,
 		Args: exactArgs(1, "one plan file"),
 		RunE: func(c *cobra.Command, args []string) error {
 			p, err := spec.Load(args[0])
@@ -42,6 +43,6 @@ p-value method, groups and exclusions); with --quiet only problems are printed.`
 			return report.PreviewWith(summaryOut(c), prep.Preview(), args[0], prep.DataPath, u.style())
 		},
 	}
-	c.Flags().BoolVar(&jsonOut, "json", false, "print the preview as JSON")
+	c.Flags().BoolVar(&jsonOut, "json", false, "print the preview as JSON (or, on failure, a JSON error object)")
 	return c
 }

@@ -34,7 +34,8 @@ func newInitCmd() *cobra.Command {
 		Long: `init reads a CSV data file in long format (one row per observation), checks that the
 group and outcome columns exist and hold usable values, and writes a commented plan
 that 'rankplan check' accepts. Without -o the plan goes to standard output; with -o
-it is written to a new file (an existing file is never overwritten).
+it is written to a new file (an existing file is never overwritten) and one line says
+which file was written and what to do next (nothing with --quiet).
 
 Without --seed a random seed is drawn and written into the plan, so that the plan, not
 the clock, fixes every random stream.`,
@@ -85,7 +86,11 @@ the clock, fixes every random stream.`,
 				_, err = c.OutOrStdout().Write(text)
 				return err
 			}
-			return runner.WriteNewFile(out, text)
+			if err := runner.WriteNewFile(out, text); err != nil {
+				return err
+			}
+			_, err = fmt.Fprintf(summaryOut(c), "wrote the plan %s; next: review it, then run: rankplan check %s\n", out, shellWord(out))
+			return err
 		},
 	}
 	f := c.Flags()
@@ -113,6 +118,16 @@ the clock, fixes every random stream.`,
 	}
 	_ = c.MarkFlagFilename("data", "csv", "tsv", "txt")
 	return c
+}
+
+// shellWord returns s as one word of a POSIX shell command line: unchanged when it holds
+// only characters no shell treats specially, otherwise in single quotes, with each
+// single quote closed, escaped with a backslash and reopened (common practice).
+func shellWord(s string) string {
+	if s != "" && strings.Trim(s, "abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ0123456789_./+,:@%-") == "" {
+		return s
+	}
+	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
 }
 
 // fixedValues completes a flag that takes one of a fixed list of names, with no file

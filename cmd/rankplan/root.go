@@ -35,7 +35,7 @@ const (
 const exitCodesHelp = `Exit codes:
   0  success
   1  the command failed for a reason other than its input (e.g. writing the output)
-  2  usage error, invalid plan or unusable data
+  2  usage error (unknown command or flag), invalid plan or unusable data
   3  verify: results or inputs differ
   4  verify: integrity failure (tampering, broken chain, bad signature)
   5  verify: the run is incomplete
@@ -57,8 +57,12 @@ func usageErrorf(format string, args ...any) error {
 
 // Main runs rankplan with args and returns the exit code. It is the only place that prints
 // errors: each line once, as "rankplan: <context>: <cause>".
+//
+// A command given --json that fails before writing to stdout also prints the error there
+// as one JSON object ([errorReport]).
 func Main(args []string, stdout, stderr io.Writer) int {
-	root := newRoot(stdout, stderr)
+	out := &countingWriter{w: stdout}
+	root := newRoot(out, stderr)
 	root.SetArgs(args)
 	ctx, stop := signalContext()
 	defer stop()
@@ -74,15 +78,30 @@ func Main(args []string, stdout, stderr io.Writer) int {
 	if errors.As(err, &ve) {
 		return ve.code // verify printed its own report
 	}
-	for _, line := range strings.Split(err.Error(), "\n") {
-		fmt.Fprintf(stderr, "rankplan: %s\n", line)
-	}
+	printError(stderr, err)
 	code := exitCode(err)
 	var ue *usageError
 	if errors.As(err, &ue) {
 		fmt.Fprintf(stderr, "rankplan: see 'rankplan --help' for usage\n")
 	}
+	if wantsJSON(cmd) && out.n == 0 {
+		if werr := writeJSON(stdout, newErrorReport(err, code)); werr != nil {
+			fmt.Fprintf(stderr, "rankplan: writing the error as JSON: %v\n", werr)
+		}
+	}
 	return code
+}
+
+// printError prints err on w, each line as "rankplan: <line>"; a blank line stays blank
+// and a final line break adds no line.
+func printError(w io.Writer, err error) {
+	for _, line := range strings.Split(strings.TrimRight(err.Error(), "\n"), "\n") {
+		if strings.TrimSpace(line) == "" {
+			fmt.Fprintln(w)
+			continue
+		}
+		fmt.Fprintf(w, "rankplan: %s\n", line)
+	}
 }
 
 // signalContext returns a context that SIGINT or SIGTERM cancels with an
@@ -165,10 +184,24 @@ follows the lab's own procedures and software validation.
 ` + exitCodesHelp,
 		SilenceErrors: true,
 		SilenceUsage:  true,
+		// The root's own arguments can only be a command that does not exist: a usage
+		// error (exit 2), with the commands of a similar name. Without arguments it
+		// prints the help, as before.
+		Args:                       unknownCommand,
+		SuggestionsMinimumDistance: 2,
+		RunE:                       func(c *cobra.Command, args []string) error { return c.Help() },
 	}
 	root.SetOut(stdout)
 	root.SetErr(stderr)
+	// --version prints what the version command prints. The flag is declared here so that
+	// cobra adds no -v shorthand for it.
+	root.Version = versionText()
+	root.SetVersionTemplate("{{.Version}}")
+	root.Flags().Bool("version", false, "print the version, as 'rankplan version' does")
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
+		if c == c.Root() {
+			return &usageError{err}
+		}
 		return &usageError{fmt.Errorf("%s: %w", strings.TrimPrefix(c.CommandPath(), "rankplan "), err)}
 	})
 	u := newUI(stdout, stderr, os.Getenv)
@@ -200,6 +233,18 @@ func writeJSON(w io.Writer, v any) error {
 	}
 	_, err = w.Write(b)
 	return err
+}
+
+// unknownCommand refuses any argument of the root command: it names no command.
+func unknownCommand(c *cobra.Command, args []string) error {
+	if len(args) == 0 {
+		return nil
+	}
+	msg := fmt.Sprintf("unknown command %q", args[0])
+	if near := c.SuggestionsFor(args[0]); len(near) > 0 {
+		msg += "; did you mean " + strings.Join(near, " or ") + "?"
+	}
+	return usageErrorf("%s", msg)
 }
 
 // exactArgs is cobra.ExactArgs with our usage error type and wording.

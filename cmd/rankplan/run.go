@@ -83,6 +83,7 @@ success.`,
 			} else if err := report.SummaryWith(w, rec.Results, rec.Prepared.DataPath, u.style()); err != nil {
 				return err
 			}
+			fmt.Fprintf(w, "%s\n", runner.LockText(rec.Lock))
 			for _, d := range rec.Deviations {
 				fmt.Fprintf(w, "deviation from the locked plan (data seen: %v): %s; changed: %v\n", d.DataSeen, d.Reason, d.Changed)
 			}
@@ -105,7 +106,7 @@ success.`,
 	f.BoolVar(&dataSeen, "data-seen", false, "with --deviation: whether the data had been seen when the plan was changed")
 	f.StringVar(&o.SignKey, "sign", "", "an Ed25519 private key (from 'rankplan keygen') to sign the audit head")
 	f.StringVar(&o.Meaning, "meaning", "authorship", "with --sign: the meaning of the signature (e.g. authorship, review, approval)")
-	f.BoolVar(&jsonOut, "json", false, "print results.json on standard output, exactly as written to DIR; other lines go to standard error")
+	f.BoolVar(&jsonOut, "json", false, "print results.json on standard output, exactly as written to DIR (or, on failure, a JSON error object); other lines go to standard error")
 	_ = c.MarkFlagDirname("out")
 	return c
 }

@@ -48,8 +48,12 @@ func newUI(stdout, stderr io.Writer, getenv func(string) string) *ui {
 // defaultWidth is the terminal width assumed when the terminal does not tell.
 const defaultWidth = 80
 
-// terminalFd returns the file descriptor of w when w is a terminal.
+// terminalFd returns the file descriptor of w when w is a terminal. A [countingWriter]
+// is looked through: the standard output that Main counts is still the terminal.
 func terminalFd(w io.Writer) (int, bool) {
+	if cw, ok := w.(*countingWriter); ok {
+		w = cw.w
+	}
 	f, ok := w.(*os.File)
 	if !ok {
 		return 0, false

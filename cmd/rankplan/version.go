@@ -14,9 +14,15 @@ func newVersionCmd() *cobra.Command {
 		Short: "Print rankplan's version, VCS revision and Go version",
 		Args:  exactArgs(0, "no arguments"),
 		RunE: func(c *cobra.Command, args []string) error {
-			v := runner.Tool()
-			_, err := fmt.Fprintf(c.OutOrStdout(), "rankplan %s\nrevision %s\ngo %s %s/%s\n", v.Version, v.RevisionText(), v.GoVersion, v.GOOS, v.GOARCH)
+			_, err := fmt.Fprint(c.OutOrStdout(), versionText())
 			return err
 		},
 	}
+}
+
+// versionText is what 'rankplan version' and 'rankplan --version' print: the version,
+// the VCS revision, and the Go release and platform of the build.
+func versionText() string {
+	v := runner.Tool()
+	return fmt.Sprintf("rankplan %s\nrevision %s\ngo %s %s/%s\n", v.Version, v.RevisionText(), v.GoVersion, v.GOOS, v.GOARCH)
 }

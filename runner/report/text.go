@@ -294,10 +294,7 @@ func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st
 	writeLookAlikes(ew, pv.Data)
 	show := labelShower(pv.Data)
 	for _, a := range pv.Analyses {
-		method := string(a.PValue)
-		if a.Resamples != "" {
-			method += " (" + a.Resamples + " Monte Carlo resamples)"
-		}
+		method := previewMethod(a)
 		ew.printf("\n%s: %s of %q%s, p-value %s, %d groups, N = %d\n", st.heading("analysis "+a.ID), testName(a.Test), a.Outcome, subsetText(a.Subset), method, len(a.Groups), a.N)
 		names := make([]string, 0, len(a.Groups)+1)
 		names = append(names, "group")
@@ -322,6 +319,21 @@ func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st
 	}
 	ew.printf("\nnothing was computed; run it with: rankplan run %s --out DIR\n", planPath)
 	return ew.err
+}
+
+// previewMethod says which p-value method an analysis will use: for auto, the method
+// chosen (exact when it fits the work budget, otherwise Monte Carlo with the plan's
+// resamples).
+func previewMethod(a results.PreviewAnalysis) string {
+	switch {
+	case a.PValue == spec.Auto && a.Chosen == spec.Exact:
+		return "auto: exact (the exact distribution fits the work budget)"
+	case a.PValue == spec.Auto && a.Chosen == spec.Permutation:
+		return "auto: Monte Carlo with " + a.Resamples + " resamples (the exact distribution does not fit the work budget)"
+	case a.Resamples != "":
+		return string(a.PValue) + " (" + a.Resamples + " Monte Carlo resamples)"
+	}
+	return string(a.PValue)
 }
 
 // postHocNames says each post-hoc procedure in words.

@@ -378,6 +378,10 @@ type PreviewAnalysis struct {
 	ID     string            `json:"id"`
 	Test   spec.Test         `json:"test"`
 	PValue spec.PValueMethod `json:"p_value_method"`
+	// Chosen is, for method auto, the method the run will use: exact when the exact
+	// distribution fits the work budget, permutation (Monte Carlo) otherwise; empty for
+	// other methods and when no p-value can be computed (every value tied).
+	Chosen spec.PValueMethod `json:"p_value_chosen,omitempty"`
 	// Resamples is the Monte Carlo resample count (decimal string), for permutation and auto.
 	Resamples string       `json:"resamples,omitempty"`
 	Outcome   string       `json:"outcome"`
