@@ -21,45 +21,151 @@ import (
 
 // DraftOptions are the answers `rankplan init` takes from its flags.
 type DraftOptions struct {
-	DataPath  string // the CSV file, as the user named it
+	// DataPath is an existing CSV file, as the user named it (a header without rows will
+	// do); "" when the data do not exist yet, and ExpectPath says where they will be.
+	DataPath string
+	// ExpectPath is where the data file will be, with DataPath "".
+	ExpectPath string
+	// Columns are the declared columns of the data to come (with ExpectPath), for the
+	// plan's comments, e.g. `"dose" (text)`; nil when only Group and Outcome are declared.
+	Columns   []string
 	PlanPath  string // where the plan will be written; "" for standard output
 	Group     string
 	Outcome   string
-	Delimiter string // ",", ";", "tab" or "auto" (sniffed from the header line)
-	Decimal   string // ".", "," or "auto" (comma if the outcome cells use it)
+	Unit      string   // the outcome's unit, for report labels; "" for none
+	Delimiter string   // ",", ";", "tab" or "auto" (sniffed from the header line; "," without a file)
+	Decimal   string   // ".", "," or "auto" (comma if the outcome cells use it; "." without rows)
+	Missing   []string // the missing-value tokens; nil: the plan format's default
+	Groups    []string // the groups to analyse, in report order; nil: every group found
 	Alpha     float64
 	Seed      *uint64 // nil: a fresh random seed, written into the plan
 	PValue    spec.PValueMethod
 	Resamples int64
-	PostHoc   spec.PostHoc
-	Adjust    spec.Adjustment
-	Control   string
+	// EffectResamples > 0 asks for a bootstrap interval of the effect size with this many
+	// resamples.
+	EffectResamples int64
+	PostHoc         spec.PostHoc
+	Adjust          spec.Adjustment
+	Control         string
 }
 
-// Draft writes the text of a new plan for a data file and checks it the way `rankplan
-// check` would, so that it never hands out a plan that check refuses. Reading the data
-// stops, with ctx's error, when ctx ends.
-func Draft(ctx context.Context, o DraftOptions) ([]byte, error) {
-	delim := o.Delimiter
-	if delim == "" || delim == "auto" {
-		d, err := sniffDelimiter(o.DataPath)
-		if err != nil {
-			return nil, &InputError{Err: err}
-		}
-		delim = d
+// Drafted is a drafted plan: its text, and what was seen of the data.
+type Drafted struct {
+	Text   []byte
+	Source spec.DraftSource
+}
+
+// Draft writes the text of a new plan and checks it the way `rankplan check` would, so
+// that it never hands out a plan that check refuses:
+//
+//   - from a data file with rows (DataPath): the plan is parsed and prepared against the
+//     data, and the file's SHA-256 is offered as a commented pin;
+//   - from a data file with a header and no rows: the columns are checked, the plan is
+//     parsed, and the groups come from o.Groups or from the data when they arrive;
+//   - from a declared layout (ExpectPath, no file read): the plan is parsed.
+//
+// Reading the data stops, with ctx's error, when ctx ends.
+func Draft(ctx context.Context, o DraftOptions) (Drafted, error) {
+	if (o.DataPath == "") == (o.ExpectPath == "") {
+		return Drafted{}, &InputError{Err: errors.New("draft a plan: name either an existing data file or the path the data will have, not both")}
 	}
 	d := spec.Draft{
-		Delimiter: delim, Decimal: o.Decimal, Group: o.Group, Outcome: o.Outcome,
-		Alpha: o.Alpha, PValue: o.PValue, Resamples: o.Resamples,
+		Delimiter: o.Delimiter, Decimal: o.Decimal, Group: o.Group, Outcome: o.Outcome, Unit: o.Unit,
+		Missing: o.Missing, Groups: o.Groups, Columns: o.Columns,
+		Alpha: o.Alpha, PValue: o.PValue, Resamples: o.Resamples, EffectResamples: o.EffectResamples,
 		PostHoc: o.PostHoc, Adjust: o.Adjust, Control: o.Control,
 	}
+	dataPath := o.DataPath
+	if dataPath != "" {
+		if err := draftFromFile(ctx, o, &d); err != nil {
+			return Drafted{}, err
+		}
+	} else {
+		dataPath = o.ExpectPath
+		d.Source = spec.DraftFromLayout
+		d.Delimiter, d.Decimal = layoutSeparators(o.Delimiter, o.Decimal)
+	}
+
+	if o.Seed != nil {
+		d.Seed = *o.Seed
+	} else {
+		var b [8]byte
+		if _, err := rand.Read(b[:]); err != nil {
+			return Drafted{}, fmt.Errorf("draw a seed: %w", err)
+		}
+		d.Seed = binary.BigEndian.Uint64(b[:]) >> 11 // below 2^53: exact in every JSON reader
+	}
+
+	planName := o.PlanPath
+	if planName == "" {
+		planName = "plan.yaml"
+	}
+	var err error
+	d.DataFile, err = relativeData(dataPath, o.PlanPath)
+	if err != nil {
+		return Drafted{}, err
+	}
+	base := strings.TrimSuffix(filepath.Base(dataPath), filepath.Ext(dataPath))
+	d.ID = identifier(base)
+	d.Title = fmt.Sprintf("Kruskal-Wallis test of %s across %s groups (%s)", o.Outcome, o.Group, filepath.Base(dataPath))
+
+	text := d.YAML()
+	p, err := spec.Parse(planName, text)
+	if err != nil {
+		return Drafted{}, &InputError{Err: fmt.Errorf("the drafted plan would not be valid:\n%w", err)}
+	}
+	if o.PlanPath == "" {
+		p.Dir = "."
+	}
+	if d.Source == spec.DraftFromData {
+		if _, err := Prepare(ctx, p); err != nil {
+			return Drafted{}, fmt.Errorf("the drafted plan would not run on %s:\n%w", o.DataPath, err)
+		}
+	}
+	return Drafted{Text: text, Source: d.Source}, nil
+}
+
+// layoutSeparators chooses the delimiter and decimal mark of data that init has not
+// seen: "auto" becomes "," and ".", or ";" for the delimiter when the decimal mark is a
+// comma (a comma cannot be both).
+func layoutSeparators(delim, dec string) (string, string) {
+	if dec == "" || dec == "auto" {
+		dec = "."
+	}
+	if delim == "" || delim == "auto" {
+		delim = ","
+		if dec == "," {
+			delim = ";"
+		}
+	}
+	return delim, dec
+}
+
+// draftFromFile fills what the data file tells: its delimiter, decimal mark, groups and
+// SHA-256, or only its columns when it holds no rows.
+func draftFromFile(ctx context.Context, o DraftOptions, d *spec.Draft) error {
+	delim := o.Delimiter
+	if delim == "" || delim == "auto" {
+		s, err := sniffDelimiter(o.DataPath)
+		if err != nil {
+			return &InputError{Err: err}
+		}
+		delim = s
+	}
+	d.Delimiter = delim
 	t, dec, err := loadForDraft(ctx, o, delim)
 	if ctx.Err() != nil {
-		return nil, fmt.Errorf("read %s: %w", o.DataPath, ctx.Err())
+		return fmt.Errorf("read %s: %w", o.DataPath, ctx.Err())
+	}
+	if errors.Is(err, data.ErrNoRows) {
+		d.Source = spec.DraftFromHeader
+		_, d.Decimal = layoutSeparators(delim, o.Decimal)
+		return nil
 	}
 	if err != nil {
-		return nil, &InputError{Err: err}
+		return &InputError{Err: err}
 	}
+	d.Source = spec.DraftFromData
 	d.Decimal = dec
 	d.SHA256 = hex.EncodeToString(t.SHA256[:])
 	counts := make([]int, len(t.Groups))
@@ -80,48 +186,25 @@ func Draft(ctx context.Context, o DraftOptions) ([]byte, error) {
 		}
 		d.GroupsFound = append(d.GroupsFound, fmt.Sprintf("%s (%d rows)", strconv.Quote(t.Groups[g]), counts[g]))
 	}
-
-	if o.Seed != nil {
-		d.Seed = *o.Seed
-	} else {
-		var b [8]byte
-		if _, err := rand.Read(b[:]); err != nil {
-			return nil, fmt.Errorf("draw a seed: %w", err)
-		}
-		d.Seed = binary.BigEndian.Uint64(b[:]) >> 11 // below 2^53: exact in every JSON reader
-	}
-
-	planName := o.PlanPath
-	if planName == "" {
-		planName = "plan.yaml"
-	}
-	d.DataFile, err = relativeData(o.DataPath, o.PlanPath)
-	if err != nil {
-		return nil, err
-	}
-	base := strings.TrimSuffix(filepath.Base(o.DataPath), filepath.Ext(o.DataPath))
-	d.ID = identifier(base)
-	d.Title = fmt.Sprintf("Kruskal-Wallis test of %s across %s groups (%s)", o.Outcome, o.Group, filepath.Base(o.DataPath))
-
-	text := d.YAML()
-	p, err := spec.Parse(planName, text)
-	if err != nil {
-		return nil, &InputError{Err: fmt.Errorf("the drafted plan would not be valid:\n%w", err)}
-	}
-	if o.PlanPath == "" {
-		p.Dir = "."
-	}
-	if _, err := Prepare(ctx, p); err != nil {
-		return nil, fmt.Errorf("the drafted plan would not run on %s:\n%w", o.DataPath, err)
-	}
-	return text, nil
+	return nil
 }
 
-// loadForDraft reads the data once to count groups and to tell the decimal separator.
+// loadForDraft reads the data to count groups and to tell the decimal mark, with the
+// missing-value tokens the plan will have, so that a token such as "n/a" is not taken
+// for a number in the wrong notation. With the decimal mark "auto" each candidate is
+// tried in turn while the outcome column is what fails; when every one fails, the error
+// reported is the one found furthest into the file (the first on a tie): the notation
+// that read the most rows is the file's, and that cell is the one in the way. A cell
+// that cannot be read as a number also names the tokens in force and the --missing
+// flag of init.
 func loadForDraft(ctx context.Context, o DraftOptions, delim string) (*data.Table, string, error) {
+	missing := o.Missing
+	if missing == nil {
+		missing = spec.DefaultMissingTokens()
+	}
 	opt := data.Options{
 		Name: o.DataPath, Delimiter: delimByte(delim), GroupColumn: o.Group,
-		OutcomeColumns: []string{o.Outcome}, MissingTokens: []string{"", "NA"},
+		OutcomeColumns: []string{o.Outcome}, MissingTokens: missing,
 	}
 	decimals := []string{o.Decimal}
 	if o.Decimal == "" || o.Decimal == "auto" {
@@ -130,22 +213,36 @@ func loadForDraft(ctx context.Context, o DraftOptions, delim string) (*data.Tabl
 			decimals = append(decimals, ",")
 		}
 	}
-	var first error
+	var (
+		worst   error
+		worstAt *data.Error
+	)
 	for _, dec := range decimals {
 		opt.Decimal = dec[0]
 		t, err := data.LoadFile(ctx, o.DataPath, opt)
 		if err == nil {
 			return t, dec, nil
 		}
-		if first == nil {
-			first = err
-		}
 		var de *data.Error
-		if !errors.As(err, &de) || de.Field != o.Outcome {
-			break // not a number problem: another separator will not help
+		if !errors.As(err, &de) {
+			return nil, "", err // the file could not be read
+		}
+		if worstAt == nil || de.Line > worstAt.Line {
+			worst, worstAt = err, de
+		}
+		if de.Field != o.Outcome {
+			break // not a number problem: another decimal mark will not help
 		}
 	}
-	return nil, "", first
+	if errors.Is(worst, strconv.ErrSyntax) {
+		quoted := make([]string, len(missing))
+		for i, m := range missing {
+			quoted[i] = strconv.Quote(m)
+		}
+		worst = fmt.Errorf("%w; if that text marks a missing value, list it with --missing (the missing-value tokens now: %s)",
+			worst, strings.Join(quoted, ", "))
+	}
+	return nil, "", worst
 }
 
 func delimByte(d string) byte {

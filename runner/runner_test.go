@@ -262,29 +262,6 @@ func TestWriteNewFile(t *testing.T) {
 	}
 }
 
-func TestDraft(t *testing.T) {
-	dir := t.TempDir()
-	data := filepath.Join(dir, "sub", "d.csv")
-	os.MkdirAll(filepath.Dir(data), 0o755)
-	os.WriteFile(data, []byte("arm;score\nx;1,5\ny;2,25\nx;3\n"), 0o644)
-	seed := uint64(9)
-	text, err := Draft(context.Background(), DraftOptions{DataPath: data, PlanPath: filepath.Join(dir, "plan.yaml"), Group: "arm", Outcome: "score",
-		Delimiter: "auto", Decimal: "auto", Alpha: 0.05, Seed: &seed, PValue: spec.Asymptotic, PostHoc: spec.NoPostHoc, Adjust: spec.NoAdjustment})
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, want := range []string{`file: "sub/d.csv"`, `delimiter: ";"`, `decimal: ","`, "seed: 9", `"x" (2 rows), "y" (1 rows)`} {
-		if !bytes.Contains(text, []byte(want)) {
-			t.Errorf("draft lacks %q:\n%s", want, text)
-		}
-	}
-	_, err = Draft(context.Background(), DraftOptions{DataPath: data, Group: "arm", Outcome: "score", Delimiter: "auto", Decimal: "auto",
-		Alpha: 0.05, PValue: spec.Exact, PostHoc: spec.DSCF, Adjust: spec.Holm})
-	if err == nil || !strings.Contains(err.Error(), "simultaneous by construction") {
-		t.Errorf("draft of DSCF with an adjustment: %v", err)
-	}
-}
-
 // methodPlan is a plan with one analysis of the given p-value block and effect-size block.
 func methodPlan(t *testing.T, pvalue, effect, csv string) *spec.Plan {
 	t.Helper()

@@ -99,6 +99,10 @@ type EffectSize struct {
 	Resamples int64          `json:"resamples,omitempty"` // bootstrap resamples, with interval bootstrap only
 }
 
+// DefaultMissingTokens returns a new copy of the default of data.missing.tokens (part of
+// plan format 1): the empty cell and "NA".
+func DefaultMissingTokens() []string { return []string{"", "NA"} }
+
 // Default effect-size settings (part of plan format 1).
 const (
 	DefaultEffectLevel    = 0.95
@@ -158,7 +162,7 @@ func (p *Plan) applyDefaults() {
 		p.Data.Decimal = "."
 	}
 	if p.Data.Missing.Tokens == nil {
-		p.Data.Missing.Tokens = []string{"", "NA"}
+		p.Data.Missing.Tokens = DefaultMissingTokens()
 	}
 	if p.Data.Missing.Policy == "" {
 		p.Data.Missing.Policy = ExcludeMissing

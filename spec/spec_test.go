@@ -259,20 +259,66 @@ func TestExamplesParse(t *testing.T) {
 }
 
 func TestDraftParses(t *testing.T) {
-	d := Draft{ID: "x", Title: `a "quoted" title: with colon`, DataFile: "d ir/data.csv", SHA256: strings.Repeat("a", 64),
+	base := Draft{ID: "x", Title: `a "quoted" title: with colon`, DataFile: "d ir/data.csv", SHA256: strings.Repeat("a", 64),
 		Delimiter: ";", Decimal: ",", Group: "arm: name", Outcome: "#score", GroupsFound: []string{`"A" (3 rows)`},
 		Alpha: 0.01, Seed: 1<<64 - 1, PValue: Asymptotic, PostHoc: NoPostHoc, Adjust: NoAdjustment}
-	text := d.YAML()
-	if !strings.HasPrefix(string(text), "# yaml-language-server: $schema=https://") {
-		t.Errorf("first line does not point at the schema:\n%s", text)
-	}
-	p, err := Parse("plan.yaml", text)
-	if err != nil {
-		t.Fatalf("%v\n%s", err, text)
-	}
-	if p.Title != d.Title || p.Data.Group != d.Group || p.Data.Outcome != d.Outcome || p.Data.File != d.DataFile ||
-		uint64(p.Seed) != d.Seed || p.Alpha != 0.01 || p.Data.Decimal != "," || p.Data.Delimiter != ";" {
-		t.Errorf("draft did not round-trip: %+v", p)
+	layout := base
+	layout.Source, layout.SHA256, layout.GroupsFound = DraftFromLayout, "", nil
+	layout.Columns = []string{`"arm: name" (text)`, `"#score" (number)`}
+	layout.Unit, layout.Missing, layout.Groups = "µg/l", []string{"n/a", "", "-"}, []string{"b", "a: 1", `"c"`}
+	layout.EffectResamples, layout.PValue, layout.Resamples = 2000, Auto, 100000
+	header := layout
+	header.Source, header.Columns, header.Missing = DraftFromHeader, nil, []string{}
+	for _, c := range []struct {
+		name string
+		d    Draft
+		// want: texts the plan holds; absent: texts it must not hold.
+		want, absent []string
+	}{
+		{"from data", base, []string{"from the data file below", "# sha256: \"" + strings.Repeat("a", 64), `# groups found: "A" (3 rows)`, "interval: noncentral"},
+			[]string{"not pinned", "lock"}},
+		{"from a declared layout", layout, []string{"from a declared layout", "`rankplan lock`", "# sha256: not pinned", `# declared columns: "arm: name" (text)`,
+			"interval: bootstrap", "resamples: 2000"}, []string{"groups found", "sha256: \""}},
+		{"from a header", header, []string{"from the header of the data file", "# sha256: not pinned", "# groups found: none yet", "tokens: []"},
+			[]string{"declared columns"}},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			text := c.d.YAML()
+			if !strings.HasPrefix(string(text), "# yaml-language-server: $schema=https://") {
+				t.Errorf("first line does not point at the schema:\n%s", text)
+			}
+			for _, w := range c.want {
+				if !strings.Contains(string(text), w) {
+					t.Errorf("lacks %q:\n%s", w, text)
+				}
+			}
+			for _, a := range c.absent {
+				if strings.Contains(string(text), a) {
+					t.Errorf("holds %q:\n%s", a, text)
+				}
+			}
+			p, err := Parse("plan.yaml", text)
+			if err != nil {
+				t.Fatalf("%v\n%s", err, text)
+			}
+			d := c.d
+			tokens := d.Missing
+			if tokens == nil {
+				tokens = DefaultMissingTokens()
+			}
+			interval, resamples := DefaultEffectInterval, int64(0)
+			if d.EffectResamples > 0 {
+				interval, resamples = BootstrapInterval, d.EffectResamples
+			}
+			a := p.Analyses[0]
+			if p.Title != d.Title || p.Data.Group != d.Group || p.Data.Outcome != d.Outcome || p.Data.File != d.DataFile ||
+				uint64(p.Seed) != d.Seed || p.Alpha != 0.01 || p.Data.Decimal != "," || p.Data.Delimiter != ";" ||
+				p.Data.SHA256 != "" || p.Data.Unit != d.Unit || !reflect.DeepEqual(p.Data.Missing.Tokens, tokens) ||
+				!reflect.DeepEqual(p.Groups.Include, d.Groups) || a.PValue.Method != d.PValue || a.PValue.Resamples != d.Resamples ||
+				a.EffectSize.Interval != interval || a.EffectSize.Resamples != resamples {
+				t.Errorf("draft did not round-trip: %+v", p)
+			}
+		})
 	}
 }
 

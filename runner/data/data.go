@@ -416,7 +416,7 @@ func (l *loader) run() (*Table, error) {
 		}
 	}
 	if l.t.Rows == 0 {
-		return nil, &Error{File: l.opt.Name, Msg: "no data rows"}
+		return nil, &Error{File: l.opt.Name, Msg: "no data rows", Err: ErrNoRows}
 	}
 	return &l.t, nil
 }

@@ -1,6 +1,7 @@
 package data
 
 import (
+	"errors"
 	"strconv"
 	"strings"
 	"unicode/utf8"
@@ -57,6 +58,10 @@ func (e *Error) Error() string {
 
 // Unwrap returns the underlying cause, or nil.
 func (e *Error) Unwrap() error { return e.Err }
+
+// ErrNoRows is the cause of the [*Error] for a file that holds a header and no data
+// rows, so that a caller can tell such a file (a layout without data yet) from others.
+var ErrNoRows = errors.New("no data rows")
 
 // maxShown is the longest cell text, in bytes, that a message shows in full.
 const maxShown = 64
