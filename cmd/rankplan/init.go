@@ -259,7 +259,7 @@ func layoutColumns(s string, o *runner.DraftOptions) ([]string, error) {
 	number := map[string]bool{}
 	for _, item := range listItems(s) {
 		name, kind, ok := strings.Cut(item, ":")
-		name = strings.Trim(name, " ")
+		name, kind = strings.Trim(name, " "), strings.Trim(kind, " ")
 		if !ok || name == "" || (kind != "text" && kind != "number") {
 			return nil, usageErrorf("init: --columns %q: expected NAME:text or NAME:number, separated by commas", item)
 		}
