@@ -147,6 +147,14 @@ func (fl *initFlags) apply(c *cobra.Command, o *runner.DraftOptions) error {
 			return usageErrorf("init: %s is required", f.flag)
 		}
 	}
+	for _, f := range []struct{ flag, val string }{
+		{"--group", o.Group}, {"--outcome", o.Outcome}, {"--groups", fl.groups}, {"--missing", fl.missing},
+		{"--columns", fl.columns}, {"--unit", o.Unit}, {"--control", o.Control},
+	} {
+		if !utf8.ValidString(f.val) {
+			return usageErrorf("init: %s %q: not valid UTF-8 text", f.flag, f.val)
+		}
+	}
 	if o.Group == o.Outcome {
 		return usageErrorf("init: --group and --outcome both name %q; the outcome must be another column than the group", o.Group)
 	}

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"reflect"
 	"strconv"
 	"strings"
@@ -62,5 +63,24 @@ func TestInitColumns(t *testing.T) {
 	}
 	if _, err := layoutColumns("dose:text,weight:Number", o); err == nil {
 		t.Error("a kind in capitals was accepted")
+	}
+}
+
+// TestInitNotUTF8: a flag's text that is not UTF-8 is a usage error (exit 2) naming the
+// flag; labels and tokens are matched against UTF-8 cells, and the plan is UTF-8 YAML.
+func TestInitNotUTF8(t *testing.T) {
+	for _, c := range []struct{ args []string }{
+		{[]string{"--group", "g\xff"}},
+		{[]string{"--groups", "A,\xffB"}},
+		{[]string{"--missing", "n\xe9a"}},
+		{[]string{"--unit", "\xb5g"}},
+	} {
+		args := append([]string{"init", "--expect-data", "d.csv", "--group", "g", "--outcome", "y"}, c.args...)
+		var stdout, stderr bytes.Buffer
+		code := Main(args, &stdout, &stderr)
+		want := "rankplan: init: " + c.args[0] + " " + strconv.Quote(c.args[1]) + ": not valid UTF-8 text\n"
+		if code != 2 || !strings.HasPrefix(stderr.String(), want) || stdout.Len() > 0 {
+			t.Errorf("%q: exit %d, stderr %q, stdout %q; want exit 2 and %q", c.args, code, stderr.String(), stdout.String(), want)
+		}
 	}
 }
