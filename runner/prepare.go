@@ -68,7 +68,9 @@ func Prepare(ctx context.Context, p *spec.Plan) (*Prepared, error) {
 	path := p.DataPath()
 	src, _, err := infile.Open(path, data.MaxFileBytes)
 	if err != nil {
-		return nil, inputErr(spec.ErrorList{p.Errorf("data.file", "cannot open the data file %s: %v", path, err)})
+		e := p.Errorf("data.file", "cannot open the data file %s: %v", path, err)
+		e.Err = err // callers tell a file that does not exist yet (errors.Is fs.ErrNotExist)
+		return nil, inputErr(spec.ErrorList{e})
 	}
 	defer src.Close()
 
