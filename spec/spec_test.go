@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -184,7 +185,13 @@ func TestParseErrors(t *testing.T) {
 		{"multiplicity of one", goodPlan + "multiplicity: {rule: fixed-sequence}\n",
 			[]string{"plan.yaml:15:1: multiplicity: a family needs at least two analyses; this plan's family has 1"}},
 		{"multiplicity rule none", goodPlan + "multiplicity: {rule: none}\n",
-			[]string{`plan.yaml:15:22: multiplicity.rule: expected one of "bonferroni", "sidak", "holm", "hochberg", "hommel", "bh", "by", "fixed-sequence"; found the text "none"`}},
+			[]string{`plan.yaml:15:22: multiplicity.rule: expected one of "bonferroni", "sidak", "holm", "hochberg", "hommel", "benjamini-hochberg", "benjamini-yekutieli", "fixed-sequence"; found the text "none"`}},
+		{"multiplicity rule of an earlier release", goodPlan + "multiplicity: {rule: bh}\n",
+			[]string{`plan.yaml:15:22: multiplicity.rule: "bh" is no longer a method name; write benjamini-hochberg`}},
+		{"adjustment of an earlier release", goodPlan + "    posthoc: {method: dunn, adjust: by}\n",
+			[]string{`plan.yaml:15:37: analyses[0].posthoc.adjust: "by" is no longer a method name; write benjamini-yekutieli`}},
+		{"old code where no adjustment is named", goodPlan + "    posthoc: {method: bh}\n",
+			[]string{`plan.yaml:15:23: analyses[0].posthoc.method: expected one of "none", "dunn", "conover", "dscf", "nemenyi", "rank-sum"; found the text "bh"`}},
 		{"multiplicity listed twice", goodPlan + "multiplicity: {rule: holm, analyses: [a, a]}\n",
 			[]string{`plan.yaml:15:42: multiplicity.analyses[1]: the text "a" is listed twice (also item 0); items must be unique`}},
 		{"subset on group column", goodPlan + "    subset: {column: g, values: [A]}\n",
@@ -351,5 +358,35 @@ multiplicity:
 	}
 	if got := p.Multiplicity.Analyses; !reflect.DeepEqual(got, []string{"b", "a"}) || p.Multiplicity.Rule != "holm" {
 		t.Errorf("family %q rule %q", got, p.Multiplicity.Rule)
+	}
+}
+
+// TestRenamedAdjustment checks the table of retired adjustment codes: each code names a
+// current adjustment, is itself no current name, and current names are not renamed.
+func TestRenamedAdjustment(t *testing.T) {
+	for _, tc := range []struct {
+		code string
+		want Adjustment
+		ok   bool
+	}{
+		{"bh", BenjaminiHochberg, true},
+		{"by", BenjaminiYekutieli, true},
+		{"holm", "", false},
+		{"benjamini-hochberg", "", false},
+		{"BH", "", false},
+		{"", "", false},
+	} {
+		got, ok := RenamedAdjustment(tc.code)
+		if got != tc.want || ok != tc.ok {
+			t.Errorf("RenamedAdjustment(%q) = %q, %v; want %q, %v", tc.code, got, ok, tc.want, tc.ok)
+		}
+	}
+	for code, name := range renamedAdjustments {
+		if !slices.Contains(Adjustments(), name) {
+			t.Errorf("%q is renamed to %q, which is not an adjustment", code, name)
+		}
+		if slices.Contains(Adjustments(), Adjustment(code)) {
+			t.Errorf("%q is both a current name and a retired code", code)
+		}
 	}
 }

@@ -604,7 +604,7 @@ func FuzzAdjust(f *testing.F) {
 			p = append(p, v)
 			valid = valid && v >= 0 && v <= 1
 		}
-		for _, method := range []string{AdjustNone, AdjustBonferroni, AdjustSidak, AdjustHolm, AdjustHochberg, AdjustHommel, AdjustBH, AdjustBY} {
+		for _, method := range []string{AdjustNone, AdjustBonferroni, AdjustSidak, AdjustHolm, AdjustHochberg, AdjustHommel, AdjustBenjaminiHochberg, AdjustBenjaminiYekutieli} {
 			within(t, "AdjustP("+method+")", func() {
 				adj, err := AdjustP(method, p)
 				if (err == nil) != valid {

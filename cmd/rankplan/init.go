@@ -46,6 +46,9 @@ the clock, fixes every random stream.`,
 					return usageErrorf("init: %s is required", f.flag)
 				}
 			}
+			if name, ok := spec.RenamedAdjustment(string(o.Adjust)); ok {
+				return usageErrorf("init: --adjust %q is no longer a method name; write %s", o.Adjust, name)
+			}
 			for _, f := range []struct {
 				flag, val string
 				allowed   []string
