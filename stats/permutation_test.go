@@ -32,9 +32,9 @@ var (
 	inventedP03 = [][]float64{{3.1, 4.7, 2.2, 5.0}, {4.1, 5.9, 6.3, 3.8, 4.4}, {2.2, 4.4, 3.3}}
 )
 
-// plantGrowthExactP is the exact conditional p of PlantGrowth from docs/methods.md §1.5 [V]
+// dobson1983PlantWeightsExactP is the exact conditional p of the Dobson (1983) plant weights from docs/methods.md §1.5 [V]
 // (a DP over tie blocks there, with a Monte Carlo check); it is printed to 6 decimals.
-const plantGrowthExactP = 0.014592
+const dobson1983PlantWeightsExactP = 0.014592
 
 // permRun runs KruskalWallisPermutation on groups (rows in group order).
 func permRun(t testing.TB, groups [][]float64, opt PermutationOptions) Permutation {
@@ -217,9 +217,9 @@ func TestPermutationConvergence(t *testing.T) {
 		groups [][]float64
 		exact  float64
 	}{
-		{"tied toy", tiedToy, 47.0 / 1925},                                // docs/methods.md §1.5 [V], brute force
-		{"invented p 0.3", inventedP03, float64(hitsB) / float64(totalB)}, // brute force: 2857/9240
-		{"PlantGrowth", plantGrowth, plantGrowthExactP},                   // docs/methods.md §1.5 [V]
+		{"tied toy", tiedToy, 47.0 / 1925},                                               // docs/methods.md §1.5 [V], brute force
+		{"invented p 0.3", inventedP03, float64(hitsB) / float64(totalB)},                // brute force: 2857/9240
+		{"Dobson1983PlantWeights", dobson1983PlantWeights, dobson1983PlantWeightsExactP}, // docs/methods.md §1.5 [V]
 	}
 	for i, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -609,7 +609,7 @@ func TestPermutationWideArithmetic(t *testing.T) {
 // summation by one ulp (1062.6666666666665 or ...667), so without the relative
 // tolerance the float rule would miss ties with the observed statistic.
 func TestPermutationRulesAgree(t *testing.T) {
-	designs := [][][]float64{tiedToy, inventedP03, plantGrowth}
+	designs := [][][]float64{tiedToy, inventedP03, dobson1983PlantWeights}
 	ulp := [][]float64{{1, 2, 3}, {4, 6, 9}, {5, 7, 8}}
 	for _, order := range [][3]int{{0, 1, 2}, {0, 2, 1}, {1, 0, 2}, {1, 2, 0}, {2, 0, 1}, {2, 1, 0}} {
 		designs = append(designs, [][]float64{ulp[order[0]], ulp[order[1]], ulp[order[2]]})
@@ -643,7 +643,7 @@ func TestPermutationRulesAgree(t *testing.T) {
 // TestPermutationFusedShuffle: the resampling loop leaves the label array exactly as
 // stream.ShuffleInt32 does, and counts as a plain recount does.
 func TestPermutationFusedShuffle(t *testing.T) {
-	g, v := flatten(plantGrowth)
+	g, v := flatten(dobson1983PlantWeights)
 	ps := mustPermSetup(t, g, v, 3)
 	opt := PermutationOptions{Seed: 11, AnalysisID: "fused"}
 	a := make([]int32, len(g))
