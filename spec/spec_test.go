@@ -152,6 +152,14 @@ func TestParseErrors(t *testing.T) {
 			}},
 		{"resamples not used", edit(t, "method: asymptotic", "method: exact\nresamples: 1000"),
 			[]string{`plan.yaml:15:18: analyses[0].pvalue.resamples: applies only to the methods permutation and auto, not "exact"`}},
+		{"interval level with exact", edit(t, "method: asymptotic", "method: exact\ninterval_level: 0.99"),
+			[]string{`plan.yaml:15:23: analyses[0].pvalue.interval_level: applies only to the methods permutation and auto, not "exact": only a Monte Carlo p-value has an interval`}},
+		{"interval level as a percentage", edit(t, "method: asymptotic", "method: permutation\nresamples: 1000\ninterval_level: 95"),
+			[]string{`plan.yaml:16:23: analyses[0].pvalue.interval_level: expected a value > 0 and < 1; found 95`}},
+		{"interval level 1", edit(t, "method: asymptotic", "method: auto\nresamples: 1000\ninterval_level: 1"),
+			[]string{`plan.yaml:16:23: analyses[0].pvalue.interval_level: expected a value > 0 and < 1; found 1`}},
+		{"interval level as text", edit(t, "method: asymptotic", "method: auto\nresamples: 1000\ninterval_level: 95%"),
+			[]string{`plan.yaml:16:23: analyses[0].pvalue.interval_level: expected a number; found the text "95%"`}},
 		{"effect level", goodPlan + "    effect_size: {level: 95}\n",
 			[]string{"plan.yaml:15:26: analyses[0].effect_size.level: expected a value > 0 and < 1; found 95"}},
 		{"effect resamples with the default interval", goodPlan + "    effect_size: {resamples: 2000}\n",
@@ -388,5 +396,32 @@ func TestRenamedAdjustment(t *testing.T) {
 		if slices.Contains(Adjustments(), Adjustment(code)) {
 			t.Errorf("%q is both a current name and a retired code", code)
 		}
+	}
+}
+
+// TestIntervalLevelDefault: a Monte Carlo method gets the interval level 0.95 unless the
+// plan gives one; the other methods have none (0), so their plans are unchanged.
+func TestIntervalLevelDefault(t *testing.T) {
+	for _, tc := range []struct {
+		name, method string
+		want         float64
+	}{
+		{"asymptotic", "method: asymptotic", 0},
+		{"exact", "method: exact", 0},
+		{"permutation", "method: permutation\nresamples: 1000", DefaultIntervalLevel},
+		{"auto", "method: auto\nresamples: 1000", DefaultIntervalLevel},
+		{"auto with a level", "method: auto\nresamples: 1000\ninterval_level: 0.99", 0.99},
+		{"permutation with a level", "method: permutation\nresamples: 1000\ninterval_level: 0.9", 0.9},
+	} {
+		p, err := Parse("plan.yaml", []byte(edit(t, "method: asymptotic", tc.method)))
+		if err != nil {
+			t.Fatalf("%s: %v", tc.name, err)
+		}
+		if got := p.Analyses[0].PValue.IntervalLevel; got != tc.want {
+			t.Errorf("%s: interval level %v, want %v", tc.name, got, tc.want)
+		}
+	}
+	if DefaultIntervalLevel != 0.95 {
+		t.Errorf("DefaultIntervalLevel = %v; plan format 1 says 0.95", DefaultIntervalLevel)
 	}
 }
