@@ -323,8 +323,8 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	}
 	mc, err := await(ctx, "kw permutation", func() (stats.Permutation, error) {
 		return stats.KruskalWallisPermutation(ctx, in.Group, in.Values, len(in.Groups), r, stats.PermutationOptions{
-			Seed: uint64(p.Seed), AnalysisID: a.ID, Resamples: a.PValue.Resamples, Workers: opt.Workers,
-			Progress: opt.progress(a.ID, TaskPermutation),
+			Seed: uint64(p.Seed), AnalysisID: a.ID, Resamples: a.PValue.Resamples, Level: a.PValue.IntervalLevel,
+			Workers: opt.Workers, Progress: opt.progress(a.ID, TaskPermutation),
 		})
 	})
 	if err != nil {
@@ -337,7 +337,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 		Exceedances: strconv.FormatInt(mc.Exceed, 10),
 		Estimator:   "(b + 1) / (m + 1), b exceedances in m resamples (Phipson & Smyth 2010)",
 		SE:          mc.SE,
-		CI:          results.Interval{Level: 0.99, Low: mc.CILow, High: mc.CIHigh},
+		CI:          results.Interval{Level: mc.Level, Low: mc.CILow, High: mc.CIHigh},
 		Comparison:  mc.Comparison,
 		Stream:      fmt.Sprintf("purpose %q, blocks of %d resamples", stats.PermutationPurpose, stats.PermutationBlockSize),
 	}

@@ -14,13 +14,13 @@ import (
 // source. The adjustments are those of the post-hoc comparisons ([stats.AdjustP]).
 // Every rule of [spec.MultiplicityRules] has an entry (TestVocabularyImplemented).
 var multiplicityMethods = map[spec.MultiplicityRule]string{
-	rule(spec.Bonferroni): "Bonferroni: each omnibus p-value times the family size m, capped at 1",
-	rule(spec.Sidak):      "Šidák (1967): 1 − (1 − p)^m",
-	rule(spec.Holm):       "Holm (1979) step-down over the family's omnibus p-values",
-	rule(spec.Hochberg):   "Hochberg (1988) step-up over the family's omnibus p-values",
-	rule(spec.Hommel):     "Hommel (1988) closed Simes tests over the family's omnibus p-values",
-	rule(spec.BH):         "Benjamini & Hochberg (1995) false discovery rate step-up",
-	rule(spec.BY):         "Benjamini & Yekutieli (2001) false discovery rate step-up under arbitrary dependence",
+	rule(spec.Bonferroni):         "Bonferroni: each omnibus p-value times the family size m, capped at 1",
+	rule(spec.Sidak):              "Šidák (1967): 1 − (1 − p)^m",
+	rule(spec.Holm):               "Holm (1979) step-down over the family's omnibus p-values",
+	rule(spec.Hochberg):           "Hochberg (1988) step-up over the family's omnibus p-values",
+	rule(spec.Hommel):             "Hommel (1988) closed Simes tests over the family's omnibus p-values",
+	rule(spec.BenjaminiHochberg):  "Benjamini & Hochberg (1995) false discovery rate step-up",
+	rule(spec.BenjaminiYekutieli): "Benjamini & Yekutieli (2001) false discovery rate step-up under arbitrary dependence",
 	spec.FixedSequence: "fixed sequence (hierarchical testing; Maurer, Hothorn & Lehmacher 1995; Westfall & Krishen 2001): " +
 		"each analysis in the order listed is tested at the full alpha only if every earlier one rejected; " +
 		"adjusted p = the largest p-value so far in the sequence",

@@ -388,12 +388,12 @@ func TestMethodInvariance(t *testing.T) {
 	}
 }
 
-// TestPostHoc: Dunn with Holm on PlantGrowth gives the z and adjusted p of docs/methods.md §3.1
+// TestPostHoc: Dunn with Holm on the Dobson (1983) plant weights gives the z and adjusted p of docs/methods.md §3.1
 // [V] (z = 1.117725, −1.689290, −2.807015; Holm 0.263684, 0.182328, 0.015001), pairwise
 // effect sizes of docs/methods.md §5, and letters consistent with the decisions; gating skips
 // the comparisons when the omnibus test does not reject.
 func TestPostHoc(t *testing.T) {
-	csv := plantGrowthCSV()
+	csv := dobson1983PlantWeightsCSV()
 	dir := t.TempDir()
 	os.WriteFile(filepath.Join(dir, "data.csv"), []byte(csv), 0o644)
 	src := planHead + "alpha: 0.05\nseed: 1\nanalyses:\n  - id: a\n    test: kruskal-wallis\n    pvalue: {method: asymptotic}\n" +
@@ -454,11 +454,11 @@ func TestPostHoc(t *testing.T) {
 	}
 }
 
-// TestSimultaneousPostHoc runs Nemenyi and DSCF from a plan on PlantGrowth (Dobson 1983;
+// TestSimultaneousPostHoc runs Nemenyi and DSCF from a plan on the plant weights of Dobson (1983;
 // docs/methods.md §3.3-3.4, values verified there with scipy 1.10.1): the p-values come from
 // the studentized range, need no adjustment, and the results say so.
 func TestSimultaneousPostHoc(t *testing.T) {
-	csv := plantGrowthCSV()
+	csv := dobson1983PlantWeightsCSV()
 	for _, tc := range []struct {
 		method spec.PostHoc
 		stat   string
@@ -489,8 +489,8 @@ func TestSimultaneousPostHoc(t *testing.T) {
 	}
 }
 
-// plantGrowthCSV is the PlantGrowth data (Dobson 1983; docs/methods.md §8.2) as a data file.
-func plantGrowthCSV() string {
+// dobson1983PlantWeightsCSV holds the plant weights of Dobson (1983; docs/methods.md §8.2) as a data file.
+func dobson1983PlantWeightsCSV() string {
 	csv := "g,y\n"
 	for i, g := range [][]float64{
 		{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14},

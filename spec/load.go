@@ -157,6 +157,9 @@ func (p *Plan) check() ErrorList {
 			if a.PValue.Resamples != 0 {
 				add(at+".pvalue.resamples", "applies only to the methods permutation and auto, not %q", m)
 			}
+			if p.Has(at + ".pvalue.interval_level") {
+				add(at+".pvalue.interval_level", "applies only to the methods permutation and auto, not %q: only a Monte Carlo p-value has an interval", m)
+			}
 		}
 		switch es := a.EffectSize; {
 		case es.Resamples == 0 && p.Has(at+".effect_size.resamples"):

@@ -113,7 +113,15 @@ const (
 type PValue struct {
 	Method    PValueMethod `json:"method"`
 	Resamples int64        `json:"resamples,omitempty"`
+	// IntervalLevel is the confidence level of the Clopper-Pearson interval of a Monte
+	// Carlo p-value, strictly between 0 and 1; with the methods permutation and auto only,
+	// where it defaults to [DefaultIntervalLevel], and 0 with the others.
+	IntervalLevel float64 `json:"interval_level,omitempty"`
 }
+
+// DefaultIntervalLevel is the confidence level of a Monte Carlo p-value's interval when
+// the plan gives no pvalue.interval_level (part of plan format 1).
+const DefaultIntervalLevel = 0.95
 
 // PostHocPlan is the pairwise follow-up of an analysis.
 type PostHocPlan struct {
@@ -182,6 +190,9 @@ func (p *Plan) applyDefaults() {
 		}
 		if a.EffectSize.Level == 0 {
 			a.EffectSize.Level = DefaultEffectLevel
+		}
+		if m := a.PValue.Method; (m == Permutation || m == Auto) && a.PValue.IntervalLevel == 0 {
+			a.PValue.IntervalLevel = DefaultIntervalLevel
 		}
 		if a.EffectSize.Interval == "" {
 			a.EffectSize.Interval = DefaultEffectInterval

@@ -140,7 +140,13 @@ func describe(d *document, tree any, v *jsonschema.ValidationError) []located {
 		}
 		return out
 	case "enum":
-		return at("expected one of %s; found %s", quoteAll(s["enum"].([]any)), valueName(inst))
+		enum := s["enum"].([]any)
+		if text, ok := inst.(string); ok {
+			if name, ok := RenamedAdjustment(text); ok && slices.Contains(enum, any(string(name))) {
+				return at("%q is no longer a method name; write %s", text, name)
+			}
+		}
+		return at("expected one of %s; found %s", quoteAll(enum), valueName(inst))
 	case "const":
 		return at("expected %s; found %s", quoteAll([]any{s["const"]}), valueName(inst))
 	case "type":

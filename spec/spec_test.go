@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -151,6 +152,14 @@ func TestParseErrors(t *testing.T) {
 			}},
 		{"resamples not used", edit(t, "method: asymptotic", "method: exact\nresamples: 1000"),
 			[]string{`plan.yaml:15:18: analyses[0].pvalue.resamples: applies only to the methods permutation and auto, not "exact"`}},
+		{"interval level with exact", edit(t, "method: asymptotic", "method: exact\ninterval_level: 0.99"),
+			[]string{`plan.yaml:15:23: analyses[0].pvalue.interval_level: applies only to the methods permutation and auto, not "exact": only a Monte Carlo p-value has an interval`}},
+		{"interval level as a percentage", edit(t, "method: asymptotic", "method: permutation\nresamples: 1000\ninterval_level: 95"),
+			[]string{`plan.yaml:16:23: analyses[0].pvalue.interval_level: expected a value > 0 and < 1; found 95`}},
+		{"interval level 1", edit(t, "method: asymptotic", "method: auto\nresamples: 1000\ninterval_level: 1"),
+			[]string{`plan.yaml:16:23: analyses[0].pvalue.interval_level: expected a value > 0 and < 1; found 1`}},
+		{"interval level as text", edit(t, "method: asymptotic", "method: auto\nresamples: 1000\ninterval_level: 95%"),
+			[]string{`plan.yaml:16:23: analyses[0].pvalue.interval_level: expected a number; found the text "95%"`}},
 		{"effect level", goodPlan + "    effect_size: {level: 95}\n",
 			[]string{"plan.yaml:15:26: analyses[0].effect_size.level: expected a value > 0 and < 1; found 95"}},
 		{"effect resamples with the default interval", goodPlan + "    effect_size: {resamples: 2000}\n",
@@ -184,7 +193,13 @@ func TestParseErrors(t *testing.T) {
 		{"multiplicity of one", goodPlan + "multiplicity: {rule: fixed-sequence}\n",
 			[]string{"plan.yaml:15:1: multiplicity: a family needs at least two analyses; this plan's family has 1"}},
 		{"multiplicity rule none", goodPlan + "multiplicity: {rule: none}\n",
-			[]string{`plan.yaml:15:22: multiplicity.rule: expected one of "bonferroni", "sidak", "holm", "hochberg", "hommel", "bh", "by", "fixed-sequence"; found the text "none"`}},
+			[]string{`plan.yaml:15:22: multiplicity.rule: expected one of "bonferroni", "sidak", "holm", "hochberg", "hommel", "benjamini-hochberg", "benjamini-yekutieli", "fixed-sequence"; found the text "none"`}},
+		{"multiplicity rule of an earlier release", goodPlan + "multiplicity: {rule: bh}\n",
+			[]string{`plan.yaml:15:22: multiplicity.rule: "bh" is no longer a method name; write benjamini-hochberg`}},
+		{"adjustment of an earlier release", goodPlan + "    posthoc: {method: dunn, adjust: by}\n",
+			[]string{`plan.yaml:15:37: analyses[0].posthoc.adjust: "by" is no longer a method name; write benjamini-yekutieli`}},
+		{"old code where no adjustment is named", goodPlan + "    posthoc: {method: bh}\n",
+			[]string{`plan.yaml:15:23: analyses[0].posthoc.method: expected one of "none", "dunn", "conover", "dscf", "nemenyi", "rank-sum"; found the text "bh"`}},
 		{"multiplicity listed twice", goodPlan + "multiplicity: {rule: holm, analyses: [a, a]}\n",
 			[]string{`plan.yaml:15:42: multiplicity.analyses[1]: the text "a" is listed twice (also item 0); items must be unique`}},
 		{"subset on group column", goodPlan + "    subset: {column: g, values: [A]}\n",
@@ -397,5 +412,62 @@ multiplicity:
 	}
 	if got := p.Multiplicity.Analyses; !reflect.DeepEqual(got, []string{"b", "a"}) || p.Multiplicity.Rule != "holm" {
 		t.Errorf("family %q rule %q", got, p.Multiplicity.Rule)
+	}
+}
+
+// TestRenamedAdjustment checks the table of retired adjustment codes: each code names a
+// current adjustment, is itself no current name, and current names are not renamed.
+func TestRenamedAdjustment(t *testing.T) {
+	for _, tc := range []struct {
+		code string
+		want Adjustment
+		ok   bool
+	}{
+		{"bh", BenjaminiHochberg, true},
+		{"by", BenjaminiYekutieli, true},
+		{"holm", "", false},
+		{"benjamini-hochberg", "", false},
+		{"BH", "", false},
+		{"", "", false},
+	} {
+		got, ok := RenamedAdjustment(tc.code)
+		if got != tc.want || ok != tc.ok {
+			t.Errorf("RenamedAdjustment(%q) = %q, %v; want %q, %v", tc.code, got, ok, tc.want, tc.ok)
+		}
+	}
+	for code, name := range renamedAdjustments {
+		if !slices.Contains(Adjustments(), name) {
+			t.Errorf("%q is renamed to %q, which is not an adjustment", code, name)
+		}
+		if slices.Contains(Adjustments(), Adjustment(code)) {
+			t.Errorf("%q is both a current name and a retired code", code)
+		}
+	}
+}
+
+// TestIntervalLevelDefault: a Monte Carlo method gets the interval level 0.95 unless the
+// plan gives one; the other methods have none (0), so their plans are unchanged.
+func TestIntervalLevelDefault(t *testing.T) {
+	for _, tc := range []struct {
+		name, method string
+		want         float64
+	}{
+		{"asymptotic", "method: asymptotic", 0},
+		{"exact", "method: exact", 0},
+		{"permutation", "method: permutation\nresamples: 1000", DefaultIntervalLevel},
+		{"auto", "method: auto\nresamples: 1000", DefaultIntervalLevel},
+		{"auto with a level", "method: auto\nresamples: 1000\ninterval_level: 0.99", 0.99},
+		{"permutation with a level", "method: permutation\nresamples: 1000\ninterval_level: 0.9", 0.9},
+	} {
+		p, err := Parse("plan.yaml", []byte(edit(t, "method: asymptotic", tc.method)))
+		if err != nil {
+			t.Fatalf("%s: %v", tc.name, err)
+		}
+		if got := p.Analyses[0].PValue.IntervalLevel; got != tc.want {
+			t.Errorf("%s: interval level %v, want %v", tc.name, got, tc.want)
+		}
+	}
+	if DefaultIntervalLevel != 0.95 {
+		t.Errorf("DefaultIntervalLevel = %v; plan format 1 says 0.95", DefaultIntervalLevel)
 	}
 }

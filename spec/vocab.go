@@ -80,13 +80,32 @@ const (
 	Holm         Adjustment = "holm"
 	Hochberg     Adjustment = "hochberg"
 	Hommel       Adjustment = "hommel"
-	BH           Adjustment = "bh"
-	BY           Adjustment = "by"
+	// BenjaminiHochberg is the false discovery rate step-up of Benjamini & Hochberg (1995).
+	BenjaminiHochberg Adjustment = "benjamini-hochberg"
+	// BenjaminiYekutieli is the step-up of Benjamini & Yekutieli (2001), valid under any
+	// dependence.
+	BenjaminiYekutieli Adjustment = "benjamini-yekutieli"
 )
 
 // Adjustments returns every adjustment a plan can name, [NoAdjustment] first.
 func Adjustments() []Adjustment {
-	return []Adjustment{NoAdjustment, Bonferroni, Sidak, Holm, Hochberg, Hommel, BH, BY}
+	return []Adjustment{NoAdjustment, Bonferroni, Sidak, Holm, Hochberg, Hommel, BenjaminiHochberg, BenjaminiYekutieli}
+}
+
+// renamedAdjustments maps the short codes that plans of earlier releases wrote for an
+// adjustment or a multiplicity rule to the names that replaced them.
+var renamedAdjustments = map[string]Adjustment{
+	"bh": BenjaminiHochberg,
+	"by": BenjaminiYekutieli,
+}
+
+// RenamedAdjustment returns the name that replaced an adjustment code of an earlier
+// release ("bh" gives [BenjaminiHochberg]), and false for any other text. The old codes
+// are refused, never read as the new names: a plan says what it means in the words of
+// the release that runs it.
+func RenamedAdjustment(code string) (Adjustment, bool) {
+	a, ok := renamedAdjustments[code]
+	return a, ok
 }
 
 // MultiplicityRule names how decisions are made across a family of analyses: one of the

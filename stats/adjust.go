@@ -9,14 +9,14 @@ import (
 
 // Adjustment method names, exactly as plans spell them.
 const (
-	AdjustNone       = "none"
-	AdjustBonferroni = "bonferroni"
-	AdjustSidak      = "sidak"
-	AdjustHolm       = "holm"
-	AdjustHochberg   = "hochberg"
-	AdjustHommel     = "hommel"
-	AdjustBH         = "bh"
-	AdjustBY         = "by"
+	AdjustNone               = "none"
+	AdjustBonferroni         = "bonferroni"
+	AdjustSidak              = "sidak"
+	AdjustHolm               = "holm"
+	AdjustHochberg           = "hochberg"
+	AdjustHommel             = "hommel"
+	AdjustBenjaminiHochberg  = "benjamini-hochberg"
+	AdjustBenjaminiYekutieli = "benjamini-yekutieli"
 )
 
 // AdjustP returns the adjusted p-values of p, in the input order, for the named method.
@@ -27,14 +27,14 @@ const (
 //
 // With m = len(p) and p_(1) ≤ … ≤ p_(m) the stably sorted values, the methods are
 //
-//	none        p̃_i = p_i
-//	bonferroni  p̃_i = min(1, m·p_i)
-//	sidak       p̃_i = 1 − (1 − p_i)^m
-//	holm        p̃_(i) = max_{j≤i} min(1, (m−j+1)·p_(j))
-//	hochberg    p̃_(i) = min_{j≥i} min(1, (m−j+1)·p_(j))
-//	hommel      p̃_(i) = max_{I ∋ (i)} min_{j} |I|·p_(j:I)/j   (closed Simes tests)
-//	bh          p̃_(i) = min_{j≥i} min(1, m·p_(j)/j)
-//	by          p̃_(i) = min_{j≥i} min(1, c(m)·m·p_(j)/j),  c(m) = Σ_{j=1}^m 1/j
+//	none                 p̃_i = p_i
+//	bonferroni           p̃_i = min(1, m·p_i)
+//	sidak                p̃_i = 1 − (1 − p_i)^m
+//	holm                 p̃_(i) = max_{j≤i} min(1, (m−j+1)·p_(j))
+//	hochberg             p̃_(i) = min_{j≥i} min(1, (m−j+1)·p_(j))
+//	hommel               p̃_(i) = max_{I ∋ (i)} min_{j} |I|·p_(j:I)/j   (closed Simes tests)
+//	benjamini-hochberg   p̃_(i) = min_{j≥i} min(1, m·p_(j)/j)
+//	benjamini-yekutieli  p̃_(i) = min_{j≥i} min(1, c(m)·m·p_(j)/j),  c(m) = Σ_{j=1}^m 1/j
 //
 // following Bonferroni (common practice), Šidák (1967), Holm (1979), Hochberg (1988),
 // Hommel (1988), Benjamini and Hochberg (1995) and Benjamini and Yekutieli (2001); the
@@ -54,10 +54,10 @@ func AdjustP(method string, p []float64) ([]float64, error) {
 		fn = adjustHochberg
 	case AdjustHommel:
 		fn = adjustHommel
-	case AdjustBH:
-		fn = adjustBH
-	case AdjustBY:
-		fn = adjustBY
+	case AdjustBenjaminiHochberg:
+		fn = adjustBenjaminiHochberg
+	case AdjustBenjaminiYekutieli:
+		fn = adjustBenjaminiYekutieli
 	default:
 		return nil, fmt.Errorf("adjust p-values: unknown method %q", method)
 	}
@@ -162,24 +162,24 @@ func adjustHochberg(s, out []float64) {
 	}
 }
 
-// adjustBH writes the Benjamini-Hochberg adjustment of the sorted p-values s into out
+// adjustBenjaminiHochberg writes the Benjamini-Hochberg adjustment of the sorted p-values s into out
 // (1-based j):
 //
 //	p̃_(i) = min_{j≥i} min(1, m·p_(j)/j)
 //
 // (Benjamini and Hochberg 1995, JRSS-B 57:289–300), a running minimum from the largest p.
-func adjustBH(s, out []float64) {
+func adjustBenjaminiHochberg(s, out []float64) {
 	stepUpFDR(s, out, 1)
 }
 
-// adjustBY writes the Benjamini-Yekutieli adjustment of the sorted p-values s into out
+// adjustBenjaminiYekutieli writes the Benjamini-Yekutieli adjustment of the sorted p-values s into out
 // (1-based j):
 //
 //	p̃_(i) = min_{j≥i} min(1, c(m)·m·p_(j)/j),   c(m) = Σ_{j=1}^m 1/j
 //
 // (Benjamini and Yekutieli 2001, Ann. Stat. 29:1165–1188, Theorem 1.3), valid under
 // arbitrary dependence. c(m) is summed in increasing j so the result is reproducible.
-func adjustBY(s, out []float64) {
+func adjustBenjaminiYekutieli(s, out []float64) {
 	c := 0.0
 	for j := 1; j <= len(s); j++ {
 		c += 1 / float64(j)

@@ -18,7 +18,7 @@ const adjustReferencePath = "../testdata/reference/adjust_statsmodels.json"
 // allAdjustMethods lists every method name AdjustP accepts.
 var allAdjustMethods = []string{
 	AdjustNone, AdjustBonferroni, AdjustSidak, AdjustHolm,
-	AdjustHochberg, AdjustHommel, AdjustBH, AdjustBY,
+	AdjustHochberg, AdjustHommel, AdjustBenjaminiHochberg, AdjustBenjaminiYekutieli,
 }
 
 type adjustRefCase struct {
@@ -139,8 +139,8 @@ func TestAdjustPMethodsTable(t *testing.T) {
 		{AdjustHolm, 2},
 		{AdjustHochberg, 2},
 		{AdjustHommel, 2},
-		{AdjustBH, 8},
-		{AdjustBY, 1},
+		{AdjustBenjaminiHochberg, 8},
+		{AdjustBenjaminiYekutieli, 1},
 	}
 	for _, tc := range tests {
 		t.Run(tc.method, func(t *testing.T) {
@@ -352,7 +352,7 @@ func TestAdjustPErrors(t *testing.T) {
 	}{
 		{"nan", AdjustHolm, []float64{0.1, math.NaN(), 0.2}},
 		{"nan none", AdjustNone, []float64{math.NaN()}},
-		{"negative", AdjustBH, []float64{0.1, -0.001}},
+		{"negative", AdjustBenjaminiHochberg, []float64{0.1, -0.001}},
 		{"above one", AdjustBonferroni, []float64{1.0000001}},
 		{"plus inf", AdjustHommel, []float64{math.Inf(1)}},
 		{"minus inf", AdjustSidak, []float64{math.Inf(-1), 0.5}},
@@ -454,7 +454,7 @@ func ExampleAdjustP() {
 }
 
 func ExampleReject() {
-	adj, _ := AdjustP(AdjustBH, []float64{0.01, 0.02, 0.03, 0.5})
+	adj, _ := AdjustP(AdjustBenjaminiHochberg, []float64{0.01, 0.02, 0.03, 0.5})
 	fmt.Printf("%.2f\n", adj)
 	fmt.Println(Reject(adj, 0.05))
 	// Output:

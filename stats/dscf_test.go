@@ -10,14 +10,14 @@ import (
 	"testing"
 )
 
-// TestNemenyiDSCFPlantGrowth checks the values of docs/methods.md §3.3 and §3.4 ([V],
+// TestNemenyiDSCFDobson1983PlantWeights checks the values of docs/methods.md §3.3 and §3.4 ([V],
 // scipy 1.10.1 in testdata/reference/dscf_scipy.py) for the pairs ctrl–trt1, ctrl–trt2,
-// trt1–trt2 of PlantGrowth (Dobson 1983). §3.4 lists DSCF's W* (rank sum of the second
+// trt1–trt2 of the Dobson (1983) plant weights. §3.4 lists DSCF's W* (rank sum of the second
 // group of the pair); rankplan's Statistic is signed so that positive means the first
 // group is larger, so Nemenyi's q carries the sign of R̄_I − R̄_J (+, −, −: Dunn's z in
 // §3.1) and DSCF's Statistic is −W*.
-func TestNemenyiDSCFPlantGrowth(t *testing.T) {
-	r := mustRank(t, plantGrowth)
+func TestNemenyiDSCFDobson1983PlantWeights(t *testing.T) {
+	r := mustRank(t, dobson1983PlantWeights)
 	pairs := AllPairs(3)
 	nem, err := NemenyiTest(r, pairs)
 	if err != nil {
@@ -50,7 +50,7 @@ type dscfRefCmp struct {
 
 // TestNemenyiDSCFScipy compares with testdata/reference/dscf_scipy.json, an independent
 // computation (scipy 1.10.1: rankdata for the ranks, the tie correction by its formula,
-// studentized_range.sf with df = inf) on PlantGrowth and three invented data sets with
+// studentized_range.sf with df = inf) on the Dobson (1983) plant weights and three invented data sets with
 // ties and unequal sizes. Tolerance: relative 1e-7 for statistics and p-values (scipy's
 // studentized_range.sf with df = inf agrees with mpmath to about 1e-10 in this range;
 // TestStudentizedRangeScipy).
@@ -151,7 +151,7 @@ func TestDSCFRankSumIdentity(t *testing.T) {
 // TestDSCFManyToOne checks that a many-to-one family uses k = r.K in the studentized range:
 // the p-values equal those of the same pairs within AllPairs.
 func TestDSCFManyToOne(t *testing.T) {
-	r := mustRank(t, plantGrowth)
+	r := mustRank(t, dobson1983PlantWeights)
 	all, err := DSCFTest(r, AllPairs(3))
 	if err != nil {
 		t.Fatal(err)
@@ -202,7 +202,7 @@ func TestDSCFErrors(t *testing.T) {
 		t.Error("nil ranking: no error")
 	}
 
-	r = mustRank(t, plantGrowth)
+	r = mustRank(t, dobson1983PlantWeights)
 	sorted := make([][]float64, len(r.Sorted))
 	for i := range r.Sorted {
 		sorted[i] = slices.Clone(r.Sorted[i])

@@ -11,9 +11,9 @@ import (
 	"rankplan/stats/stream"
 )
 
-// PlantGrowth (Dobson 1983): H* = 7.988229, epsilon-squared 0.275456 and eta-squared(H)
+// The Dobson (1983) plant weights: H* = 7.988229, epsilon-squared 0.275456 and eta-squared(H)
 // 0.221786, all from docs/methods.md §1.1 and §2, verified there with scipy 1.10.1.
-func TestEffectSizesPlantGrowth(t *testing.T) {
+func TestEffectSizesDobson1983PlantWeights(t *testing.T) {
 	const h = 7.988228749443715 // scipy 1.10.1 stats.kruskal, testdata/reference/kruskal_scipy.json
 	eps, err := EpsilonSquared(h, 30)
 	if err != nil || math.Abs(eps-0.275456) > 5e-7 {
@@ -226,7 +226,7 @@ func checkCountingRanks(t *testing.T, name string, groups [][]float64, byGroup b
 // TestKruskalWallisEffectInterval checks the interval of ξ² = λ/(N − k) against scipy's
 // inversion of its own ncx2 (testdata/reference/ncx2_scipy.json, brentq), on the sleep
 // analysis of examples/cream-trial (H* = 2.114325393362999, N = 60, k = 3, asymptotic
-// p = 0.34744, permutation p = 0.354: the interval must contain 0) and on PlantGrowth
+// p = 0.34744, permutation p = 0.354: the interval must contain 0) and on the Dobson (1983) plant weights
 // (H* = 7.988228749443715, N = 30, k = 3, p = 0.0184 < 0.025: it must not).
 func TestKruskalWallisEffectInterval(t *testing.T) {
 	ref := readNcx2Reference(t)
@@ -246,7 +246,7 @@ func TestKruskalWallisEffectInterval(t *testing.T) {
 		contains bool
 	}{
 		{"cream-trial sleep", 2.114325393362999, 60, true},
-		{"PlantGrowth", 7.988228749443715, 30, false},
+		{"Dobson1983PlantWeights", 7.988228749443715, 30, false},
 	} {
 		got, err := KruskalWallisEffectInterval(tc.h, tc.n, 3, 0.95)
 		if err != nil {

@@ -45,7 +45,7 @@ func exactSizesName(sizes []int) string {
 
 // BenchmarkKruskalWallisExact times the exact p with the default budget on the
 // target designs (k = 3 with N = 30, k = 4 with N = 24, with and without ties, under
-// the null and with a shift), on (5,5,5) and PlantGrowth (Dobson 1983, docs/methods.md
+// the null and with a shift), on (5,5,5) and the plant weights of Dobson (1983, docs/methods.md
 // §8.2), and on designs at the edge of the default budget. States, Work and P are
 // reported per run; a design over the budget reports errors=1 and its time is the
 // time to refuse it. Run with -benchtime=1x: every run is deterministic.
@@ -60,7 +60,7 @@ func BenchmarkKruskalWallisExact(b *testing.B) {
 		name := fmt.Sprintf("%s/ties=%s/shift=%v", exactSizesName(sizes), ties.name, shift)
 		designs = append(designs, design{name, exactBenchGroups(sizes, ties.grid, shift)})
 	}
-	designs = append(designs, design{"PlantGrowth", plantGrowth})
+	designs = append(designs, design{"Dobson1983PlantWeights", dobson1983PlantWeights})
 	for _, sizes := range [][]int{{5, 5, 5}, {10, 10, 10}, {6, 6, 6, 6}} {
 		for tie := range exactBenchTies {
 			add(sizes, tie, 0)

@@ -414,19 +414,19 @@ func equalSizeNull(m int) ([]nullAtom, int64) {
 	return atoms, total
 }
 
-// TestKruskalWallisExactPlantGrowth checks the exact p of the PlantGrowth data
+// TestKruskalWallisExactDobson1983PlantWeights checks the exact p of the Dobson (1983) plant weights
 // (Dobson 1983; values in docs/methods.md §8.2; one tie) against the exact fraction
-// count/total of testdata/reference/exact_plantgrowth.json (Python's exact integers over
-// all 5,550,996,791,340 assignments, exact_plantgrowth.py beside it) within 1e-12
+// count/total of testdata/reference/exact_dobson1983.json (Python's exact integers over
+// all 5,550,996,791,340 assignments, exact_dobson1983.py beside it) within 1e-12
 // relative and against docs/methods.md §1.5 [V]: p = 0.014592 (6 decimals); the
 // programme without pruning is compared in stats/internal/exactdp
-// (TestPlantGrowthUnpruned). (The
+// (TestDobson1983PlantWeightsUnpruned). (The
 // other worked value of docs/methods.md §1.5, the mucociliary (5,4,5) example, is not
 // tested: its data are not listed there and are marked as recalled from memory; the
 // (5,4,5) design is covered by invented data against scipy in
 // TestKruskalWallisExactScipy.)
-func TestKruskalWallisExactPlantGrowth(t *testing.T) {
-	r := mustRank(t, plantGrowth)
+func TestKruskalWallisExactDobson1983PlantWeights(t *testing.T) {
+	r := mustRank(t, dobson1983PlantWeights)
 	got, err := KruskalWallisExact(context.Background(), r, ExactBudget{})
 	if err != nil {
 		t.Fatal(err)
@@ -435,35 +435,35 @@ func TestKruskalWallisExactPlantGrowth(t *testing.T) {
 		t.Errorf("P = %.8f, docs/methods.md §1.5 0.014592", got.P)
 	}
 	var ref struct {
-		PlantGrowth struct {
+		Dobson1983PlantWeights struct {
 			Groups       [][]float64 `json:"groups"`
 			Count, Total int64
-		} `json:"plant_growth"`
+		} `json:"dobson1983_plant_weights"`
 	}
-	b, err := os.ReadFile("../testdata/reference/exact_plantgrowth.json")
+	b, err := os.ReadFile("../testdata/reference/exact_dobson1983.json")
 	if err != nil {
 		t.Fatal(err)
 	}
 	if err := json.Unmarshal(b, &ref); err != nil {
 		t.Fatal(err)
 	}
-	if !reflect.DeepEqual(ref.PlantGrowth.Groups, plantGrowth) {
-		t.Fatalf("exact_plantgrowth.json holds other data: %v", ref.PlantGrowth.Groups)
+	if !reflect.DeepEqual(ref.Dobson1983PlantWeights.Groups, dobson1983PlantWeights) {
+		t.Fatalf("exact_dobson1983.json holds other data: %v", ref.Dobson1983PlantWeights.Groups)
 	}
-	if want := exactRatFloat(big.NewRat(ref.PlantGrowth.Count, ref.PlantGrowth.Total)); !relClose(got.P, want, 1e-12) {
-		t.Errorf("P = %.17g, exact enumeration %d/%d = %.17g", got.P, ref.PlantGrowth.Count, ref.PlantGrowth.Total, want)
+	if want := exactRatFloat(big.NewRat(ref.Dobson1983PlantWeights.Count, ref.Dobson1983PlantWeights.Total)); !relClose(got.P, want, 1e-12) {
+		t.Errorf("P = %.17g, exact enumeration %d/%d = %.17g", got.P, ref.Dobson1983PlantWeights.Count, ref.Dobson1983PlantWeights.Total, want)
 	}
 	// Regression pin of this implementation's bits (not an external reference): the
 	// determinism promise is that this never changes on any machine or Go release.
 	// Change it only with a deliberate change of the summation order, said in the
 	// commit.
-	if bits := math.Float64bits(got.P); bits != exactPlantGrowthBits {
+	if bits := math.Float64bits(got.P); bits != exactDobson1983PlantWeightsBits {
 		t.Errorf("P bits = %#x (%.17g), pinned %#x (%.17g)", bits, got.P,
-			uint64(exactPlantGrowthBits), math.Float64frombits(exactPlantGrowthBits))
+			uint64(exactDobson1983PlantWeightsBits), math.Float64frombits(exactDobson1983PlantWeightsBits))
 	}
 }
 
-const exactPlantGrowthBits = 0x3f8de27fa7a96f01 // 0.014592168144353492
+const exactDobson1983PlantWeightsBits = 0x3f8de27fa7a96f01 // 0.014592168144353492
 
 // TestKruskalWallisExactWideKey covers states of more than 64 bits: fifteen groups of
 // one and a group of five, N = 20, with ties. Groups of one hold one value each, so
@@ -529,7 +529,7 @@ func TestKruskalWallisExactWideKey(t *testing.T) {
 // layers span many chunks and partitions.
 func TestKruskalWallisExactWorkers(t *testing.T) {
 	for _, groups := range [][][]float64{
-		plantGrowth,
+		dobson1983PlantWeights,
 		exactBenchGroups([]int{6, 6, 6, 6}, 3, 0),
 		exactBenchGroups([]int{9, 10, 11}, 20, 0.3),
 	} {

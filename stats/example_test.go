@@ -30,7 +30,7 @@ func ExampleRank() {
 }
 
 func ExampleKruskalWallisTest() {
-	// PlantGrowth (Dobson 1983): dried weights of plants, control and two treatments.
+	// The Dobson (1983) plant weights: dried weights of plants, control and two treatments.
 	groups := [][]float64{
 		{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14},
 		{4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69},

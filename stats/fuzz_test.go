@@ -531,6 +531,20 @@ func FuzzDistributions(f *testing.F) {
 				}
 			})
 		}
+		if n >= -1 && n <= 1e7 {
+			// Counts above 10^7 trials are left out for the same reason as large shapes above.
+			within(t, "ClopperPearson", func() {
+				m, cb := n, int64(0)
+				if m > 0 && !math.IsNaN(a) {
+					cb = int64(float64(m) * min(max(a, 0), 1)) // a share of the trials, 0 <= cb <= m
+				}
+				lo, hi, err := ClopperPearson(cb, m, x)
+				ok := m >= 1 && x > 0 && x < 1
+				if (err == nil) != ok || (err == nil && !(unit(lo) && unit(hi) && lo <= hi)) {
+					t.Fatalf("ClopperPearson(%d, %d, %v) = %v, %v, %v", cb, m, x, lo, hi, err)
+				}
+			})
+		}
 		if unit(x) && a > 0 && b > 0 && a <= 1e7 && b <= 1e7 {
 			within(t, "RegIncBeta", func() {
 				if p := RegIncBeta(x, a, b); !unit(p) {
@@ -604,7 +618,7 @@ func FuzzAdjust(f *testing.F) {
 			p = append(p, v)
 			valid = valid && v >= 0 && v <= 1
 		}
-		for _, method := range []string{AdjustNone, AdjustBonferroni, AdjustSidak, AdjustHolm, AdjustHochberg, AdjustHommel, AdjustBH, AdjustBY} {
+		for _, method := range []string{AdjustNone, AdjustBonferroni, AdjustSidak, AdjustHolm, AdjustHochberg, AdjustHommel, AdjustBenjaminiHochberg, AdjustBenjaminiYekutieli} {
 			within(t, "AdjustP("+method+")", func() {
 				adj, err := AdjustP(method, p)
 				if (err == nil) != valid {

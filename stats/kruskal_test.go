@@ -26,7 +26,7 @@ func TestReferenceFileVersions(t *testing.T) {
 }
 
 // TestKruskalWallisScipy compares H* and p with scipy 1.10.1 stats.kruskal on the data
-// sets in testdata/reference/kruskal_scipy.json (invented sets, PlantGrowth from Dobson
+// sets in testdata/reference/kruskal_scipy.json (invented sets, the plant weights of Dobson
 // 1983, NIST StRD SmLs01 read from stats/testdata/nist/SmLs01.dat, and the SmLs02/03
 // designs rebuilt), and log10 p with mpmath 1.2.1 (50 digits) at scipy's H*.
 func TestKruskalWallisScipy(t *testing.T) {
@@ -59,9 +59,9 @@ func TestKruskalWallisScipy(t *testing.T) {
 	}
 }
 
-// plantGrowth is the PlantGrowth data of Dobson (1983), An Introduction to Statistical
+// dobson1983PlantWeights holds the plant weights of Dobson (1983), An Introduction to Statistical
 // Modelling, as listed in docs/methods.md §8.2 (ctrl, trt1, trt2; 10 plants each).
-var plantGrowth = [][]float64{
+var dobson1983PlantWeights = [][]float64{
 	{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14},
 	{4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69},
 	{6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26},
@@ -70,8 +70,8 @@ var plantGrowth = [][]float64{
 // TestKruskalWallisWorkedExamples checks published and documented worked numbers at the
 // precision they are printed with.
 func TestKruskalWallisWorkedExamples(t *testing.T) {
-	t.Run("PlantGrowth", func(t *testing.T) {
-		r := mustRank(t, plantGrowth)
+	t.Run("Dobson1983PlantWeights", func(t *testing.T) {
+		r := mustRank(t, dobson1983PlantWeights)
 		kw, err := KruskalWallisTest(r)
 		if err != nil {
 			t.Fatal(err)

@@ -264,7 +264,7 @@ func TestNoncentralBits(t *testing.T) {
 }
 
 func ExampleNoncentralityInterval() {
-	// H* = 7.988 with k = 3 groups (PlantGrowth): the 95% interval of the noncentrality.
+	// H* = 7.988 with k = 3 groups (the Dobson (1983) plant weights): the 95% interval of the noncentrality.
 	lo, hi, err := NoncentralityInterval(7.988228749443715, 2, 0.95)
 	if err != nil {
 		panic(err)

@@ -10,10 +10,10 @@ import (
 	"testing"
 )
 
-// PlantGrowth pairs (Dobson 1983 data, docs/methods.md §8.2): counts, δ, A, HL shift and the
+// Pairs of the Dobson (1983) plant weights (docs/methods.md §8.2): counts, δ, A, HL shift and the
 // 95% Moses interval from docs/methods.md §5 [V], re-derived by brute force over the 100
 // differences with Python 3.11 (statistics.median and the sorted differences d[23], d[76]).
-func TestPairEffectsPlantGrowth(t *testing.T) {
+func TestPairEffectsDobson1983PlantWeights(t *testing.T) {
 	ctrl := []float64{4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14}
 	trt1 := []float64{4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69}
 	trt2 := []float64{6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26}

@@ -36,8 +36,9 @@ const (
 // permutationRelTol is the relative tolerance of [ComparisonFloat].
 const permutationRelTol = 1e-12
 
-// permutationLevel is the confidence level of the Clopper-Pearson interval.
-const permutationLevel = 0.99
+// DefaultPermutationLevel is the confidence level of the Clopper-Pearson interval of
+// [KruskalWallisPermutation] when [PermutationOptions].Level is 0.
+const DefaultPermutationLevel = 0.95
 
 // Permutation is a Monte Carlo permutation p-value of the Kruskal-Wallis test with its
 // Monte Carlo error; see [KruskalWallisPermutation].
@@ -46,11 +47,14 @@ type Permutation struct {
 	Exceed    int64   // b = #{resamples with T* >= T_obs}
 	P         float64 // (b + 1) / (m + 1)
 	SE        float64 // sqrt(p̂ (1 − p̂) / m), p̂ = b / m
-	// CILow and CIHigh are the 99% Clopper-Pearson interval for the permutation
-	// p-value that b estimates (b is binomial with m trials), from [BetaQuantile], whose
-	// results are the same bits on every architecture. Its relative error against scipy
-	// 1.10.1 stats.beta.ppf is below max(1e-12, 1e-17·m) (TestBetaQuantile). They
-	// describe the Monte Carlo error, so that is far below what matters.
+	// Level is the confidence level of the interval [CILow, CIHigh].
+	Level float64
+	// CILow and CIHigh are the Clopper-Pearson interval at Level for the permutation
+	// p-value that b estimates (b is binomial with m trials; [ClopperPearson]), from
+	// [BetaQuantile], whose results are the same bits on every architecture. Its relative
+	// error against scipy 1.10.1 stats.beta.ppf is below max(1e-12, 1e-17·m)
+	// (TestBetaQuantile). They describe the Monte Carlo error, so that is far below what
+	// matters.
 	CILow, CIHigh float64
 	Comparison    string // ComparisonExact or ComparisonFloat: how T* >= T_obs was decided
 }
@@ -61,6 +65,9 @@ type PermutationOptions struct {
 	AnalysisID string // the analysis's identifier; different analyses draw different streams
 	Resamples  int64  // m >= 1
 	Workers    int    // goroutines; 0 or less: runtime.GOMAXPROCS(0). The result does not depend on it.
+	// Level is the confidence level of the Clopper-Pearson interval, strictly between 0
+	// and 1; 0 means [DefaultPermutationLevel]. It does not change the count b.
+	Level float64
 	// Progress, if not nil, is called with the resamples finished so far after each
 	// block of PermutationBlockSize, from the worker goroutines (see [Progress]). The
 	// result does not depend on it.
@@ -103,13 +110,10 @@ type PermutationOptions struct {
 //
 //	P      = (b + 1) / (m + 1)                    (Phipson & Smyth 2010, SAGMB 9(1): art. 39)
 //	SE     = sqrt(p̂ (1 − p̂) / m),  p̂ = b / m
-//	CILow  = Beta⁻¹(0.005; b, m − b + 1)    (0 when b = 0)
-//	CIHigh = Beta⁻¹(0.995; b + 1, m − b)    (1 when b = m)
-//
-// (Clopper & Pearson 1934, Biometrika 26:404-413, citation recalled from memory;
-// quantiles from [BetaQuantile]).
+//	[CILow, CIHigh] = ClopperPearson(b, m, Level)
 //
 // It returns [ErrAllTied] (wrapped) when every observation is tied, an error when m < 1,
+// when Level is not 0 and not strictly between 0 and 1,
 // when N >= 2^31, when r is not the Ranking of (group, values, k), and ctx's error if ctx
 // is cancelled (checked before every resample, and every 65536 draws within one). It
 // does not modify group, values or r.
@@ -119,6 +123,13 @@ func KruskalWallisPermutation(ctx context.Context, group []int32, values []float
 	if opt.Resamples < 1 {
 		return Permutation{}, fmt.Errorf("kw permutation: need at least 1 resample, got %d", opt.Resamples)
 	}
+	level := opt.Level
+	if level == 0 {
+		level = DefaultPermutationLevel
+	}
+	if !(level > 0 && level < 1) {
+		return Permutation{}, fmt.Errorf("kw permutation: the interval level must lie strictly between 0 and 1, got %v", opt.Level)
+	}
 	ps, err := newPermSetup(group, values, k, r)
 	if err != nil {
 		return Permutation{}, fmt.Errorf("kw permutation: %w", err)
@@ -127,7 +138,7 @@ func KruskalWallisPermutation(ctx context.Context, group []int32, values []float
 	if err != nil {
 		return Permutation{}, fmt.Errorf("kw permutation: %w", err)
 	}
-	out, err := permutationSummary(b, opt.Resamples)
+	out, err := permutationSummary(b, opt.Resamples, level)
 	if err != nil {
 		return Permutation{}, fmt.Errorf("kw permutation: %w", err)
 	}
@@ -136,8 +147,9 @@ func KruskalWallisPermutation(ctx context.Context, group []int32, values []float
 }
 
 // permutationSummary turns b exceedances in m resamples into the estimate, its
-// standard error and its 99% Clopper-Pearson interval (see [KruskalWallisPermutation]).
-func permutationSummary(b, m int64) (Permutation, error) {
+// standard error and its Clopper-Pearson interval at level (see
+// [KruskalWallisPermutation]).
+func permutationSummary(b, m int64, level float64) (Permutation, error) {
 	if m < 1 || b < 0 || b > m {
 		return Permutation{}, fmt.Errorf("summary: need 0 <= b <= m, m >= 1, got b = %d, m = %d", b, m)
 	}
@@ -148,22 +160,46 @@ func permutationSummary(b, m int64) (Permutation, error) {
 		Exceed:    b,
 		P:         (fb + 1) / (fm + 1),
 		SE:        math.Sqrt(float64(ph*(1-ph)) / fm),
-		CILow:     0,
-		CIHigh:    1,
+		Level:     level,
 	}
-	alpha := 1 - permutationLevel
 	var err error
+	if out.CILow, out.CIHigh, err = ClopperPearson(b, m, level); err != nil {
+		return Permutation{}, fmt.Errorf("permutation: %w", err)
+	}
+	return out, nil
+}
+
+// ClopperPearson returns the exact (Clopper-Pearson) confidence interval at level for
+// the success probability of a binomial count b in m trials:
+//
+//	low  = Beta⁻¹((1 − level)/2; b, m − b + 1)      (0 when b = 0)
+//	high = Beta⁻¹((1 + level)/2; b + 1, m − b)      (1 when b = m)
+//
+// (Clopper & Pearson 1934, Biometrika 26:404-413, citation recalled from memory; the
+// Beta form of the binomial tails is common practice), with the quantiles from
+// [BetaQuantile], so the ends are the same bits on every architecture. It returns an
+// error unless 0 <= b <= m, m >= 1 and 0 < level < 1 (NaN included).
+func ClopperPearson(b, m int64, level float64) (low, high float64, err error) {
+	if m < 1 || b < 0 || b > m {
+		return 0, 0, fmt.Errorf("clopper-pearson interval: need 0 <= b <= m, m >= 1, got b = %d, m = %d", b, m)
+	}
+	if !(level > 0 && level < 1) {
+		return 0, 0, fmt.Errorf("clopper-pearson interval: the level must lie strictly between 0 and 1, got %v", level)
+	}
+	fb, fm := float64(b), float64(m)
+	tail := (1 - level) / 2
+	low, high = 0, 1
 	if b > 0 {
-		if out.CILow, err = BetaQuantile(alpha/2, fb, fm-fb+1); err != nil {
-			return Permutation{}, fmt.Errorf("permutation: interval: %w", err)
+		if low, err = BetaQuantile(tail, fb, fm-fb+1); err != nil {
+			return 0, 0, fmt.Errorf("clopper-pearson interval: %w", err)
 		}
 	}
 	if b < m {
-		if out.CIHigh, err = BetaQuantile(1-alpha/2, fb+1, fm-fb); err != nil {
-			return Permutation{}, fmt.Errorf("permutation: interval: %w", err)
+		if high, err = BetaQuantile(1-tail, fb+1, fm-fb); err != nil {
+			return 0, 0, fmt.Errorf("clopper-pearson interval: %w", err)
 		}
 	}
-	return out, nil
+	return low, high, nil
 }
 
 // permSetup is what every worker shares: the doubled rank of each row, the original

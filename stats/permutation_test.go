@@ -32,9 +32,9 @@ var (
 	inventedP03 = [][]float64{{3.1, 4.7, 2.2, 5.0}, {4.1, 5.9, 6.3, 3.8, 4.4}, {2.2, 4.4, 3.3}}
 )
 
-// plantGrowthExactP is the exact conditional p of PlantGrowth from docs/methods.md §1.5 [V]
+// dobson1983PlantWeightsExactP is the exact conditional p of the Dobson (1983) plant weights from docs/methods.md §1.5 [V]
 // (a DP over tie blocks there, with a Monte Carlo check); it is printed to 6 decimals.
-const plantGrowthExactP = 0.014592
+const dobson1983PlantWeightsExactP = 0.014592
 
 // permRun runs KruskalWallisPermutation on groups (rows in group order).
 func permRun(t testing.TB, groups [][]float64, opt PermutationOptions) Permutation {
@@ -217,13 +217,13 @@ func TestPermutationConvergence(t *testing.T) {
 		groups [][]float64
 		exact  float64
 	}{
-		{"tied toy", tiedToy, 47.0 / 1925},                                // docs/methods.md §1.5 [V], brute force
-		{"invented p 0.3", inventedP03, float64(hitsB) / float64(totalB)}, // brute force: 2857/9240
-		{"PlantGrowth", plantGrowth, plantGrowthExactP},                   // docs/methods.md §1.5 [V]
+		{"tied toy", tiedToy, 47.0 / 1925},                                               // docs/methods.md §1.5 [V], brute force
+		{"invented p 0.3", inventedP03, float64(hitsB) / float64(totalB)},                // brute force: 2857/9240
+		{"Dobson1983PlantWeights", dobson1983PlantWeights, dobson1983PlantWeightsExactP}, // docs/methods.md §1.5 [V]
 	}
 	for i, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			p := permRun(t, c.groups, PermutationOptions{Seed: uint64(1000 + i), AnalysisID: "convergence", Resamples: 1_000_000})
+			p := permRun(t, c.groups, PermutationOptions{Seed: uint64(1000 + i), AnalysisID: "convergence", Resamples: 1_000_000, Level: 0.99})
 			if !(p.CILow <= c.exact && c.exact <= p.CIHigh) {
 				t.Errorf("exact p %.6f outside the 99%% interval [%.6f, %.6f] (P = %.6f, b = %d)", c.exact, p.CILow, p.CIHigh, p.P, p.Exceed)
 			}
@@ -273,12 +273,12 @@ func TestPermutationStreams(t *testing.T) {
 }
 
 // TestPermutationOneResample: m = 1 gives b in {0, 1}; the tied toy with seed 12345
-// gives b = 0 (Python reference), so P = 1/2, SE = 0 and the interval is
-// [0, Beta⁻¹(0.995; 1, 1)] = [0, 0.995] (scipy 1.10.1 stats.beta.ppf).
+// gives b = 0 (Python reference), so P = 1/2, SE = 0 and the interval at the default
+// level 0.95 is [0, Beta⁻¹(0.975; 1, 1)] = [0, 0.975] (scipy 1.10.1 stats.beta.ppf).
 func TestPermutationOneResample(t *testing.T) {
 	p := permRun(t, tiedToy, PermutationOptions{Seed: 12345, AnalysisID: "tied-toy", Resamples: 1})
-	want := Permutation{Resamples: 1, Exceed: 0, P: 0.5, SE: 0, CILow: 0, CIHigh: 0.995, Comparison: ComparisonExact}
-	if p.Resamples != want.Resamples || p.Exceed != want.Exceed || p.P != want.P || p.SE != want.SE ||
+	want := Permutation{Resamples: 1, Exceed: 0, P: 0.5, SE: 0, Level: 0.95, CILow: 0, CIHigh: 0.975, Comparison: ComparisonExact}
+	if p.Resamples != want.Resamples || p.Exceed != want.Exceed || p.P != want.P || p.SE != want.SE || p.Level != want.Level ||
 		p.CILow != want.CILow || math.Abs(p.CIHigh-want.CIHigh) > 1e-12 || p.Comparison != want.Comparison {
 		t.Errorf("m = 1: %+v, want %+v", p, want)
 	}
@@ -291,7 +291,7 @@ func TestPermutationSummary(t *testing.T) {
 	ref := loadPermRef(t)
 	for _, c := range ref.Summaries {
 		b, m := parseInt64(t, c.B), parseInt64(t, c.M)
-		got, err := permutationSummary(b, m)
+		got, err := permutationSummary(b, m, 0.99)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -318,7 +318,7 @@ func TestPermutationSummary(t *testing.T) {
 		{2457, 99999, 0.024580, 0.000490, 0.023327, 0.025859},
 	}
 	for _, c := range methods {
-		got, _ := permutationSummary(c.b, c.m)
+		got, _ := permutationSummary(c.b, c.m, 0.99)
 		for _, f := range []struct {
 			name      string
 			got, want float64
@@ -330,11 +330,11 @@ func TestPermutationSummary(t *testing.T) {
 	}
 	// Counts above 2^53 stay exact.
 	big1, big2 := int64(1)<<60+1, int64(1)<<61+3
-	if got, _ := permutationSummary(big1, big2); got.Exceed != big1 || got.Resamples != big2 {
+	if got, _ := permutationSummary(big1, big2, 0.99); got.Exceed != big1 || got.Resamples != big2 {
 		t.Errorf("counts above 2^53 changed: %d, %d", got.Exceed, got.Resamples)
 	}
 	for _, c := range [][2]int64{{-1, 10}, {11, 10}, {0, 0}} {
-		if _, err := permutationSummary(c[0], c[1]); err == nil {
+		if _, err := permutationSummary(c[0], c[1], 0.99); err == nil {
 			t.Errorf("permutationSummary(%d, %d): no error", c[0], c[1])
 		}
 	}
@@ -609,7 +609,7 @@ func TestPermutationWideArithmetic(t *testing.T) {
 // summation by one ulp (1062.6666666666665 or ...667), so without the relative
 // tolerance the float rule would miss ties with the observed statistic.
 func TestPermutationRulesAgree(t *testing.T) {
-	designs := [][][]float64{tiedToy, inventedP03, plantGrowth}
+	designs := [][][]float64{tiedToy, inventedP03, dobson1983PlantWeights}
 	ulp := [][]float64{{1, 2, 3}, {4, 6, 9}, {5, 7, 8}}
 	for _, order := range [][3]int{{0, 1, 2}, {0, 2, 1}, {1, 0, 2}, {1, 2, 0}, {2, 0, 1}, {2, 1, 0}} {
 		designs = append(designs, [][]float64{ulp[order[0]], ulp[order[1]], ulp[order[2]]})
@@ -643,7 +643,7 @@ func TestPermutationRulesAgree(t *testing.T) {
 // TestPermutationFusedShuffle: the resampling loop leaves the label array exactly as
 // stream.ShuffleInt32 does, and counts as a plain recount does.
 func TestPermutationFusedShuffle(t *testing.T) {
-	g, v := flatten(plantGrowth)
+	g, v := flatten(dobson1983PlantWeights)
 	ps := mustPermSetup(t, g, v, 3)
 	opt := PermutationOptions{Seed: 11, AnalysisID: "fused"}
 	a := make([]int32, len(g))
@@ -683,6 +683,7 @@ type permGolden struct {
 	Exceed     string  `json:"exceed"`
 	P          float64 `json:"p"`
 	SE         float64 `json:"se"`
+	CILevel    float64 `json:"ci_level"`
 	CILow      float64 `json:"ci_low"`
 	CIHigh     float64 `json:"ci_high"`
 	Comparison string  `json:"comparison"`
@@ -704,6 +705,7 @@ func TestPermutationGolden(t *testing.T) {
 		Exceed:     strconv.FormatInt(p.Exceed, 10),
 		P:          p.P,
 		SE:         p.SE,
+		CILevel:    p.Level,
 		CILow:      p.CILow,
 		CIHigh:     p.CIHigh,
 		Comparison: p.Comparison,
@@ -729,7 +731,7 @@ func TestPermutationGolden(t *testing.T) {
 	// Exceed must match exactly; the float fields are compared at 1e-12 because they
 	// pass through gonum's Beta quantile and JSON.
 	if got.Scheme != want.Scheme || got.Exceed != want.Exceed || got.Resamples != want.Resamples ||
-		got.Comparison != want.Comparison || !relClose(got.P, want.P, 1e-15) || !relClose(got.SE, want.SE, 1e-12) ||
+		got.Comparison != want.Comparison || got.CILevel != want.CILevel || !relClose(got.P, want.P, 1e-15) || !relClose(got.SE, want.SE, 1e-12) ||
 		!relClose(got.CILow, want.CILow, 1e-12) || !relClose(got.CIHigh, want.CIHigh, 1e-12) {
 		t.Errorf("the permutation p-value no longer reproduces %s: reproducibility is broken\n got  %+v\n want %+v", path, got, want)
 	}
@@ -750,8 +752,133 @@ func ExampleKruskalWallisPermutation() {
 		fmt.Println(err)
 		return
 	}
-	fmt.Printf("b = %d of m = %d, p = %.4f, 99%% interval [%.4f, %.4f], %s\n",
-		p.Exceed, p.Resamples, p.P, p.CILow, p.CIHigh, p.Comparison)
+	fmt.Printf("b = %d of m = %d, p = %.4f, %g%% interval [%.4f, %.4f], %s\n",
+		p.Exceed, p.Resamples, p.P, 100*p.Level, p.CILow, p.CIHigh, p.Comparison)
 	// Output:
-	// b = 221 of m = 10000, p = 0.0222, 99% interval [0.0185, 0.0262], exact-integer
+	// b = 221 of m = 10000, p = 0.0222, 95% interval [0.0193, 0.0252], exact-integer
+}
+
+// TestClopperPearsonScipy checks ClopperPearson at the levels 0.95, 0.99, 0.9 and 0.5
+// against testdata/reference/clopper_pearson_scipy.json: where the file has them, the
+// ends solved in mpmath 1.2.1 at 40 digits from short binomial sums, to the accuracy
+// documented on Permutation (relative error below tol = max(1e-12, 1e-17·m)); scipy 1.10.1
+// stats.beta.ppf within 2·tol (scipy itself is off from mpmath by up to 1.4e-10 relative
+// at m = 10^7, as the file shows); and scipy's binomtest(b, m).proportion_ci(method="exact"),
+// which finds the ends as roots of the binomial tails, within 1e-12 absolute (it differs
+// from beta.ppf by up to 5e-13).
+func TestClopperPearsonScipy(t *testing.T) {
+	var ref struct {
+		Cases []struct {
+			B, M             int64
+			Level, Low, High float64
+			BinomLow         float64  `json:"binomtest_low"`
+			BinomHigh        float64  `json:"binomtest_high"`
+			MpLow            *float64 `json:"mpmath_low"`
+			MpHigh           *float64 `json:"mpmath_high"`
+		} `json:"cases"`
+	}
+	b, err := os.ReadFile("../testdata/reference/clopper_pearson_scipy.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	levels := map[float64]int{}
+	mp := 0
+	for _, c := range ref.Cases {
+		levels[c.Level]++
+		lo, hi, err := ClopperPearson(c.B, c.M, c.Level)
+		if err != nil {
+			t.Errorf("b = %d, m = %d, level %v: %v", c.B, c.M, c.Level, err)
+			continue
+		}
+		tol := max(1e-12, 1e-17*float64(c.M))
+		for _, e := range []struct {
+			name string
+			got  float64
+			want *float64
+		}{{"low", lo, c.MpLow}, {"high", hi, c.MpHigh}} {
+			if e.want == nil {
+				continue
+			}
+			mp++
+			if !relClose(e.got, *e.want, tol) {
+				t.Errorf("b = %d, m = %d, level %v: %s = %.17g, mpmath %.17g (tolerance %.1g)", c.B, c.M, c.Level, e.name, e.got, *e.want, tol)
+			}
+		}
+		if !relClose(lo, c.Low, 2*tol) || !relClose(hi, c.High, 2*tol) {
+			t.Errorf("b = %d, m = %d, level %v: [%.17g, %.17g], scipy beta.ppf [%.17g, %.17g] (tolerance %.1g)", c.B, c.M, c.Level, lo, hi, c.Low, c.High, 2*tol)
+		}
+		if math.Abs(lo-c.BinomLow) > 1e-12 || math.Abs(hi-c.BinomHigh) > 1e-12 {
+			t.Errorf("b = %d, m = %d, level %v: [%.17g, %.17g], scipy binomtest [%.17g, %.17g]", c.B, c.M, c.Level, lo, hi, c.BinomLow, c.BinomHigh)
+		}
+		if c.B == 0 && lo != 0 || c.B == c.M && hi != 1 {
+			t.Errorf("b = %d, m = %d, level %v: [%v, %v] is not closed at the end the count reaches", c.B, c.M, c.Level, lo, hi)
+		}
+	}
+	if levels[0.95] < 40 || len(levels) != 4 || mp < 200 {
+		t.Errorf("reference levels %v, %d mpmath ends: expected four levels, at least 40 cases at 0.95 and 200 mpmath ends", levels, mp)
+	}
+}
+
+// TestClopperPearsonWorked checks worked values: the 95% interval of b = 221 in
+// m = 10000 (scipy 1.10.1 stats.beta.ppf: [0.01930852055855326, 0.025174383042594933]),
+// the 95% column of docs/methods.md §1.6,
+// [0, 0.975] for b = 0 of m = 1 (Beta⁻¹(0.975; 1, 1) = 0.975, the uniform distribution:
+// common practice), and that a wider level gives a wider interval.
+func TestClopperPearsonWorked(t *testing.T) {
+	for _, c := range []struct {
+		b, m      int64
+		level     float64
+		low, high float64
+	}{
+		{221, 10000, 0.95, 0.01930852055855326, 0.025174383042594933},
+		// docs/methods.md §1.6, 95% column (scipy 1.10.1 stats.beta.ppf).
+		{17, 999, 0.95, 0.00994348669519334, 0.027106463955994746},
+		{236, 9999, 0.95, 0.02071624593113206, 0.026770320732124018},
+		{2457, 99999, 0.95, 0.02361953615837806, 0.0255486656982716},
+		{0, 1, 0.95, 0, 0.975},
+		{1, 1, 0.95, 0.025, 1},
+		{0, 1, 0.99, 0, 0.995},
+	} {
+		lo, hi, err := ClopperPearson(c.b, c.m, c.level)
+		if err != nil || !relClose(lo, c.low, 1e-12) || !relClose(hi, c.high, 1e-12) {
+			t.Errorf("ClopperPearson(%d, %d, %v) = [%.17g, %.17g], %v; want [%.17g, %.17g]", c.b, c.m, c.level, lo, hi, err, c.low, c.high)
+		}
+	}
+	lo95, hi95, _ := ClopperPearson(221, 10000, 0.95)
+	lo99, hi99, _ := ClopperPearson(221, 10000, 0.99)
+	if !(lo99 < lo95 && hi95 < hi99) {
+		t.Errorf("99%% interval [%v, %v] does not contain the 95%% interval [%v, %v]", lo99, hi99, lo95, hi95)
+	}
+}
+
+// TestClopperPearsonErrors: counts out of range and levels outside (0, 1) are errors.
+func TestClopperPearsonErrors(t *testing.T) {
+	for _, c := range []struct {
+		name  string
+		b, m  int64
+		level float64
+	}{
+		{"level NaN", 1, 10, math.NaN()},
+		{"level 0", 1, 10, 0},
+		{"level -0", 1, 10, math.Copysign(0, -1)},
+		{"level 1", 1, 10, 1},
+		{"level +Inf", 1, 10, math.Inf(1)},
+		{"level -Inf", 1, 10, math.Inf(-1)},
+		{"level 1e308", 1, 10, 1e308},
+		{"b negative", -1, 10, 0.95},
+		{"b above m", 11, 10, 0.95},
+		{"no trials", 0, 0, 0.95},
+	} {
+		if lo, hi, err := ClopperPearson(c.b, c.m, c.level); err == nil {
+			t.Errorf("%s: no error, got [%v, %v]", c.name, lo, hi)
+		}
+	}
+	// A subnormal level is legal: both tails are 1/2 in float64, so the ends meet at the
+	// median of the two Beta distributions, low <= high.
+	if lo, hi, err := ClopperPearson(1, 10, 5e-324); err != nil || !(lo > 0 && lo <= hi && hi < 1) {
+		t.Errorf("subnormal level: [%v, %v], %v", lo, hi, err)
+	}
 }

@@ -9,8 +9,8 @@ import (
 )
 
 // TestPostHocReference compares Dunn and Conover-Iman with an independent computation
-// from the formulas with scipy 1.10.1 (testdata/reference/posthoc_scipy.py), on PlantGrowth
-// and two invented sets with ties and unequal sizes. PlantGrowth also matches docs/methods.md
+// from the formulas with scipy 1.10.1 (testdata/reference/posthoc_scipy.py), on the Dobson (1983) plant weights
+// and two invented sets with ties and unequal sizes. The Dobson (1983) plant weights also match docs/methods.md
 // §3.1-3.2 [V]: z = 1.117725, -1.689290, -2.807015; t = 1.267026, -1.914938, -3.181964.
 func TestPostHocReference(t *testing.T) {
 	b, err := os.ReadFile("../testdata/reference/posthoc_scipy.json")

@@ -10,7 +10,7 @@ import (
 
 // TestRankSumScipy compares with scipy 1.10.1 stats.mannwhitneyu (two-sided):
 // testdata/reference/ranksum_scipy.py. The exact p only on data without ties (scipy's
-// exact method ignores ties); PlantGrowth also matches docs/methods.md §3.6 [V].
+// exact method ignores ties); the Dobson (1983) plant weights also match docs/methods.md §3.6 [V].
 func TestRankSumScipy(t *testing.T) {
 	b, err := os.ReadFile("../testdata/reference/ranksum_scipy.json")
 	if err != nil {

@@ -155,6 +155,9 @@ func (fl *initFlags) apply(c *cobra.Command, o *runner.DraftOptions) error {
 			return usageErrorf("init: %s %q: not valid UTF-8 text", f.flag, f.val)
 		}
 	}
+	if name, ok := spec.RenamedAdjustment(string(o.Adjust)); ok {
+		return usageErrorf("init: --adjust %q is no longer a method name; write %s", o.Adjust, name)
+	}
 	if o.Group == o.Outcome {
 		return usageErrorf("init: --group and --outcome both name %q; the outcome must be another column than the group", o.Group)
 	}

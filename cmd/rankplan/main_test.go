@@ -90,12 +90,12 @@ func rankplanBinary(t *testing.T) string {
 // as .ci/run sets it); scripts ask with the condition [exhaustive].
 func exhaustive() bool { return os.Getenv("RANKPLAN_EXHAUSTIVE") == "1" }
 
-// wrongSelftestCase is PlantGrowth's H* (7.988229, scipy 1.10.1 stats.kruskal on Dobson's
+// wrongSelftestCase is H* of the Dobson (1983) plant weights (7.988229, scipy 1.10.1 stats.kruskal on Dobson's
 // 1983 data) with a deliberately wrong expected value.
 func wrongSelftestCase() selftest.Case {
 	return selftest.Case{
-		ID: "injected-wrong-h", Checks: "H* of PlantGrowth against a deliberately wrong value",
-		Compute: "kw.h", Input: selftest.Input{Dataset: "plant-growth"}, Expected: selftest.NumberValue(7.9),
+		ID: "injected-wrong-h", Checks: "H* of the Dobson (1983) plant weights against a deliberately wrong value",
+		Compute: "kw.h", Input: selftest.Input{Dataset: "dobson1983-plant-weights"}, Expected: selftest.NumberValue(7.9),
 		Tolerance: selftest.Tolerance{Abs: 5e-7, Why: "half a unit in the 6th decimal"},
 		Source:    selftest.Source{Reference: "a wrong value, for the tests of the failure path", Origin: "cmd/rankplan/main_test.go"},
 	}

@@ -32,13 +32,13 @@ func clock() func() time.Time {
 
 func noEnv(string) string { return "" }
 
-// wrongCase is a case added by the tests only: PlantGrowth's H* (7.988229, scipy 1.10.1
+// wrongCase is a case added by the tests only: H* of the Dobson (1983) plant weights (7.988229, scipy 1.10.1
 // stats.kruskal on Dobson's 1983 data) with a deliberately wrong expected value, so that the
 // failure path can be seen.
 func wrongCase() Case {
 	return Case{
-		ID: "injected-wrong-h", Checks: "H* of PlantGrowth against a deliberately wrong value <b>&</b>",
-		Compute: "kw.h", Input: Input{Dataset: "plant-growth"}, Expected: NumberValue(7.9),
+		ID: "injected-wrong-h", Checks: "H* of the Dobson (1983) plant weights against a deliberately wrong value <b>&</b>",
+		Compute: "kw.h", Input: Input{Dataset: "dobson1983-plant-weights"}, Expected: NumberValue(7.9),
 		Tolerance: Tolerance{Abs: 5e-7, Why: "half a unit in the 6th decimal"},
 		Source:    Source{Reference: `a wrong value, for the tests of the failure path "<script>"`, Origin: "runner/selftest/selftest_test.go wrongCase"},
 	}
@@ -642,7 +642,7 @@ func TestSelftestInjectedFailure(t *testing.T) {
 	for _, re := range []string{
 		`(?m)^FAIL +injected-wrong-h +7\.9 +7\.98822874944\d* +abs 5e-07 `,
 		`(?m)^ {10}obtained 7\.98822874944\d*, expected 7\.9, outside abs 5e-07$`,
-		`(?m)^PASS +kw-plant-growth-h `,
+		`(?m)^PASS +kw-dobson1983-plant-weights-h `,
 		`(?m)^\d+ cases: \d+ passed, 1 failed$`,
 		`(?m)^SELFTEST FAILED: 1 of \d+ cases`,
 		`(?m)^  cases +\d+ from cases/cases\.json sha256:[0-9a-f]{64} \(embedded\), and 1 added$`,

@@ -9,10 +9,11 @@ Every value comes from statsmodels.stats.multitest.multipletests (Debian bookwor
 python3-statsmodels). Its default method is Holm-Sidak ('hs'), not plain Holm, so the
 method is always passed explicitly. rankplan name -> statsmodels name:
 
-    bonferroni -> 'bonferroni'      holm     -> 'holm'
-    sidak      -> 'sidak'           hochberg -> 'simes-hochberg'
-    hommel     -> 'hommel'          bh       -> 'fdr_bh'
-    by         -> 'fdr_by'
+    bonferroni         -> 'bonferroni'      holm     -> 'holm'
+    sidak              -> 'sidak'           hochberg -> 'simes-hochberg'
+    hommel             -> 'hommel'
+    benjamini-hochberg -> 'fdr_bh'
+    benjamini-yekutieli -> 'fdr_by'
 
 Vectors: "methods_section4" is the 10-value vector with a tie from the project's
 docs/methods.md section 4. All the other vectors were invented for these tests and describe
@@ -33,8 +34,8 @@ METHODS = {
     "holm": "holm",
     "hochberg": "simes-hochberg",
     "hommel": "hommel",
-    "bh": "fdr_bh",
-    "by": "fdr_by",
+    "benjamini-hochberg": "fdr_bh",
+    "benjamini-yekutieli": "fdr_by",
 }
 
 ALPHA = 0.05

@@ -16,7 +16,7 @@ Nemenyi: joint midranks of all groups by rankdata, sigma2 = the sample variance 
     midranks (ddof = 1), q = (Rbar_i - Rbar_j)/sqrt(sigma2 (1/n_i + 1/n_j)/2),
     p = studentized_range.sf(|q|, k, inf).
 
-Data: PlantGrowth (Dobson 1983, as in docs/methods.md section 8.2) and three data sets invented
+Data: the plant weights of Dobson (1983, as in docs/methods.md section 8.2) and three data sets invented
 for this test (with ties and unequal group sizes); they describe nothing real.
 """
 import json
@@ -28,7 +28,7 @@ import scipy
 from scipy.stats import rankdata, studentized_range
 
 DATA = [
-    {"name": "PlantGrowth (Dobson 1983)",
+    {"name": "plant weights (Dobson 1983)",
      "groups": [[4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14],
                 [4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69],
                 [6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26]]},

@@ -20,7 +20,7 @@ What it writes (JSON on stdout):
   ("linear", Hyndman & Fan 1996 type 7).
 
 Data sets: every set named "invented_*" was made up for these tests and describes
-nothing real. PlantGrowth is the published data set of Dobson (1983), "An
+nothing real. The plant weights are the published data set of Dobson (1983), "An
 Introduction to Statistical Modelling", as listed in the project's docs/methods.md §8.2.
 SmLs01 is read from the NIST StRD file copied to stats/testdata/nist/SmLs01.dat;
 SmLs02 and SmLs03 are rebuilt from the structure of those files (see smls_design).
@@ -91,7 +91,7 @@ def same_multisets(a, b):
     return len(a) == len(b) and all(sorted(x) == sorted(y) for x, y in zip(a, b))
 
 
-PLANT_GROWTH = [
+DOBSON1983_PLANT_WEIGHTS = [
     [4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14],
     [4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69],
     [6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26],
@@ -178,7 +178,7 @@ def main():
             print(name + ": matches smls_design(%d)" % scale, file=sys.stderr)
 
     kw = [kruskal_entry(n, s, [[float(v) for v in g] for g in gs]) for n, s, gs in INVENTED]
-    kw.append(kruskal_entry("plant_growth", "Dobson (1983), data as in docs/methods.md §8.2", PLANT_GROWTH))
+    kw.append(kruskal_entry("dobson1983_plant_weights", "Dobson (1983), data as in docs/methods.md §8.2", DOBSON1983_PLANT_WEIGHTS))
     kw.append(kruskal_entry("nist_smls01", "NIST StRD SmLs01 (Simon & Lesage 1989), file copy",
                             smls01, {"nist_file": SMLS01_PATH}))
     kw.append(kruskal_entry("nist_smls02_design", "NIST StRD SmLs02 structure, rebuilt",
@@ -213,9 +213,9 @@ def main():
         ("five_ties", [2.0, 2.0, 2.0, 5.0, 9.0]),
         ("negatives", [-3.2, -1.1, -1.1, 0.0, 0.4, 2.75, 8.0]),
         ("decimals", [0.1, 0.2, 0.3, 0.7, 1.1, 1.3]),
-        ("plant_growth_ctrl", sorted(PLANT_GROWTH[0])),
-        ("plant_growth_trt1", sorted(PLANT_GROWTH[1])),
-        ("plant_growth_trt2", sorted(PLANT_GROWTH[2])),
+        ("dobson1983_plant_weights_ctrl", sorted(DOBSON1983_PLANT_WEIGHTS[0])),
+        ("dobson1983_plant_weights_trt1", sorted(DOBSON1983_PLANT_WEIGHTS[1])),
+        ("dobson1983_plant_weights_trt2", sorted(DOBSON1983_PLANT_WEIGHTS[2])),
         ("invented_scores", sorted(float(v) for v in INVENTED[0][2][1])),
         ("large_offset", [1e12 + 0.1, 1e12 + 0.2, 1e12 + 0.3, 1e12 + 0.5]),
     ]

@@ -106,7 +106,7 @@ def interval(x, df, level):
 intervals = []
 for df in [1, 2, 3, 5, 11]:
     # 2.114325393362999: H* of the sleep analysis of examples/cream-trial (N = 60, k = 3);
-    # 7.988228749443715: H* of PlantGrowth (Dobson 1983; kruskal_scipy.json).
+    # 7.988228749443715: H* of the plant weights of Dobson (1983; kruskal_scipy.json).
     for x in [0.01, 0.5, 2.114325393362999, 5, 7.988228749443715, 12.5, 40, 250, 3000]:
         for level in [0.8, 0.9, 0.95, 0.99]:
             lo, hi = interval(x, df, level)

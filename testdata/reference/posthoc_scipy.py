@@ -11,7 +11,7 @@ scipy.stats.norm.sf and t tails from scipy.stats.t.sf.
 Dunn (1964): z = (Rbar_i - Rbar_j) / sqrt(S2 (1/n_i + 1/n_j)), p = 2 sf(|z|).
 Conover & Iman (1979): MSE = S2 (N - 1 - H*) / (N - k), t = (Rbar_i - Rbar_j) / sqrt(MSE (1/n_i + 1/n_j)),
 p = 2 t.sf(|t|, N - k).
-Data: PlantGrowth (Dobson 1983, as in docs/methods.md section 8.2) and two invented sets (invented
+Data: the plant weights of Dobson (1983, as in docs/methods.md section 8.2) and two invented sets (invented
 for these tests: ties and unequal sizes).
 """
 import json
@@ -22,7 +22,7 @@ import scipy
 from scipy import stats
 
 SETS = {
-    "plant_growth": [
+    "dobson1983_plant_weights": [
         [4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14],
         [4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69],
         [6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26]],

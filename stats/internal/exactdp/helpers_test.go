@@ -75,28 +75,28 @@ func relClose(got, want, tol float64) bool {
 	return math.Abs(got-want) <= tol*math.Abs(want)
 }
 
-// plantGrowth reads the PlantGrowth data (Dobson 1983) from
-// testdata/reference/exact_plantgrowth.json, where exact_plantgrowth.py froze them with
+// dobson1983PlantWeights reads the plant weights of Dobson (1983) from
+// testdata/reference/exact_dobson1983.json, where exact_dobson1983.py froze them with
 // the exact count of assignments.
-func plantGrowth(t *testing.T) (groups [][]float64, count, total int64) {
+func dobson1983PlantWeights(t *testing.T) (groups [][]float64, count, total int64) {
 	t.Helper()
 	var ref struct {
-		PlantGrowth struct {
+		Dobson1983PlantWeights struct {
 			Groups       [][]float64 `json:"groups"`
 			Count, Total int64
-		} `json:"plant_growth"`
+		} `json:"dobson1983_plant_weights"`
 	}
-	b, err := os.ReadFile("../../../testdata/reference/exact_plantgrowth.json")
+	b, err := os.ReadFile("../../../testdata/reference/exact_dobson1983.json")
 	if err != nil {
 		t.Fatal(err)
 	}
 	if err := json.Unmarshal(b, &ref); err != nil {
 		t.Fatal(err)
 	}
-	if len(ref.PlantGrowth.Groups) != 3 {
-		t.Fatalf("exact_plantgrowth.json: %d groups", len(ref.PlantGrowth.Groups))
+	if len(ref.Dobson1983PlantWeights.Groups) != 3 {
+		t.Fatalf("exact_dobson1983.json: %d groups", len(ref.Dobson1983PlantWeights.Groups))
 	}
-	return ref.PlantGrowth.Groups, ref.PlantGrowth.Count, ref.PlantGrowth.Total
+	return ref.Dobson1983PlantWeights.Groups, ref.Dobson1983PlantWeights.Count, ref.Dobson1983PlantWeights.Total
 }
 
 // TestDesign checks the ranking helper on a small case worked by hand: values

@@ -295,12 +295,12 @@ func TestMoments(t *testing.T) {
 	}
 }
 
-// TestPlantGrowthUnpruned runs the PlantGrowth data (Dobson 1983) with and without the
+// TestDobson1983PlantWeightsUnpruned runs the plant weights of Dobson (1983) with and without the
 // bounds of settle: the same p within 1e-13, the exact fraction count/total of
-// exact_plantgrowth.json (Python's exact integers over every assignment) within 1e-12,
+// exact_dobson1983.json (Python's exact integers over every assignment) within 1e-12,
 // and fewer states with the bounds.
-func TestPlantGrowthUnpruned(t *testing.T) {
-	groups, count, total := plantGrowth(t)
+func TestDobson1983PlantWeightsUnpruned(t *testing.T) {
+	groups, count, total := dobson1983PlantWeights(t)
 	d := design(t, groups)
 	pl, err := newPlan(d.counts, d.blocks)
 	if err != nil {

@@ -11,7 +11,7 @@ scipy.stats.kruskal (a resample with all values tied counts as H* = 0); the inte
 ends are numpy.percentile (method "linear", Hyndman & Fan type 7) of the sorted H* at
 (1 - level)/2 and (1 + level)/2, in percent.
 
-Data: PlantGrowth (Dobson 1983, An Introduction to Statistical Modelling, as listed in
+Data: the plant weights of Dobson (1983, An Introduction to Statistical Modelling, as listed in
 docs/methods.md §8.2), and two invented sets (invented for these tests).
 """
 
@@ -31,7 +31,7 @@ BLOCK = 256
 PURPOSE = "kw-effect-bootstrap"
 
 DESIGNS = [
-    {"name": "plant_growth", "seed": 20261201, "id": "primary", "m": 600, "level": 0.95, "groups": [
+    {"name": "dobson1983_plant_weights", "seed": 20261201, "id": "primary", "m": 600, "level": 0.95, "groups": [
         [4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14],
         [4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69],
         [6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26]]},

@@ -17,7 +17,7 @@ Three independent parts:
    (scipy version recorded below).
 
 Data: the tied toy set of docs/methods.md §1.5 (constructed there), an invented set with
-p near 0.3 (invented for these tests), and PlantGrowth (Dobson 1983, An Introduction to
+p near 0.3 (invented for these tests), and the plant weights of Dobson (1983, An Introduction to
 Statistical Modelling, as listed in docs/methods.md §8.2).
 """
 
@@ -40,7 +40,7 @@ BLOCK = 4096
 DESIGNS = {
     "tied-toy": [[1, 2, 2, 3], [2, 3, 3, 4], [3, 4, 5, 5]],
     "invented-p03": [[3.1, 4.7, 2.2, 5.0], [4.1, 5.9, 6.3, 3.8, 4.4], [2.2, 4.4, 3.3]],
-    "plantgrowth": [
+    "dobson1983": [
         [4.17, 5.58, 5.18, 6.11, 4.50, 4.61, 5.17, 4.53, 5.33, 5.14],
         [4.81, 4.17, 4.41, 3.59, 5.87, 3.83, 6.03, 4.89, 4.32, 4.69],
         [6.31, 5.12, 5.54, 5.50, 5.37, 5.29, 4.92, 6.15, 5.80, 5.26],
@@ -133,7 +133,7 @@ def main():
         ("tied-toy", 12345, "tied-toy", 10000),
         ("tied-toy", 12345, "tied-toy", 1),
         ("invented-p03", 7, "design-b", 9000),
-        ("plantgrowth", 99, "plantgrowth", 5000),
+        ("dobson1983", 99, "dobson1983", 5000),
     ]
     for name, seed, aid, m in runs:
         out["runs"].append({"design": name, "groups": DESIGNS[name], "seed": str(seed), "analysis_id": aid,

@@ -1,14 +1,14 @@
 #!/usr/bin/python3
-"""The exact conditional Kruskal-Wallis p-value of PlantGrowth, counted in exact integers.
+"""The exact conditional Kruskal-Wallis p-value of the Dobson (1983) plant weights, counted in exact integers.
 
 Run from the repository root:
-    /usr/bin/python3 testdata/reference/exact_plantgrowth.py > testdata/reference/exact_plantgrowth.json
+    /usr/bin/python3 testdata/reference/exact_dobson1983.py > testdata/reference/exact_dobson1983.json
 
 It takes a few seconds and about half a gigabyte of memory.
 
-Data: PlantGrowth (Dobson 1983, An Introduction to Statistical Modelling), three groups of
-10 dried plant weights, read from the PlantGrowth entry of kruskal_scipy.json beside this
-script (the values used by every other PlantGrowth reference), with one tie (4.17 in ctrl
+Data: the plant weights of Dobson (1983, An Introduction to Statistical Modelling), three groups of
+10 dried plant weights, read from the dobson1983_plant_weights entry of kruskal_scipy.json beside this
+script (the values used by every other reference on these data), with one tie (4.17 in ctrl
 and in trt1).
 
 What is computed (the definition of stats.KruskalWallisExact, checked independently):
@@ -124,7 +124,7 @@ def brute_count(groups):
 def main():
     with open(os.path.join(HERE, "kruskal_scipy.json")) as f:
         ref = json.load(f)
-    plant = next(c for c in ref["kruskal"] if c["name"] == "plant_growth")
+    plant = next(c for c in ref["kruskal"] if c["name"] == "dobson1983_plant_weights")
     groups = plant["groups"]
 
     # The programme against brute force and scipy on the tied toy data.
@@ -138,9 +138,9 @@ def main():
     count, total = exact_count(groups)
     p = Fraction(count, total)
     json.dump({
-        "generator": "testdata/reference/exact_plantgrowth.py",
+        "generator": "testdata/reference/exact_dobson1983.py",
         "versions": {"python": sys.version.split()[0], "numpy": np.__version__},
-        "plant_growth": {
+        "dobson1983_plant_weights": {
             "source": plant["source"],
             "groups": groups,
             "sizes": sizes,
