@@ -252,8 +252,6 @@ type htmlValue struct {
 	Key, Full, Log10, Text string
 }
 
-func full(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
-
 var htmlFuncs = template.FuncMap{
 	"unitSuffix": unitSuffix,
 	"key":        func(parts ...string) string { return strings.Join(parts, ".") },
@@ -266,6 +264,15 @@ var htmlFuncs = template.FuncMap{
 			return htmlValue{Key: key, Text: "—"} // not computable: no data-value
 		}
 		return htmlValue{Key: key, Full: full(*x), Text: Num(*x)}
+	},
+	// vq and vnq are v and vn for a p-value, an adjusted p-value or an end of a p-value's
+	// interval: the shown text as NumP writes it.
+	"vq": func(key string, p float64) htmlValue { return htmlValue{Key: key, Full: full(p), Text: NumP(p)} },
+	"vnq": func(key string, p *float64) htmlValue {
+		if p == nil {
+			return htmlValue{Key: key, Text: "—"} // not computable: no data-value
+		}
+		return htmlValue{Key: key, Full: full(*p), Text: NumP(*p)}
 	},
 	"vi": func(key string, n int) htmlValue {
 		s := strconv.Itoa(n)
@@ -445,13 +452,13 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 {{end}}{{with .PValue}}
 <dt>p-value</dt><dd>p = {{template "val" (vp (key $id "p") .Value .Log10)}}, {{method .Method}}{{if ne .Requested .Method}} (plan asked for {{.Requested}}){{end}}</dd>
 <dt>Why this method</dt><dd>{{.Reason}}</dd>
-{{with .MonteCarlo}}<dt>Monte Carlo</dt><dd>{{if eq .Exceedances "0"}}No resample of {{.Resamples}} reached the observed H, so the p-value shown is the smallest these resamples can give, not an estimate (its standard error {{template "val" (v (key $id "mc_se") .SE)}} says nothing here); an exact p-value or more resamples would narrow the interval; estimator {{.Estimator}};{{else}}{{.Exceedances}} of {{.Resamples}} resamples reached the observed H; estimator {{.Estimator}}; standard error {{template "val" (v (key $id "mc_se") .SE)}};{{end}} {{pct .CI.Level}} Clopper-Pearson interval [{{template "val" (v (key $id "mc_ci_low") .CI.Low)}}, {{template "val" (v (key $id "mc_ci_high") .CI.High)}}]; statistic compared as {{.Comparison}}; random stream {{.Stream}}</dd>
+{{with .MonteCarlo}}<dt>Monte Carlo</dt><dd>{{if eq .Exceedances "0"}}No resample of {{.Resamples}} reached the observed H, so the p-value shown is the smallest these resamples can give, not an estimate (its standard error {{template "val" (v (key $id "mc_se") .SE)}} says nothing here); an exact p-value or more resamples would narrow the interval; estimator {{.Estimator}};{{else}}{{.Exceedances}} of {{.Resamples}} resamples reached the observed H; estimator {{.Estimator}}; standard error {{template "val" (v (key $id "mc_se") .SE)}};{{end}} {{pct .CI.Level}} Clopper-Pearson interval [{{template "val" (vq (key $id "mc_ci_low") .CI.Low)}}, {{template "val" (vq (key $id "mc_ci_high") .CI.High)}}]; statistic compared as {{.Comparison}}; random stream {{.Stream}}</dd>
 {{end}}{{with .Exact}}<dt>Exact distribution work</dt><dd>peak {{.PeakStates}} states (budget {{.BudgetStates}}), {{.Work}} units of work (budget {{.BudgetWork}})</dd>
 {{end}}{{end}}{{with .AsymptoticP}}<dt>Asymptotic p</dt><dd>{{template "val" (vp (key $id "p_asymptotic") .Value .Log10)}} (chi-square approximation{{with $a.KruskalWallis}} with {{.DF}} df{{end}}, always shown beside the p-value used){{end}}</dd>
 </dl>
 {{with .Decision}}
 <h3>Decision</h3>
-<p class="decision">At α = {{num .Alpha}}: {{if .Reject}}<strong>the null hypothesis of identical distributions is rejected</strong>{{else}}<strong>the null hypothesis of identical distributions is not rejected</strong>{{end}}{{with .PAdjusted}} (adjusted p = {{template "val" (v (key $id "p_adjusted") .)}}){{end}}. Rule: {{.Rule}}.</p>
+<p class="decision">At α = {{num .Alpha}}: {{if .Reject}}<strong>the null hypothesis of identical distributions is rejected</strong>{{else}}<strong>the null hypothesis of identical distributions is not rejected</strong>{{end}}{{with .PAdjusted}} (adjusted p = {{template "val" (vq (key $id "p_adjusted") .)}}){{end}}. Rule: {{.Rule}}.</p>
 {{end}}{{end}}
 </section>
 {{with .EffectSizes}}<section class="effects">
@@ -478,7 +485,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <table>
 <thead><tr><th>groups</th><th class="r">Hodges-Lehmann shift</th><th>interval</th><th class="r">Cliff's δ</th><th class="r">{{.Statistic}}</th><th class="r">p</th><th class="r">{{if .Simultaneous}}simultaneous p{{else}}adjusted p{{end}}</th><th>decision</th></tr></thead>
 <tbody>
-{{range .Pairs}}<tr><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{hlinterval .}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (vn (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .NotComputable}}not computable: {{.NotComputable}}{{else if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
+{{range .Pairs}}<tr><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{hlinterval .}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (vn (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (vnq (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (vnq (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .NotComputable}}not computable: {{.NotComputable}}{{else if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
 {{end}}</tbody>
 </table>
 <p class="note">The shift estimates how far the first group's values lie above the second's (median of all pairwise differences, with its distribution-free interval); Cliff's δ is P(first &gt; second) − P(first &lt; second). p-values of the pairs from the {{$a.PairPMethods}}.</p>
@@ -528,7 +535,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <table>
 <thead><tr><th>analysis</th><th class="r">p</th><th class="r">adjusted p</th><th>tested</th><th>decision</th><th>why</th></tr></thead>
 <tbody>
-{{range .Members}}<tr><td><code>{{.ID}}</code></td><td class="r">{{with .P}}{{fmtp .Value .Log10}}{{else}}not computable{{end}}</td><td class="r">{{template "val" (v (key "multiplicity" .ID "p_adjusted") .PAdjusted)}}</td><td>{{if .Tested}}yes{{else}}no{{end}}</td><td>{{if .Reject}}rejected{{else if .Tested}}not rejected{{else}}not tested{{end}}</td><td>{{.Why}}</td></tr>
+{{range .Members}}<tr><td><code>{{.ID}}</code></td><td class="r">{{with .P}}{{fmtp .Value .Log10}}{{else}}not computable{{end}}</td><td class="r">{{template "val" (vq (key "multiplicity" .ID "p_adjusted") .PAdjusted)}}</td><td>{{if .Tested}}yes{{else}}no{{end}}</td><td>{{if .Reject}}rejected{{else if .Tested}}not rejected{{else}}not tested{{end}}</td><td>{{.Why}}</td></tr>
 {{end}}</tbody>
 </table>
 </section>{{end}}

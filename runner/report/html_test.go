@@ -385,7 +385,7 @@ func expectedKeys(res *results.Results) map[string]*float64 {
 }
 
 // TestHTMLDataKeys checks every machine-findable number against results.json: the full
-// value exactly, and the shown text as Num writes it.
+// value exactly, and the shown text as Num writes it (NumP for p-values).
 func TestHTMLDataKeys(t *testing.T) {
 	for _, name := range htmlFixtures {
 		t.Run(name, func(t *testing.T) {
@@ -417,7 +417,11 @@ func TestHTMLDataKeys(t *testing.T) {
 				if err != nil || x != *w {
 					t.Errorf("%s: data-value %q, results.json %v", key, got, *w)
 				}
-				if txt, want := textOf(n), Num(*w); txt != want {
+				show := Num
+				if isPKey(key) {
+					show = NumP
+				}
+				if txt, want := textOf(n), show(*w); txt != want {
 					t.Errorf("%s: shown %q, want %q", key, txt, want)
 				}
 			})
@@ -428,6 +432,17 @@ func TestHTMLDataKeys(t *testing.T) {
 			}
 		})
 	}
+}
+
+// isPKey tells the keys of p-values, adjusted p-values and the ends of a p-value's
+// interval, which the page shows as NumP writes them.
+func isPKey(key string) bool {
+	for _, end := range []string{".p", ".p_adjusted", ".p_asymptotic", ".mc_ci_low", ".mc_ci_high"} {
+		if strings.HasSuffix(key, end) {
+			return true
+		}
+	}
+	return false
 }
 
 // TestHTMLDataKeyTinyP checks a p-value below the smallest normal double: no data-value,
