@@ -3,7 +3,9 @@ package browser
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"fmt"
+	"os"
 	"path/filepath"
 	"regexp"
 	"strconv"
@@ -15,6 +17,8 @@ import (
 	"github.com/chromedp/chromedp"
 
 	"rankplan/runner"
+	"rankplan/runner/report"
+	"rankplan/runner/results"
 )
 
 // The papers a report must print on, in inches as Chromium takes them.
@@ -33,18 +37,7 @@ func TestReportPrintLength(t *testing.T) {
 	if err != nil || len(plans) == 0 {
 		t.Fatalf("no example plans: %v", err)
 	}
-	// The network is disabled as in TestReportInChromium: host names do not resolve and
-	// the proxy is a closed port.
-	opts := append(chromedp.DefaultExecAllocatorOptions[:], chromedp.ExecPath(exe),
-		chromedp.NoSandbox, chromedp.Flag("disable-gpu", true),
-		chromedp.Flag("host-resolver-rules", "MAP * ~NOTFOUND"), chromedp.ProxyServer("127.0.0.1:9"))
-	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
-	t.Cleanup(cancelAlloc)
-	bctx, cancelBrowser := chromedp.NewContext(actx)
-	t.Cleanup(cancelBrowser)
-	if err := chromedp.Do(bctx); err != nil {
-		t.Fatalf("start %s: %v", exe, err)
-	}
+	bctx := offlineBrowser(t, exe)
 	for _, plan := range plans {
 		name := filepath.Base(filepath.Dir(plan))
 		t.Run(name, func(t *testing.T) {
@@ -78,7 +71,7 @@ func TestReportPrintLength(t *testing.T) {
 				}
 				counts += fmt.Sprintf(", %s %d pages", paper.name, pages)
 			}
-			t.Logf("%d analyses%s", analyses, counts)
+			t.Logf("%s: analyses %d%s", name, analyses, counts)
 			if _, err := chromedp.Call(ctx, emulation.SetEmulatedMedia, emulation.SetEmulatedMediaParams{Media: "print"}); err != nil {
 				t.Fatal(err)
 			}
@@ -91,6 +84,24 @@ func TestReportPrintLength(t *testing.T) {
 			}
 		})
 	}
+}
+
+// offlineBrowser starts the browser exe with the network disabled as in
+// TestReportInChromium (host names do not resolve, the proxy is a closed port) and returns
+// its context; the browser is closed when the test and its subtests have finished.
+func offlineBrowser(t *testing.T, exe string) context.Context {
+	t.Helper()
+	opts := append(chromedp.DefaultExecAllocatorOptions[:], chromedp.ExecPath(exe),
+		chromedp.NoSandbox, chromedp.Flag("disable-gpu", true),
+		chromedp.Flag("host-resolver-rules", "MAP * ~NOTFOUND"), chromedp.ProxyServer("127.0.0.1:9"))
+	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
+	t.Cleanup(cancelAlloc)
+	bctx, cancelBrowser := chromedp.NewContext(actx)
+	t.Cleanup(cancelBrowser)
+	if err := chromedp.Do(bctx); err != nil {
+		t.Fatalf("start %s: %v", exe, err)
+	}
+	return bctx
 }
 
 // pdfObject finds the dictionary of indirect object "num gen obj … endobj" in an
@@ -187,5 +198,82 @@ func TestPDFPageCount(t *testing.T) {
 		case tc.want != 0 && (err != nil || got != tc.want):
 			t.Errorf("%s: %d pages (%v), want %d", tc.name, got, err, tc.want)
 		}
+	}
+}
+
+// TestLongPairsPrint prints a report whose one analysis compares ten groups (45 pairs, 4 of
+// them found to differ, 1 not computable), made from the dissolution example's results:
+// on screen the pairs table shows every pair, on paper only the 5 that differ or are not
+// computable, and the whole report prints on at most two pages.
+func TestLongPairsPrint(t *testing.T) {
+	exe := chromium(t)
+	b, err := os.ReadFile("../testdata/html/dissolution.results.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var res results.Results
+	if err := json.Unmarshal(b, &res); err != nil {
+		t.Fatal(err)
+	}
+	a := &res.Analyses[0]
+	proto, pair := a.Groups[0], a.PostHoc.Pairs[0]
+	a.Groups, a.PostHoc.Pairs, a.PostHoc.Letters = nil, nil, nil
+	for i := range 10 {
+		g := proto
+		g.Name = fmt.Sprintf("line %d", i+1)
+		a.Groups = append(a.Groups, g)
+	}
+	for i := range a.Groups {
+		for j := i + 1; j < len(a.Groups); j++ {
+			p := pair
+			p.Groups = [2]string{a.Groups[i].Name, a.Groups[j].Name}
+			n := len(a.PostHoc.Pairs)
+			p.Reject = n%11 == 0 // pairs 0, 11, 22, 33
+			if n == 44 {
+				p.NotComputable, p.Statistic, p.P, p.PAdjusted = "every value of the two groups is tied", nil, nil, nil
+			}
+			a.PostHoc.Pairs = append(a.PostHoc.Pairs, p)
+		}
+	}
+	var html bytes.Buffer
+	if err := report.HTML(&html, &res, report.Meta{}, nil); err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "report.html")
+	if err := os.WriteFile(path, html.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := chromedp.NewContext(offlineBrowser(t, exe))
+	defer cancel()
+	ctx, cancel = context.WithTimeout(ctx, 60*time.Second)
+	defer cancel()
+	if err := chromedp.Do(ctx, chromedp.Navigate("file://"+path), chromedp.WaitReady("body")); err != nil {
+		t.Fatal(err)
+	}
+	const rowsJS = `Array.from(document.querySelectorAll("section.pairs tbody tr")).filter(e => e.getClientRects().length > 0).length`
+	screen, err := chromedp.Run(ctx, chromedp.Evaluate[int](rowsJS))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, paper := range papers {
+		pdf, err := chromedp.Call(ctx, page.PrintToPDF, page.PrintToPDFParams{PaperWidth: paper.w, PaperHeight: paper.h})
+		if err != nil {
+			t.Fatalf("print to PDF on %s: %v", paper.name, err)
+		}
+		n, err := pdfPageCount(pdf.Data)
+		if err != nil || n > 2 {
+			t.Errorf("%s: %d pages (%v), at most 2", paper.name, n, err)
+		}
+		t.Logf("%s: %d pages", paper.name, n)
+	}
+	if _, err := chromedp.Call(ctx, emulation.SetEmulatedMedia, emulation.SetEmulatedMediaParams{Media: "print"}); err != nil {
+		t.Fatal(err)
+	}
+	paper, err := chromedp.Run(ctx, chromedp.Evaluate[int](rowsJS))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if screen != 45 || paper != 5 {
+		t.Errorf("pairs shown: %d on screen, %d on paper; want 45 and 5", screen, paper)
 	}
 }
