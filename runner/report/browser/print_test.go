@@ -164,8 +164,9 @@ func pdfPageCount(pdf []byte) (int, error) {
 }
 
 // TestPDFPageCount checks the page counter on small PDFs written by hand after the
-// examples of ISO 32000-1 (Annex H.2, a minimal file, and a page tree with an
-// intermediate node) and on malformed ones.
+// structure ISO 32000-1 gives (a minimal file as in its Annex H, and a page tree with an
+// intermediate node) and on malformed ones. The section numbers cited in this file are
+// recalled from memory of ISO 32000-1:2008.
 func TestPDFPageCount(t *testing.T) {
 	const minimal = "%PDF-1.4\n1 0 obj\n<< /Type /Catalog /Pages 2 0 R >>\nendobj\n" +
 		"2 0 obj\n<< /Type /Pages /Kids [3 0 R] /Count 1 >>\nendobj\n" +
