@@ -34,8 +34,8 @@ func cellText(s string) string {
 
 // PairsCSV writes pairs.csv: the pairwise comparisons of every analysis whose comparisons
 // ran, one row per pair, as a tidy RFC 4180 table for spreadsheets. Numbers are written
-// with every digit (the shortest text that reads back to the same double), so the table
-// holds exactly what results.json holds; reject and the hl_ flags are true or false, and
+// with every digit (the shortest text that reads back to the same double, a plain decimal
+// from 1e-15 up to 1e15, see [full]), so the table holds exactly what results.json holds; reject and the hl_ flags are true or false, and
 // hl_coverage is empty where results.json has null. A pair that is not computable has
 // empty statistic, p and p_adjusted cells and its reason in not_computable. Text cells
 // (analysis, outcome and group names) go through [cellText]. An analysis without
@@ -45,7 +45,7 @@ func PairsCSV(w io.Writer, res *results.Results) error {
 	if err := cw.Write(pairsHeader); err != nil {
 		return err
 	}
-	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+	f := full
 	fp := func(x *float64) string {
 		if x == nil {
 			return ""

@@ -140,7 +140,16 @@ type htmlAnalysis struct {
 	// display has more than 52 letters (names with numbers, joined with ".").
 	LettersSay      string
 	LettersNumbered bool
+	// PrintPairs says, for a pairs table longer than printPairsMax rows, which pairs the
+	// printed page lists (those that differ or are not computable) and where the rest
+	// are; empty for a shorter table, which prints whole.
+	PrintPairs string
 }
+
+// printPairsMax is the most pairs a printed page lists in full (all pairs of six groups);
+// a longer table prints only its pairs that differ or are not computable, so that the
+// pairs of many groups do not fill pages that pairs.csv holds anyway.
+const printPairsMax = 15
 
 type diagRow struct {
 	Name                  string
@@ -228,6 +237,7 @@ func analysisView(i int, a *results.Analysis, alpha float64, vals [][]float64) (
 			}
 		}
 		v.PairPMethods = strings.Join(methods, " or ")
+		v.PrintPairs = printPairsNote(ph.Pairs)
 		v.LettersSay = LettersMeaning(ph, alpha, "α")
 		for _, l := range ph.Letters {
 			v.LettersNumbered = v.LettersNumbered || strings.ContainsAny(l.Display, ".0123456789")
@@ -247,12 +257,36 @@ func analysisView(i int, a *results.Analysis, alpha float64, vals [][]float64) (
 	return v, nil
 }
 
+// printPairsNote says which pairs a printed page lists when there are more than
+// printPairsMax of them, or "" when it lists them all.
+func printPairsNote(pairs []results.Pair) string {
+	if len(pairs) <= printPairsMax {
+		return ""
+	}
+	differ, none := 0, 0
+	for _, p := range pairs {
+		switch {
+		case p.NotComputable != "":
+			none++
+		case p.Reject:
+			differ++
+		}
+	}
+	const rest = "; every pair is in pairs.csv and in this table on screen."
+	if differ == 0 && none == 0 {
+		return fmt.Sprintf("On paper this table lists only the pairs found to differ, and none of the %d compared was%s", len(pairs), rest)
+	}
+	listed := fmt.Sprintf("the pairs found to differ (%d)", differ)
+	if none > 0 {
+		listed += fmt.Sprintf(" and those not computable (%d)", none)
+	}
+	return fmt.Sprintf("On paper this table lists only %s, of the %d compared%s", listed, len(pairs), rest)
+}
+
 // htmlValue is a number as the page shows it, with its key and every digit for programs.
 type htmlValue struct {
 	Key, Full, Log10, Text string
 }
-
-func full(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
 
 var htmlFuncs = template.FuncMap{
 	"unitSuffix": unitSuffix,
@@ -266,6 +300,15 @@ var htmlFuncs = template.FuncMap{
 			return htmlValue{Key: key, Text: "—"} // not computable: no data-value
 		}
 		return htmlValue{Key: key, Full: full(*x), Text: Num(*x)}
+	},
+	// vq and vnq are v and vn for a p-value, an adjusted p-value or an end of a p-value's
+	// interval: the shown text as NumP writes it.
+	"vq": func(key string, p float64) htmlValue { return htmlValue{Key: key, Full: full(p), Text: NumP(p)} },
+	"vnq": func(key string, p *float64) htmlValue {
+		if p == nil {
+			return htmlValue{Key: key, Text: "—"} // not computable: no data-value
+		}
+		return htmlValue{Key: key, Full: full(*p), Text: NumP(*p)}
 	},
 	"vi": func(key string, n int) htmlValue {
 		s := strconv.Itoa(n)
@@ -367,16 +410,65 @@ svg.plot { display: block; width: 100%; max-width: 34rem; height: auto; }
 .swatch { display: inline-block; width: 1.1em; height: .9em; border: 1px solid #999; vertical-align: middle;
   margin: 0 .25em 0 .6em; -webkit-print-color-adjust: exact; print-color-adjust: exact; }
 footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-size: .9em; color: #333; }
-@page { size: auto; margin: 18mm 16mm; }
+@page { size: auto; margin: 12mm 16mm; }
+.print-only { display: none; }
 @media print {
-  body { max-width: none; padding: 0; font-size: 10pt; background: #fff; color: #000; }
-  h2 { break-before: auto; }
+  /* Paper: A4 or Letter, 178 mm of text width on A4 (672 CSS px). Small type, tight
+     spacing, the plots of an analysis side by side, a new page for each analysis after
+     the first, nothing that only works on screen. */
+  body { max-width: none; margin: 0; padding: 0; font-size: 8pt; line-height: 1.3; background: #fff; color: #000; }
+  h1 { font-size: 13pt; }
+  h2 { font-size: 10.5pt; margin: .9em 0 .3em; padding-bottom: .1em; border-bottom-width: 1.5px; }
+  h3 { font-size: 8.5pt; margin: .6em 0 .2em; }
+  p { margin: .25em 0; }
+  .planid { margin: 0 0 .4em; }
+  nav.contents { display: none; }
+  .print-only { display: block; }
+  td.repeat, th.repeat { display: none; }
+  code, .hash { font-size: .92em; }
+  table { margin: .2em 0 .4em; font-size: 7.5pt; line-height: 1.2; }
+  th, td { padding: .08em .4em; }
+  th, .decision { background: #fff; }
+  dl.facts { gap: 0 .8em; margin: .2em 0 .4em; }
+  .decision { padding: .15em .6em; }
+  .note, figcaption, #reading, footer, .conventions { font-size: 7pt; line-height: 1.25; }
+  .caution { padding: .2em .6em; }
+  footer { margin-top: .8em; padding-top: .2em; }
+  footer p { margin: .1em 0; }
+  section.analysis + section.analysis { break-before: page; }
+  /* Within an analysis the data and the diagnostics, both about the groups, sit side by
+     side when their tables fit in the width; each item keeps its order otherwise. */
+  section.analysis { display: flex; flex-wrap: wrap; gap: 0 5mm; align-items: flex-start; }
+  section.analysis > h2 { flex: 1 1 100%; order: 0; }
+  section.analysis > :not(h2) { flex: 1 1 100%; order: 5; }
+  section.analysis > section.data { order: 1; flex: 1 1 45%; }
+  section.analysis > section.diagnostics { order: 2; flex: 1 1 45%; }
+  section.analysis > section.omnibus { order: 3; }
+  section.analysis > section.effects { order: 4; }
+  section.analysis > section.figures { order: 6; }
+  /* Each pair on one line: only the group names and the decision may wrap. */
+  section.pairs table { font-size: 7pt; }
+  section.pairs td { white-space: nowrap; }
+  section.pairs td:first-child, section.pairs td:last-child { white-space: normal; }
+  section.pairs th:nth-child(2) { width: 3em; } /* the shift's long name wraps, not the pairs */
+  /* The letter display as one line: each group with its letters. */
+  table.letters, table.letters tbody { display: block; border: 0; }
+  table.letters thead { display: none; }
+  table.letters tr { display: inline-block; margin-right: 1.2em; }
+  table.letters td { display: inline; border: 0; padding: 0 .25em 0 0; }
+  /* The plots of an analysis in one row: two or three side by side, scaled to share the
+     text width; a fourth wraps to a second row. */
+  section.figures { display: flex; flex-wrap: wrap; gap: 0 4mm; align-items: flex-start; }
+  section.figures > h3 { flex: 0 0 100%; }
+  section.figures > figure { flex: 1 1 30%; max-width: 50%; min-width: 0; margin: .2em 0; }
+  svg.plot { max-width: 100%; }
+  figcaption { max-width: none; }
   /* Small sections, tables and figures stay whole; an analysis as a whole may span pages. */
   section.data, section.omnibus, section.effects, section.diagnostics, section#multiplicity, section#reading,
   table, tr, figure, .decision, .caution, dl.facts, footer { page-break-inside: avoid; break-inside: avoid; }
-  svg.plot { max-width: 15cm; }
+  table.long { break-inside: auto; }
+  table.long tr.quiet { display: none; }
   h2, h3 { page-break-after: avoid; break-after: avoid; }
-  th, .decision { background: #fff; }
 }
 </style>
 </head>
@@ -409,7 +501,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <dt>Deviations from the lock</dt><dd>{{if .Meta.Deviations}}<ul>{{range .Meta.Deviations}}<li>{{.}}</li>{{end}}</ul>{{else}}none{{end}}</dd>
 </dl>
 <h3>Conventions behind the numbers</h3>
-<dl class="facts">
+<dl class="facts conventions">
 <dt>Ranks</dt><dd>{{.Res.Conventions.Ranks}}</dd>
 <dt>Quantiles</dt><dd>{{.Res.Conventions.Quantiles}}</dd>
 <dt>Decisions</dt><dd>{{.Res.Conventions.Decision}}</dd>
@@ -445,13 +537,13 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 {{end}}{{with .PValue}}
 <dt>p-value</dt><dd>p = {{template "val" (vp (key $id "p") .Value .Log10)}}, {{method .Method}}{{if ne .Requested .Method}} (plan asked for {{.Requested}}){{end}}</dd>
 <dt>Why this method</dt><dd>{{.Reason}}</dd>
-{{with .MonteCarlo}}<dt>Monte Carlo</dt><dd>{{if eq .Exceedances "0"}}No resample of {{.Resamples}} reached the observed H, so the p-value shown is the smallest these resamples can give, not an estimate (its standard error {{template "val" (v (key $id "mc_se") .SE)}} says nothing here); an exact p-value or more resamples would narrow the interval; estimator {{.Estimator}};{{else}}{{.Exceedances}} of {{.Resamples}} resamples reached the observed H; estimator {{.Estimator}}; standard error {{template "val" (v (key $id "mc_se") .SE)}};{{end}} {{pct .CI.Level}} Clopper-Pearson interval [{{template "val" (v (key $id "mc_ci_low") .CI.Low)}}, {{template "val" (v (key $id "mc_ci_high") .CI.High)}}]; statistic compared as {{.Comparison}}; random stream {{.Stream}}</dd>
+{{with .MonteCarlo}}<dt>Monte Carlo</dt><dd>{{if eq .Exceedances "0"}}No resample of {{.Resamples}} reached the observed H, so the p-value shown is the smallest these resamples can give, not an estimate (its standard error {{template "val" (v (key $id "mc_se") .SE)}} says nothing here); an exact p-value or more resamples would narrow the interval; estimator {{.Estimator}};{{else}}{{.Exceedances}} of {{.Resamples}} resamples reached the observed H; estimator {{.Estimator}}; standard error {{template "val" (v (key $id "mc_se") .SE)}};{{end}} {{pct .CI.Level}} Clopper-Pearson interval [{{template "val" (vq (key $id "mc_ci_low") .CI.Low)}}, {{template "val" (vq (key $id "mc_ci_high") .CI.High)}}]; statistic compared as {{.Comparison}}; random stream {{.Stream}}</dd>
 {{end}}{{with .Exact}}<dt>Exact distribution work</dt><dd>peak {{.PeakStates}} states (budget {{.BudgetStates}}), {{.Work}} units of work (budget {{.BudgetWork}})</dd>
 {{end}}{{end}}{{with .AsymptoticP}}<dt>Asymptotic p</dt><dd>{{template "val" (vp (key $id "p_asymptotic") .Value .Log10)}} (chi-square approximation{{with $a.KruskalWallis}} with {{.DF}} df{{end}}, always shown beside the p-value used){{end}}</dd>
 </dl>
 {{with .Decision}}
 <h3>Decision</h3>
-<p class="decision">At α = {{num .Alpha}}: {{if .Reject}}<strong>the null hypothesis of identical distributions is rejected</strong>{{else}}<strong>the null hypothesis of identical distributions is not rejected</strong>{{end}}{{with .PAdjusted}} (adjusted p = {{template "val" (v (key $id "p_adjusted") .)}}){{end}}. Rule: {{.Rule}}.</p>
+<p class="decision">At α = {{num .Alpha}}: {{if .Reject}}<strong>the null hypothesis of identical distributions is rejected</strong>{{else}}<strong>the null hypothesis of identical distributions is not rejected</strong>{{end}}{{with .PAdjusted}} (adjusted p = {{template "val" (vq (key $id "p_adjusted") .)}}){{end}}. Rule: {{.Rule}}.</p>
 {{end}}{{end}}
 </section>
 {{with .EffectSizes}}<section class="effects">
@@ -475,16 +567,17 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 {{if .Note}}<p class="note">Note: {{.Note}}</p>{{end}}
 {{if .NotComputable}}<p class="decision">Not computable on these data: {{.NotComputable}}.</p>
 {{else if .Ran}}{{$ph := .}}
-<table>
+{{with $a.PrintPairs}}<p class="print-only">{{.}}</p>
+{{end}}<table{{if $a.PrintPairs}} class="long"{{end}}>
 <thead><tr><th>groups</th><th class="r">Hodges-Lehmann shift</th><th>interval</th><th class="r">Cliff's δ</th><th class="r">{{.Statistic}}</th><th class="r">p</th><th class="r">{{if .Simultaneous}}simultaneous p{{else}}adjusted p{{end}}</th><th>decision</th></tr></thead>
 <tbody>
-{{range .Pairs}}<tr><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{hlinterval .}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (vn (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (vn (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .NotComputable}}not computable: {{.NotComputable}}{{else if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
+{{range .Pairs}}<tr{{if and $a.PrintPairs (not (or .Reject .NotComputable))}} class="quiet"{{end}}><td>{{index .Groups 0}} vs {{index .Groups 1}}</td><td class="r">{{template "val" (v (pairkey $id . "hl_shift") .HodgesLehmann.Shift)}}</td><td>{{hlinterval .}}</td><td class="r">{{template "val" (v (pairkey $id . "cliffs_delta") .CliffsDelta)}}</td><td class="r">{{template "val" (vn (pairkey $id . "statistic") .Statistic)}}</td><td class="r">{{template "val" (vnq (pairkey $id . "p") .P)}}</td><td class="r">{{template "val" (vnq (pairkey $id . "p_adjusted") .PAdjusted)}}</td><td>{{if .NotComputable}}not computable: {{.NotComputable}}{{else if .Reject}}differ{{else}}no difference shown{{end}}</td></tr>
 {{end}}</tbody>
 </table>
 <p class="note">The shift estimates how far the first group's values lie above the second's (median of all pairwise differences, with its distribution-free interval); Cliff's δ is P(first &gt; second) − P(first &lt; second). p-values of the pairs from the {{$a.PairPMethods}}.</p>
 {{range hlnotes $a}}<p class="note">{{.}}</p>
 {{end}}{{if .Letters}}<p>Compact letter display: {{$a.LettersSay}}.{{if $a.LettersNumbered}} With more than 52 letters, names carry a number (a1, b1, …) and a group's names are joined with “.”.{{end}}</p>
-<table>
+<table class="letters">
 <thead><tr><th>group</th><th>letters</th></tr></thead>
 <tbody>
 {{range .Letters}}<tr><td>{{.Group}}</td><td><code>{{.Display}}</code></td></tr>
@@ -495,9 +588,9 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <section class="diagnostics">
 <h3>Diagnostics</h3>
 <table>
-<thead><tr><th>group</th><th class="r">median</th><th class="r">IQR (Q3 − Q1)</th><th class="r">quartile skewness</th><th>min – max</th></tr></thead>
+<thead><tr><th>group</th><th class="r repeat">median</th><th class="r">IQR (Q3 − Q1)</th><th class="r">quartile skewness</th><th>min – max</th></tr></thead>
 <tbody>
-{{range .Diag}}<tr><td>{{.Name}}</td><td class="r">{{num .Median}}</td><td class="r">{{num .IQR}}</td><td class="r">{{with .Skew}}{{num .}}{{else}}—{{end}}</td><td>{{num .Min}} – {{num .Max}}</td></tr>
+{{range .Diag}}<tr><td>{{.Name}}</td><td class="r repeat">{{num .Median}}</td><td class="r">{{num .IQR}}</td><td class="r">{{with .Skew}}{{num .}}{{else}}—{{end}}</td><td>{{num .Min}} – {{num .Max}}</td></tr>
 {{end}}</tbody>
 </table>
 <p class="note">Quartile skewness is (Q3 + Q1 − 2·median)/(Q3 − Q1), from −1 to 1: 0 when the median sits midway between the quartiles, positive when the upper part of the middle half is longer; “—” when Q1 = Q3.</p>
@@ -528,7 +621,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <table>
 <thead><tr><th>analysis</th><th class="r">p</th><th class="r">adjusted p</th><th>tested</th><th>decision</th><th>why</th></tr></thead>
 <tbody>
-{{range .Members}}<tr><td><code>{{.ID}}</code></td><td class="r">{{with .P}}{{fmtp .Value .Log10}}{{else}}not computable{{end}}</td><td class="r">{{template "val" (v (key "multiplicity" .ID "p_adjusted") .PAdjusted)}}</td><td>{{if .Tested}}yes{{else}}no{{end}}</td><td>{{if .Reject}}rejected{{else if .Tested}}not rejected{{else}}not tested{{end}}</td><td>{{.Why}}</td></tr>
+{{range .Members}}<tr><td><code>{{.ID}}</code></td><td class="r">{{with .P}}{{fmtp .Value .Log10}}{{else}}not computable{{end}}</td><td class="r">{{template "val" (vq (key "multiplicity" .ID "p_adjusted") .PAdjusted)}}</td><td>{{if .Tested}}yes{{else}}no{{end}}</td><td>{{if .Reject}}rejected{{else if .Tested}}not rejected{{else}}not tested{{end}}</td><td>{{.Why}}</td></tr>
 {{end}}</tbody>
 </table>
 </section>{{end}}

@@ -385,7 +385,7 @@ func expectedKeys(res *results.Results) map[string]*float64 {
 }
 
 // TestHTMLDataKeys checks every machine-findable number against results.json: the full
-// value exactly, and the shown text as Num writes it.
+// value exactly, and the shown text as Num writes it (NumP for p-values).
 func TestHTMLDataKeys(t *testing.T) {
 	for _, name := range htmlFixtures {
 		t.Run(name, func(t *testing.T) {
@@ -417,7 +417,11 @@ func TestHTMLDataKeys(t *testing.T) {
 				if err != nil || x != *w {
 					t.Errorf("%s: data-value %q, results.json %v", key, got, *w)
 				}
-				if txt, want := textOf(n), Num(*w); txt != want {
+				show := Num
+				if isPKey(key) {
+					show = NumP
+				}
+				if txt, want := textOf(n), show(*w); txt != want {
 					t.Errorf("%s: shown %q, want %q", key, txt, want)
 				}
 			})
@@ -428,6 +432,17 @@ func TestHTMLDataKeys(t *testing.T) {
 			}
 		})
 	}
+}
+
+// isPKey tells the keys of p-values, adjusted p-values and the ends of a p-value's
+// interval, which the page shows as NumP writes them.
+func isPKey(key string) bool {
+	for _, end := range []string{".p", ".p_adjusted", ".p_asymptotic", ".mc_ci_low", ".mc_ci_high"} {
+		if strings.HasSuffix(key, end) {
+			return true
+		}
+	}
+	return false
 }
 
 // TestHTMLDataKeyTinyP checks a p-value below the smallest normal double: no data-value,
@@ -872,5 +887,68 @@ func TestUnitSuffix(t *testing.T) {
 		if got := unitSuffix(unit); got != want {
 			t.Errorf("unitSuffix(%q) = %q, want %q", unit, got, want)
 		}
+	}
+}
+
+// TestHTMLLongPairsPrint checks the printed form of a long pairs table: with more than
+// printPairsMax pairs the table is marked long, a note for paper says which pairs it lists
+// and where the rest are, and exactly the pairs that neither differ nor are not computable
+// are marked quiet (left off the paper); a short table prints whole.
+func TestHTMLLongPairsPrint(t *testing.T) {
+	for _, tc := range []struct {
+		name         string
+		groups       int
+		differ, none int    // pairs made to differ, pairs made not computable
+		note         string // "" : no note for paper
+		long         bool
+		quiet        int
+	}{
+		{"six groups print whole", 6, 2, 0, "", false, 0},
+		{"seven groups", 7, 3, 1, "On paper this table lists only the pairs found to differ (3) and those not computable (1), of the 21 compared; every pair is in pairs.csv and in this table on screen.", true, 17},
+		{"seven groups, one differs", 7, 1, 0, "On paper this table lists only the pairs found to differ (1), of the 21 compared; every pair is in pairs.csv and in this table on screen.", true, 20},
+		{"seven groups none differ", 7, 0, 0, "On paper this table lists only the pairs found to differ, and none of the 21 compared was; every pair is in pairs.csv and in this table on screen.", true, 21},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			res, _ := loadFixture(t, "dissolution")
+			a := &res.Analyses[0]
+			proto, pair := a.Groups[0], a.PostHoc.Pairs[0]
+			a.Groups = a.Groups[:0]
+			for i := range tc.groups {
+				g := proto
+				g.Name = fmt.Sprintf("G%d", i+1)
+				a.Groups = append(a.Groups, g)
+			}
+			a.PostHoc.Pairs, a.PostHoc.Letters = nil, nil
+			for i := range tc.groups {
+				for j := i + 1; j < tc.groups; j++ {
+					p := pair
+					p.Groups = [2]string{a.Groups[i].Name, a.Groups[j].Name}
+					n := len(a.PostHoc.Pairs)
+					p.Reject = n < tc.differ
+					if n >= tc.differ && n < tc.differ+tc.none {
+						p.NotComputable, p.Statistic, p.P, p.PAdjusted = "every value is tied", nil, nil, nil
+					}
+					a.PostHoc.Pairs = append(a.PostHoc.Pairs, p)
+				}
+			}
+			doc := parse(t, render(t, res, goldenMeta, nil))
+			var note string
+			var long bool
+			quiet := 0
+			walk(doc, func(n *html.Node) {
+				class, _ := attr(n, "class")
+				switch {
+				case n.Data == "p" && class == "print-only":
+					note = textOf(n)
+				case n.Data == "table" && class == "long":
+					long = true
+				case n.Data == "tr" && class == "quiet":
+					quiet++
+				}
+			})
+			if note != tc.note || long != tc.long || quiet != tc.quiet {
+				t.Errorf("note %q, long %v, %d quiet rows; want %q, %v, %d", note, long, quiet, tc.note, tc.long, tc.quiet)
+			}
+		})
 	}
 }

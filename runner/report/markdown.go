@@ -39,11 +39,11 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 			d = "**rejected**"
 		}
 		if a.Decision.PAdjusted != nil {
-			d += fmt.Sprintf(" (across analyses, adjusted p = %s)", Num(*a.Decision.PAdjusted))
+			d += fmt.Sprintf(" (across analyses, adjusted p = %s)", NumP(*a.Decision.PAdjusted))
 		}
 		pText := FormatP(a.PValue.Value, a.PValue.Log10)
 		if mc := a.PValue.MonteCarlo; mc != nil && mc.Exceedances == "0" {
-			pText += fmt.Sprintf(" (no resample of %s reached H; p at most %s)", mc.Resamples, Num(mc.CI.High))
+			pText += fmt.Sprintf(" (no resample of %s reached H; p at most %s)", mc.Resamples, NumP(mc.CI.High))
 		}
 		ew.printf("| %s | %s | %d | %s | %s | %s | %s |\n", mdText(a.ID), outcome, a.N, Num(a.KruskalWallis.H),
 			mdText(pText), mdText(methodName(a.PValue.Method)), d)
@@ -78,9 +78,9 @@ func Markdown(w io.Writer, res *results.Results, meta Meta, dir string) error {
 			case p.NotComputable != "":
 				none = append(none, fmt.Sprintf("%s (%s)", pair, mdText(p.NotComputable)))
 			case p.Reject:
-				differ = append(differ, fmt.Sprintf("%s (%s = %s)", pair, pname, Num(*p.PAdjusted)))
+				differ = append(differ, fmt.Sprintf("%s (%s = %s)", pair, pname, NumP(*p.PAdjusted)))
 			default:
-				same = append(same, fmt.Sprintf("%s (%s = %s)", pair, pname, Num(*p.PAdjusted)))
+				same = append(same, fmt.Sprintf("%s (%s = %s)", pair, pname, NumP(*p.PAdjusted)))
 			}
 		}
 		ew.printf("\n\n- differ: %s\n- no difference shown: %s\n", orNone(differ), orNone(same))

@@ -17,13 +17,13 @@ import (
 const Caution = "Statistical output supports, and does not replace, qualified judgement; " +
 	"regulated use follows the lab's own procedures and software validation."
 
-// FormatP writes a p-value for people: four significant digits, and for a p-value
-// below the smallest normal double the bound implied by its log10.
+// FormatP writes a p-value for people as [NumP] does, and for a p-value below the
+// smallest normal double (value nil) the bound implied by its log10.
 func FormatP(value *float64, log10 float64) string {
 	if value == nil {
 		return "< 1e" + strconv.Itoa(int(math.Floor(log10))+1) + " (log10 p = " + strconv.FormatFloat(log10, 'f', 4, 64) + ")"
 	}
-	return Num(*value)
+	return NumP(*value)
 }
 
 // NumOr is Num(*x), or none when x is nil (a value that is not computable).
@@ -34,20 +34,93 @@ func NumOr(x *float64, none string) string {
 	return Num(*x)
 }
 
-// Num writes a number for people to read in tables; results.json keeps every digit. Zero
-// is "0"; a magnitude from 1e-4 up to 1e6 gets six significant digits without trailing
-// zeros ("0.0184238", "147.5"); from there (once six digits round to 1e6 or more) up to
-// 1e7 two decimals ("1234567.89"); anything smaller or larger at most four significant
-// digits in exponent form ("8.595e-16", "5e-05", "1.235e+07").
+// NumPOr is NumP(*p), or none when p is nil (a p-value that is not computable).
+func NumPOr(p *float64, none string) string {
+	if p == nil {
+		return none
+	}
+	return NumP(*p)
+}
+
+// The magnitudes written as plain decimals: from plainMin up to, not including, plainMax.
+// Outside them a plain decimal would run to more than 15 zeros, so exponent form is used.
+const (
+	plainMin = 1e-15
+	plainMax = 1e15
+)
+
+// Num writes a number for people to read in tables; results.json keeps every digit.
+// Every magnitude from 1e-15 up to 1e15 is a plain decimal, never exponent form:
+//
+//   - six significant digits without trailing zeros ("0.0184238", "147.5",
+//     "0.000000123457") while six digits reach the units;
+//   - from 1e6 on (once six digits round to 1e6 or more), every digit of the whole part
+//     and at most two decimals, trailing zeros dropped ("1234567.89", "116500000",
+//     "123456789.5"), so that no digit of a rank sum is hidden.
+//
+// Zero and negative zero are "0"; NaN and infinities are "NaN", "+Inf" and "-Inf"; a
+// magnitude below 1e-15 or at least 1e15 has six significant digits in exponent form
+// ("1e+15", "8.59457e-16"). p-values have their own rule, [NumP].
 func Num(x float64) string {
-	if x != 0 && (math.Abs(x) < 1e-4 || math.Abs(x) >= 1e7) {
-		return strconv.FormatFloat(x, 'g', 4, 64)
+	ax := math.Abs(x)
+	switch {
+	case x == 0:
+		return "0"
+	case math.IsNaN(x) || math.IsInf(x, 0):
+		return strconv.FormatFloat(x, 'g', -1, 64)
+	case ax < plainMin || ax >= plainMax:
+		return strconv.FormatFloat(x, 'g', 6, 64)
 	}
-	s := strconv.FormatFloat(x, 'g', 6, 64)
-	if strings.ContainsAny(s, "e") {
-		return strconv.FormatFloat(x, 'f', 2, 64)
+	// The decimal exponent of x rounded to six significant digits (the rounding can
+	// carry into the next power of ten, as 999999.7 does).
+	e := decimalExponent(x, 6)
+	decimals := 2
+	if e < 6 {
+		decimals = 5 - e
 	}
-	return s
+	return trimZeros(strconv.FormatFloat(x, 'f', decimals, 64))
+}
+
+// NumP writes a p-value (or an adjusted p-value, or an end of a p-value's interval) for
+// people: below 1e-4 (but not 0) four significant digits in exponent form ("8.595e-16",
+// "5e-05"), where a plain decimal would be mostly zeros and the exponent says at a glance
+// how small p is; otherwise as [Num] ("0.0184238", "1").
+func NumP(p float64) string {
+	if p != 0 && math.Abs(p) < 1e-4 {
+		return strconv.FormatFloat(p, 'g', 4, 64)
+	}
+	return Num(p)
+}
+
+// decimalExponent is the exponent of x (finite, not 0) in scientific notation after
+// rounding to sig significant digits: 2 for 123.4, -7 for 1e-7, 6 for 999999.7 at six.
+func decimalExponent(x float64, sig int) int {
+	s := strconv.FormatFloat(x, 'e', sig-1, 64)
+	e, err := strconv.Atoi(s[strings.IndexByte(s, 'e')+1:])
+	if err != nil { // unreachable: 'e' format always ends in a signed exponent
+		return 0
+	}
+	return e
+}
+
+// trimZeros drops the trailing zeros of a decimal fraction, and its point when no
+// decimal is left: "12.500" is "12.5", "17.00" is "17".
+func trimZeros(s string) string {
+	if !strings.Contains(s, ".") {
+		return s
+	}
+	return strings.TrimSuffix(strings.TrimRight(s, "0"), ".")
+}
+
+// full writes every digit of x for programs (report.html's data-value, pairs.csv): the
+// shortest decimal that reads back to the same double, as a plain decimal for every
+// magnitude from 1e-15 up to 1e15 ("116500000", "0.0000001") and in exponent form outside
+// it ("1e+15", "8.594571080305823e-16"). Negative zero is "-0", as results.json writes it.
+func full(x float64) string {
+	if ax := math.Abs(x); x != 0 && (ax < plainMin || ax >= plainMax) {
+		return strconv.FormatFloat(x, 'g', -1, 64)
+	}
+	return strconv.FormatFloat(x, 'f', -1, 64)
 }
 
 // Exclusions writes the exclusion counts of an analysis on one line, or "none".
@@ -162,10 +235,10 @@ func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) e
 		ew.printf("  p = %s (%s; %s)\n", FormatP(pv.Value, pv.Log10), methodName(pv.Method), pv.Reason)
 		if mc := pv.MonteCarlo; mc != nil && mc.Exceedances == "0" {
 			ew.printf("      no resample of %s reached H: p = %s is the smallest value these resamples can give, not an estimate; the true p lies in [0, %s] (%s%% Clopper-Pearson); an exact p-value or more resamples would narrow it\n",
-				mc.Resamples, FormatP(pv.Value, pv.Log10), Num(mc.CI.High), Num(100*mc.CI.Level))
+				mc.Resamples, FormatP(pv.Value, pv.Log10), NumP(mc.CI.High), Num(100*mc.CI.Level))
 		} else if mc != nil {
 			ew.printf("      %s of %s resamples reached H; Monte Carlo SE %s, %s%% interval [%s, %s]\n",
-				mc.Exceedances, mc.Resamples, Num(mc.SE), Num(100*mc.CI.Level), Num(mc.CI.Low), Num(mc.CI.High))
+				mc.Exceedances, mc.Resamples, Num(mc.SE), Num(100*mc.CI.Level), NumP(mc.CI.Low), NumP(mc.CI.High))
 		}
 		if pv.Method != spec.Asymptotic {
 			ew.printf("      asymptotic chi-square p = %s\n", FormatP(a.AsymptoticP.Value, a.AsymptoticP.Log10))
@@ -182,9 +255,9 @@ func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) e
 		d := a.Decision
 		switch {
 		case d.PAdjusted != nil && d.Reject:
-			ew.printf("  at alpha = %s: %s of identical distributions (adjusted p = %s <= alpha, plan's multiplicity rule)\n", Num(d.Alpha), st.decision("reject the null hypothesis"), Num(*d.PAdjusted))
+			ew.printf("  at alpha = %s: %s of identical distributions (adjusted p = %s <= alpha, plan's multiplicity rule)\n", Num(d.Alpha), st.decision("reject the null hypothesis"), NumP(*d.PAdjusted))
 		case d.PAdjusted != nil:
-			ew.printf("  at alpha = %s: do not reject the null hypothesis of identical distributions under the plan's multiplicity rule (adjusted p = %s)\n", Num(d.Alpha), Num(*d.PAdjusted))
+			ew.printf("  at alpha = %s: do not reject the null hypothesis of identical distributions under the plan's multiplicity rule (adjusted p = %s)\n", Num(d.Alpha), NumP(*d.PAdjusted))
 		case d.Reject:
 			ew.printf("  at alpha = %s: %s of identical distributions (p <= alpha)\n", Num(d.Alpha), st.decision("reject the null hypothesis"))
 		default:
@@ -239,7 +312,7 @@ func writeMultiplicity(ew *errWriter, m *results.Multiplicity, st Style) {
 		case !mem.Tested:
 			d = "not tested"
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t  %s\n", ids[i+1], p, Num(mem.PAdjusted), d)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t  %s\n", ids[i+1], p, NumP(mem.PAdjusted), d)
 	}
 	tw.Flush()
 	for _, mem := range m.Members {
@@ -389,8 +462,8 @@ func writePostHoc(ew *errWriter, a *results.Analysis, alpha float64, st Style) {
 	fmt.Fprintf(tw, "  %s\t%s\tp\t%s\t%s\tCliff's delta\tHL shift\tinterval\t\n", pairs[0], ph.Statistic, pname, st.cell(decisions[0], false))
 	for i, p := range ph.Pairs {
 		iv := p.HodgesLehmann.Interval
-		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t\n", pairs[i+1], NumOr(p.Statistic, "-"), NumOr(p.P, "-"),
-			NumOr(p.PAdjusted, "-"), st.cell(decisions[i+1], p.Reject), Num(p.CliffsDelta), Num(p.HodgesLehmann.Shift), Num(iv.Low), Num(iv.High))
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t\n", pairs[i+1], NumOr(p.Statistic, "-"), NumPOr(p.P, "-"),
+			NumPOr(p.PAdjusted, "-"), st.cell(decisions[i+1], p.Reject), Num(p.CliffsDelta), Num(p.HodgesLehmann.Shift), Num(iv.Low), Num(iv.High))
 	}
 	tw.Flush()
 	for _, p := range ph.Pairs {

@@ -1,9 +1,14 @@
 package report
 
 import (
+	"bytes"
 	"fmt"
+	"math"
+	"math/rand/v2"
 	"os"
 	"regexp"
+	"slices"
+	"strconv"
 	"strings"
 	"testing"
 	"unicode/utf8"
@@ -28,16 +33,108 @@ func TestFormatP(t *testing.T) {
 	}
 }
 
+// TestNum checks the plain decimals people read, value by value; each expected text is
+// worked by hand from the rule in Num's documentation.
 func TestNum(t *testing.T) {
 	for _, tc := range []struct {
 		x    float64
 		want string
 	}{
-		{13.132423784966898, "13.1324"}, {0, "0"}, {17, "17"}, {12.375, "12.375"},
-		{0.995779, "0.995779"}, {2.5e-7, "2.5e-07"}, {1.5e9, "1.5e+09"}, {-0.25, "-0.25"},
+		{13.132423784966898, "13.1324"}, {0, "0"}, {math.Copysign(0, -1), "0"}, {17, "17"}, {12.375, "12.375"},
+		{0.995779, "0.995779"}, {-0.25, "-0.25"}, {0.0184238, "0.0184238"}, {147.5, "147.5"},
+		{1e-4, "0.0001"}, {1e-7, "0.0000001"}, {2.5e-7, "0.00000025"}, {-3.14159265e-9, "-0.00000000314159"},
+		{0.000123456789, "0.000123457"}, {9.9999999e-5, "0.0001"}, {1.5e-15, "0.0000000000000015"},
+		{123456.7, "123457"}, {999999.4, "999999"}, {999999.7, "999999.7"}, {1234567.891, "1234567.89"},
+		{1.5e9, "1500000000"}, {123456789.5, "123456789.5"}, {1.165e8, "116500000"}, {-1.165e8, "-116500000"},
+		{9.99e14, "999000000000000"}, {1e15, "1e+15"}, {-2.5e15, "-2.5e+15"}, {1.2345678e20, "1.23457e+20"},
+		{9.99e-16, "9.99e-16"}, {5e-324, "4.94066e-324"}, {math.MaxFloat64, "1.79769e+308"},
+		{math.NaN(), "NaN"}, {math.Inf(1), "+Inf"}, {math.Inf(-1), "-Inf"},
 	} {
 		if got := Num(tc.x); got != tc.want {
 			t.Errorf("Num(%v) = %q, want %q", tc.x, got, tc.want)
+		}
+	}
+}
+
+// TestNumP checks the p-value rule: exponent form with four significant digits below
+// 1e-4, otherwise as Num (worked by hand).
+func TestNumP(t *testing.T) {
+	for _, tc := range []struct {
+		p    float64
+		want string
+	}{
+		{0, "0"}, {1, "1"}, {0.05, "0.05"}, {0.00259997, "0.00259997"}, {1e-4, "0.0001"},
+		{9.99e-5, "9.99e-05"}, {1e-7, "1e-07"}, {8.594571080305823e-16, "8.595e-16"}, {5e-324, "4.941e-324"},
+		{math.NaN(), "NaN"},
+	} {
+		if got := NumP(tc.p); got != tc.want {
+			t.Errorf("NumP(%v) = %q, want %q", tc.p, got, tc.want)
+		}
+	}
+	v := 3.3e-5
+	if got := FormatP(&v, -4.48); got != "3.3e-05" {
+		t.Errorf("FormatP(3.3e-5) = %q, want NumP's %q", got, "3.3e-05")
+	}
+}
+
+// TestFull checks the digits written for programs, value by value (worked by hand), and
+// that every one reads back to the same double.
+func TestFull(t *testing.T) {
+	for _, tc := range []struct {
+		x    float64
+		want string
+	}{
+		{0, "0"}, {math.Copysign(0, -1), "-0"}, {1e-7, "0.0000001"}, {123456789.5, "123456789.5"},
+		{1.165e8, "116500000"}, {9.99e14, "999000000000000"}, {1e15, "1e+15"}, {0.1, "0.1"},
+		{0.018423812345678901, "0.0184238123456789"}, {1.5e-15, "0.0000000000000015"},
+		{8.594571080305823e-16, "8.594571080305823e-16"}, {-4.5e17, "-4.5e+17"},
+		{math.NaN(), "NaN"}, {math.Inf(1), "+Inf"}, {math.Inf(-1), "-Inf"},
+	} {
+		got := full(tc.x)
+		if got != tc.want {
+			t.Errorf("full(%v) = %q, want %q", tc.x, got, tc.want)
+		}
+		if back, err := strconv.ParseFloat(got, 64); err != nil || !sameFloat(back, tc.x) {
+			t.Errorf("full(%v) = %q reads back as %v (%v)", tc.x, got, back, err)
+		}
+	}
+}
+
+// sameFloat is bit equality, with every NaN equal to every NaN.
+func sameFloat(a, b float64) bool {
+	return math.Float64bits(a) == math.Float64bits(b) || math.IsNaN(a) && math.IsNaN(b)
+}
+
+// TestNumPlainRange checks the rules on seeded values of every magnitude from 1e-15 up to
+// 1e15, of both signs: Num and full write no exponent there, full reads back exactly, and
+// Num is within half a unit of its last digit: six significant digits below 1e6, two
+// decimals from there on.
+func TestNumPlainRange(t *testing.T) {
+	rng := rand.New(rand.NewPCG(14, 15))
+	for i := range 20000 {
+		x := math.Ldexp(1+rng.Float64(), rng.IntN(100)-50) // 2^-50 ≈ 8.9e-16 up to 2^50 ≈ 1.1e15
+		if i%2 == 1 {
+			x = -x
+		}
+		if math.Abs(x) >= plainMax || math.Abs(x) < plainMin {
+			continue
+		}
+		n, f := Num(x), full(x)
+		if strings.ContainsAny(n+f, "eE") {
+			t.Fatalf("%v: Num %q, full %q: exponent form inside the plain range", x, n, f)
+		}
+		if back, err := strconv.ParseFloat(f, 64); err != nil || back != x {
+			t.Fatalf("full(%v) = %q reads back as %v (%v)", x, f, back, err)
+		}
+		back, err := strconv.ParseFloat(n, 64)
+		tol := 5e-6 * math.Abs(x) // half a unit in the sixth significant digit, at most
+		if math.Abs(x) >= 999999.5 {
+			tol = 0.005
+		}
+		// Both the text read back and x are doubles: allow the spacing of doubles near x.
+		tol += 2 * (math.Nextafter(math.Abs(x), math.Inf(1)) - math.Abs(x))
+		if err != nil || math.Abs(back-x) > tol {
+			t.Fatalf("Num(%v) = %q is %v away", x, n, back-x)
 		}
 	}
 }
@@ -312,6 +409,63 @@ func TestLettersRenderings(t *testing.T) {
 		}
 		if strings.Contains(out, "after adjustment") {
 			t.Errorf("%s names an adjustment that was not applied:\n%s", name, out)
+		}
+	}
+}
+
+// eNumber finds numbers in exponent form as strconv writes them, such as 1.165e+08 or
+// 5e-05, standing alone (not inside a hash or a colour).
+var eNumber = regexp.MustCompile(`(?:^|[^0-9A-Za-z_.])([-+]?[0-9]+(?:\.[0-9]+)?e[-+][0-9]+)(?:[^0-9A-Za-z_]|$)`)
+
+// svgElement matches an inline SVG plot, whose axis labels plots.go writes.
+var svgElement = regexp.MustCompile(`(?s)<svg.*?</svg>`)
+
+// TestRenderingsPlainNumbers gives one analysis numbers of every size (a rank sum of
+// 1.165e8, a median of 123456789.5, quartiles of 9.99e14 and 1e15, a shift of 1e-7, a
+// Cliff's delta of -0, a pair's p of 2.5e-7, an epsilon-squared of 3e-9) and renders the terminal summary, summary.md,
+// pairs.csv and report.html (its plots aside): each shows the plain decimals, and exponent
+// form appears only at 1e15 and above or for a p-value below 1e-4.
+func TestRenderingsPlainNumbers(t *testing.T) {
+	res, vals := loadFixture(t, "dissolution")
+	a := &res.Analyses[0]
+	a.Groups[0].RankSum, a.Groups[0].Median = 1.165e8, 123456789.5
+	a.Groups[1].Q1, a.Groups[1].Q3 = 9.99e14, 1e15
+	pr := &a.PostHoc.Pairs[0]
+	pr.HodgesLehmann.Shift, pr.CliffsDelta, pr.P = 1e-7, math.Copysign(0, -1), ptr(2.5e-7)
+	pr.Statistic = ptr(123456789.5)
+	a.EffectSizes.EpsilonSquared = 3e-9
+
+	var text, md, pairs bytes.Buffer
+	if err := SummaryWith(&text, res, "data.csv", Style{}); err != nil {
+		t.Fatal(err)
+	}
+	if err := Markdown(&md, res, goldenMeta, "run"); err != nil {
+		t.Fatal(err)
+	}
+	if err := PairsCSV(&pairs, res); err != nil {
+		t.Fatal(err)
+	}
+	page := svgElement.ReplaceAllString(string(render(t, res, goldenMeta, vals)), "<svg/>")
+	for _, tc := range []struct {
+		name, out string
+		want      []string // plain decimals the rendering must show
+		allowed   []string // the exponent forms it may show
+	}{
+		{"summary", text.String(), []string{"123456789.5", "999000000000000", "0.0000001", "   0  "}, []string{"1e+15", "2.5e-07"}},
+		{"summary.md", md.String(), []string{"| 0.000000003 |"}, nil},
+		{"pairs.csv", pairs.String(), []string{",123456789.5,", ",0.00000025,", ",-0,", ",0.0000001,"}, nil},
+		{"report.html", page, []string{">116500000<", ">123456789.5<", ">999000000000000<", ">0.0000001<",
+			`data-value="123456789.5"`, `data-value="0.00000025"`}, []string{"1e+15", "2.5e-07"}},
+	} {
+		for _, w := range tc.want {
+			if !strings.Contains(tc.out, w) {
+				t.Errorf("%s: no %q", tc.name, w)
+			}
+		}
+		for _, m := range eNumber.FindAllStringSubmatch(tc.out, -1) {
+			if e := m[1]; !slices.Contains(tc.allowed, e) {
+				t.Errorf("%s: exponent form %q", tc.name, e)
+			}
 		}
 	}
 }
