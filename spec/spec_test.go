@@ -3,9 +3,11 @@ package spec
 import (
 	"encoding/json"
 	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -102,13 +104,60 @@ func TestSeed(t *testing.T) {
 
 const seedRange = "expected an integer from 0 to 18446744073709551615 (64 bits), as a number or as digits in quotes"
 
+// parseErrorCase is a plan and every line of its error, in order.
+type parseErrorCase struct {
+	name string
+	src  string
+	want []string
+}
+
 // TestParseErrors checks the position, key path and wording of each kind of plan error.
 func TestParseErrors(t *testing.T) {
-	for _, tc := range []struct {
-		name string
-		src  string
-		want []string // every line of the error, in order
-	}{
+	for _, tc := range parseErrorCases(t) {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := Parse("plan.yaml", []byte(tc.src))
+			if err == nil {
+				t.Fatal("no error")
+			}
+			list, ok := AsList(err)
+			if !ok {
+				t.Fatalf("error %T is not a plan error list: %v", err, err)
+			}
+			got := strings.Split(list.Error(), "\n")
+			if !reflect.DeepEqual(got, tc.want) {
+				t.Errorf("got\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(tc.want, "\n"))
+			}
+		})
+	}
+}
+
+// TestErrorsBesideSchemaError adds an unknown key at the end of each plan of
+// TestParseErrors: every error found before is still found, in the same round, with the
+// unknown key's after it. This holds for the checks of meaning too, which run on what
+// passed the schema.
+func TestErrorsBesideSchemaError(t *testing.T) {
+	for _, tc := range parseErrorCases(t) {
+		if strings.Contains(tc.want[0], "(top level)") || strings.Contains(tc.want[0], "(syntax)") {
+			continue // a document that is not a mapping of keys, or one error stops the rest
+		}
+		t.Run(tc.name, func(t *testing.T) {
+			src := strings.TrimSuffix(tc.src, "\n") + "\nzzz: 1\n"
+			line := strings.Count(src, "\n")
+			want := append(slices.Clone(tc.want), fmt.Sprintf("plan.yaml:%d:1: zzz: unknown key; expected one of: alpha, analyses, data, description, groups, id, multiplicity, rankplan, seed, title", line))
+			_, err := Parse("plan.yaml", []byte(src))
+			list, ok := AsList(err)
+			if !ok {
+				t.Fatalf("not a plan error list: %v", err)
+			}
+			if got := strings.Split(list.Error(), "\n"); !reflect.DeepEqual(got, want) {
+				t.Errorf("got\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
+			}
+		})
+	}
+}
+
+func parseErrorCases(t *testing.T) []parseErrorCase {
+	return []parseErrorCase{
 		{"unknown key", edit(t, "outcome: y", "outcome: y\ncolour: red"),
 			[]string{"plan.yaml:8:3: data.colour: unknown key; expected one of: decimal, delimiter, file, group, missing, outcome, sha256, unit"}},
 		{"unknown top-level key", goodPlan + "extra: 1\n",
@@ -228,21 +277,6 @@ func TestParseErrors(t *testing.T) {
 			[]string{"plan.yaml:10:11: analyses: expected a list; found 5"}},
 		{"no order check on a refused include", edit(t, "alpha: 0.05", "groups: {include: [A], order: [A, C]}\nalpha: 0.05"),
 			[]string{"plan.yaml:8:19: groups.include: expected at least 2 items; found 1"}},
-	} {
-		t.Run(tc.name, func(t *testing.T) {
-			_, err := Parse("plan.yaml", []byte(tc.src))
-			if err == nil {
-				t.Fatal("no error")
-			}
-			list, ok := AsList(err)
-			if !ok {
-				t.Fatalf("error %T is not a plan error list: %v", err, err)
-			}
-			got := strings.Split(list.Error(), "\n")
-			if !reflect.DeepEqual(got, tc.want) {
-				t.Errorf("got\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(tc.want, "\n"))
-			}
-		})
 	}
 }
 
