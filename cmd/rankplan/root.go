@@ -275,8 +275,10 @@ help of that command, as --help does.`,
 			target, rest, err := root.Find(args)
 			if err != nil || len(rest) > 0 {
 				msg := fmt.Sprintf("help: unknown help topic %q", strings.Join(args, " "))
-				if near := root.SuggestionsFor(args[0]); len(args) == 1 && len(near) > 0 {
-					msg += " (did you mean " + strings.Join(near, " or ") + "?)"
+				if len(args) == 1 {
+					if near := root.SuggestionsFor(args[0]); len(near) > 0 {
+						msg += " (did you mean " + strings.Join(near, " or ") + "?)"
+					}
 				}
 				return usageErrorf("%s; expected one of the commands: %s", msg, strings.Join(helpTopics(root), ", "))
 			}

@@ -111,6 +111,7 @@ success.`,
 	f.StringVar(&o.Meaning, "meaning", "authorship", "with --sign: the meaning of the signature (e.g. authorship, review, approval)")
 	f.BoolVar(&jsonOut, "json", false, "print results.json on standard output, exactly as written to DIR (or, on failure, a JSON error object); other lines go to standard error")
 	_ = c.MarkFlagDirname("out")
+	_ = c.RegisterFlagCompletionFunc("data-seen", fixedValues([]string{"true", "false"}))
 	return c
 }
 
