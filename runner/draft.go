@@ -16,6 +16,7 @@ import (
 	"strings"
 
 	"rankplan/runner/data"
+	"rankplan/runner/internal/natsort"
 	"rankplan/spec"
 )
 
@@ -178,7 +179,7 @@ func draftFromFile(ctx context.Context, o DraftOptions, d *spec.Draft) error {
 	for i := range order {
 		order[i] = i
 	}
-	slices.SortFunc(order, func(a, b int) int { return strings.Compare(t.Groups[a], t.Groups[b]) })
+	slices.SortFunc(order, func(a, b int) int { return natsort.Compare(t.Groups[a], t.Groups[b]) })
 	for i, g := range order {
 		if i == 12 {
 			d.GroupsFound = append(d.GroupsFound, fmt.Sprintf("… (%d in all)", len(order)))

@@ -17,6 +17,7 @@ import (
 
 	"rankplan/internal/infile"
 	"rankplan/runner/data"
+	"rankplan/runner/internal/natsort"
 	"rankplan/runner/results"
 	"rankplan/spec"
 )
@@ -231,7 +232,8 @@ func quoteEach(s []string) []string {
 
 // groupOrder decides which data groups are analysed, in which order, and checks that the
 // groups the plan names exist. Without groups.include or groups.order every group found is
-// analysed, ordered by label (byte order), so that the order does not depend on row order.
+// analysed, ordered by label in the natural order of [natsort.Compare] (runs of digits as
+// numbers: "L2" before "L10"), so that the order does not depend on row order.
 func groupOrder(p *spec.Plan, path string, found []string) ([]string, spec.ErrorList) {
 	inData := map[string]bool{}
 	for _, g := range found {
@@ -274,9 +276,11 @@ func groupOrder(p *spec.Plan, path string, found []string) ([]string, spec.Error
 	return sortedCopy(found), nil
 }
 
+// sortedCopy returns the labels in s in the natural order of [natsort.Compare], the
+// order in which groups are analysed and labels are listed in messages.
 func sortedCopy(s []string) []string {
 	c := slices.Clone(s)
-	slices.Sort(c)
+	natsort.Sort(c)
 	return c
 }
 
@@ -360,7 +364,7 @@ func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []floa
 		return t.Groups[g]
 	}
 	slices.SortFunc(keys, func(x, y key) int {
-		return cmp.Or(cmp.Compare(reasonRank[x.reason], reasonRank[y.reason]), strings.Compare(label(x.group), label(y.group)))
+		return cmp.Or(cmp.Compare(reasonRank[x.reason], reasonRank[y.reason]), natsort.Compare(label(x.group), label(y.group)))
 	})
 	in.Excluded = []results.Exclusion{}
 	for _, k := range keys {

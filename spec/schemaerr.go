@@ -15,21 +15,25 @@ import (
 )
 
 // validateSchema checks the converted plan against the embedded plan schema and turns
-// every leaf failure into a positioned Error worded by this package.
-func validateSchema(d *document) ErrorList {
+// every leaf failure into a positioned Error worded by this package. It also returns the
+// key tokens of every value that failed (for a missing required key, the key's own
+// tokens), whether or not its error is shown; nil tokens stand for the whole plan.
+func validateSchema(d *document) (ErrorList, [][]string) {
+	whole := [][]string{nil}
 	schema, tree, err := schemas.Plan()
 	if err != nil {
-		return ErrorList{{File: d.file, Path: "(schema)", Msg: err.Error()}}
+		return ErrorList{{File: d.file, Path: "(schema)", Msg: err.Error()}}, whole
 	}
 	err = schema.Validate(d.value)
 	if err == nil {
-		return nil
+		return nil, nil
 	}
 	var ve *jsonschema.ValidationError
 	if !errors.As(err, &ve) {
-		return ErrorList{{File: d.file, Line: 1, Column: 1, Path: "(top level)", Msg: err.Error()}}
+		return ErrorList{{File: d.file, Line: 1, Column: 1, Path: "(top level)", Msg: err.Error()}}, whole
 	}
 	var errs ErrorList
+	var failed [][]string
 	var walk func(v *jsonschema.ValidationError)
 	walk = func(v *jsonschema.ValidationError) {
 		if len(v.Causes) > 0 {
@@ -39,13 +43,14 @@ func validateSchema(d *document) ErrorList {
 			return
 		}
 		for _, e := range describe(d, tree, v) {
+			failed = append(failed, e.tokens)
 			if !d.underBad(e.tokens) {
 				errs = append(errs, e.Error)
 			}
 		}
 	}
 	walk(ve)
-	return errs
+	return errs, failed
 }
 
 // schemaAt returns the schema object that holds the keyword at an absolute keyword
@@ -98,7 +103,8 @@ func quoteAll(vs []any) string {
 	return strings.Join(parts, ", ")
 }
 
-// located is an error with the key tokens of the value it is about.
+// located is an error with the key tokens of the value it is about (which may be absent:
+// a missing required key).
 type located struct {
 	tokens []string
 	*Error
@@ -119,7 +125,9 @@ func describe(d *document, tree any, v *jsonschema.ValidationError) []located {
 		var out []located
 		for _, r := range s["required"].([]any) {
 			if _, ok := obj[r.(string)]; !ok {
-				out = append(out, located{tokens, d.errAt(tokens, true, "missing required key %q", r)})
+				// The error is shown at the mapping; it is about the missing key.
+				sub := append(append([]string(nil), tokens...), r.(string))
+				out = append(out, located{sub, d.errAt(tokens, true, "missing required key %q", r)})
 			}
 		}
 		return out

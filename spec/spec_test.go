@@ -3,6 +3,7 @@ package spec
 import (
 	"encoding/json"
 	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -103,13 +104,60 @@ func TestSeed(t *testing.T) {
 
 const seedRange = "expected an integer from 0 to 18446744073709551615 (64 bits), as a number or as digits in quotes"
 
+// parseErrorCase is a plan and every line of its error, in order.
+type parseErrorCase struct {
+	name string
+	src  string
+	want []string
+}
+
 // TestParseErrors checks the position, key path and wording of each kind of plan error.
 func TestParseErrors(t *testing.T) {
-	for _, tc := range []struct {
-		name string
-		src  string
-		want []string // every line of the error, in order
-	}{
+	for _, tc := range parseErrorCases(t) {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := Parse("plan.yaml", []byte(tc.src))
+			if err == nil {
+				t.Fatal("no error")
+			}
+			list, ok := AsList(err)
+			if !ok {
+				t.Fatalf("error %T is not a plan error list: %v", err, err)
+			}
+			got := strings.Split(list.Error(), "\n")
+			if !reflect.DeepEqual(got, tc.want) {
+				t.Errorf("got\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(tc.want, "\n"))
+			}
+		})
+	}
+}
+
+// TestErrorsBesideSchemaError adds an unknown key at the end of each plan of
+// TestParseErrors: every error found before is still found, in the same round, with the
+// unknown key's after it. This holds for the checks of meaning too, which run on what
+// passed the schema.
+func TestErrorsBesideSchemaError(t *testing.T) {
+	for _, tc := range parseErrorCases(t) {
+		if strings.Contains(tc.want[0], "(top level)") || strings.Contains(tc.want[0], "(syntax)") {
+			continue // a document that is not a mapping of keys, or one error stops the rest
+		}
+		t.Run(tc.name, func(t *testing.T) {
+			src := strings.TrimSuffix(tc.src, "\n") + "\nzzz: 1\n"
+			line := strings.Count(src, "\n")
+			want := append(slices.Clone(tc.want), fmt.Sprintf("plan.yaml:%d:1: zzz: unknown key; expected one of: alpha, analyses, data, description, groups, id, multiplicity, rankplan, seed, title", line))
+			_, err := Parse("plan.yaml", []byte(src))
+			list, ok := AsList(err)
+			if !ok {
+				t.Fatalf("not a plan error list: %v", err)
+			}
+			if got := strings.Split(list.Error(), "\n"); !reflect.DeepEqual(got, want) {
+				t.Errorf("got\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
+			}
+		})
+	}
+}
+
+func parseErrorCases(t *testing.T) []parseErrorCase {
+	return []parseErrorCase{
 		{"unknown key", edit(t, "outcome: y", "outcome: y\ncolour: red"),
 			[]string{"plan.yaml:8:3: data.colour: unknown key; expected one of: decimal, delimiter, file, group, missing, outcome, sha256, unit"}},
 		{"unknown top-level key", goodPlan + "extra: 1\n",
@@ -208,21 +256,41 @@ func TestParseErrors(t *testing.T) {
 			[]string{`plan.yaml:15:36: analyses[0].subset.values: expected at least one item; found none`}},
 		{"unquoted number as text", edit(t, "group: g", "group: 12"),
 			[]string{"plan.yaml:6:10: data.group: expected text; found 12; put it in quotes to make it text"}},
-	} {
-		t.Run(tc.name, func(t *testing.T) {
-			_, err := Parse("plan.yaml", []byte(tc.src))
-			if err == nil {
-				t.Fatal("no error")
-			}
-			list, ok := AsList(err)
-			if !ok {
-				t.Fatalf("error %T is not a plan error list: %v", err, err)
-			}
-			got := strings.Split(list.Error(), "\n")
-			if !reflect.DeepEqual(got, tc.want) {
-				t.Errorf("got\n%s\nwant\n%s", strings.Join(got, "\n"), strings.Join(tc.want, "\n"))
-			}
-		})
+
+		// Schema errors and the checks of meaning in one round, in file order. A check
+		// runs only when no value it reads has an error already (see checkRest).
+		{"rule error before a schema error", strings.Replace(edit(t, "outcome: y", "outcome: y\ndecimal: \",\""), "id: p1", `id: "p 1"`, 1) + "    posthoc: {adjust: holm}\n",
+			[]string{
+				`plan.yaml:2:5: id: expected a short identifier of the plan: letters, digits, '.', '_' or '-', starting with a letter or digit; found the text "p 1"`,
+				`plan.yaml:8:12: data.decimal: a decimal comma needs another delimiter; set data.delimiter to ";" or "tab"`,
+				"plan.yaml:16:23: analyses[0].posthoc.adjust: an adjustment needs a post-hoc method; set posthoc.method",
+			}},
+		{"rule error after a conversion error", strings.Replace(edit(t, "method: asymptotic", "method: permutation"), "seed: 42", "seed: .inf", 1),
+			[]string{
+				"plan.yaml:9:7: seed: .inf is not a finite number; plans hold finite numbers only",
+				`plan.yaml:13:5: analyses[0].pvalue: method "permutation" needs resamples, the number of Monte Carlo resamples (e.g. 100000)`,
+			}},
+		{"no rule beside a conversion error inside", edit(t, "method: asymptotic", "method: permutation\nextra: .inf"),
+			[]string{"plan.yaml:15:14: analyses[0].pvalue.extra: .inf is not a finite number; plans hold finite numbers only"}},
+		{"no rule on a refused value", edit(t, "method: asymptotic", "method: chi2\nresamples: 5"),
+			[]string{`plan.yaml:14:15: analyses[0].pvalue.method: expected one of "asymptotic", "exact", "permutation", "auto"; found the text "chi2"`}},
+		{"no rule on a value of the wrong type", edit(t, "outcome: y", "outcome: [g]"),
+			[]string{"plan.yaml:7:12: data.outcome: expected text; found a list"}},
+		{"no rule on a missing key", edit(t, "group: g", "# no group") + "    subset: {column: site, values: [A]}\n",
+			[]string{`plan.yaml:4:1: data: missing required key "group"`}},
+		{"no duplicate id for two missing ids", edit(t, "- id: a", "- title: first") + "  - test: kruskal-wallis\n    pvalue: {method: asymptotic}\n",
+			[]string{
+				`plan.yaml:11:5: analyses[0]: missing required key "id"`,
+				`plan.yaml:15:5: analyses[1]: missing required key "id"`,
+			}},
+		{"no rule on a key written twice", edit(t, "method: asymptotic", "method: asymptotic\nresamples: 5\nresamples: 6"),
+			[]string{`plan.yaml:16:7: analyses[0].pvalue.resamples: duplicate key; "resamples" is already set at line 15`}},
+		{"no id lookup when an id is refused", strings.Replace(goodPlan, "- id: a", `- id: "a b"`, 1) + "multiplicity: {rule: holm, analyses: [\"a b\", c]}\n",
+			[]string{`plan.yaml:11:9: analyses[0].id: expected a short identifier of the analysis, unique in the plan; found the text "a b"`}},
+		{"no family check when the analyses are refused", strings.SplitAfter(goodPlan, "seed: 42\n")[0] + "analyses: 5\nmultiplicity: {rule: holm, analyses: [a, b]}\n",
+			[]string{"plan.yaml:10:11: analyses: expected a list; found 5"}},
+		{"no order check on a refused include", edit(t, "alpha: 0.05", "groups: {include: [A], order: [A, C]}\nalpha: 0.05"),
+			[]string{"plan.yaml:8:19: groups.include: expected at least 2 items; found 1"}},
 	}
 }
 

@@ -35,7 +35,7 @@ const (
 const exitCodesHelp = `Exit codes:
   0  success
   1  the command failed for a reason other than its input (e.g. writing the output)
-  2  usage error (unknown command or flag), invalid plan or unusable data
+  2  usage error (unknown command, help topic or flag), invalid plan or unusable data
   3  verify: results or inputs differ
   4  verify: integrity failure (tampering, broken chain, bad signature)
   5  verify: the run is incomplete
@@ -204,6 +204,7 @@ follows the lab's own procedures and software validation.
 		}
 		return &usageError{fmt.Errorf("%s: %w", strings.TrimPrefix(c.CommandPath(), "rankplan "), err)}
 	})
+	root.SetHelpCommand(newHelpCmd())
 	u := newUI(stdout, stderr, os.Getenv)
 	root.PersistentFlags().BoolP("quiet", "q", false, "print no summary on standard output (errors still go to standard error; exit codes are the same)")
 	root.AddCommand(newInitCmd(), newCheckCmd(u), newRunCmd(u), newVerifyCmd(u), newLockCmd(), newKeygenCmd(), newSchemaCmd(), newSelftestCmd(), newVersionCmd())
@@ -245,6 +246,59 @@ func unknownCommand(c *cobra.Command, args []string) error {
 		msg += "; did you mean " + strings.Join(near, " or ") + "?"
 	}
 	return usageErrorf("%s", msg)
+}
+
+// newHelpCmd is 'rankplan help [command]', which prints what 'rankplan [command] --help'
+// prints. A topic that names no command is a usage error (exit 2), as an unknown command
+// is, with the commands of a similar name and the list of commands.
+func newHelpCmd() *cobra.Command {
+	return &cobra.Command{
+		Use:   "help [command]",
+		Short: "Print the help of rankplan or of one of its commands",
+		Long: `help prints the help of rankplan, or with a command (e.g. 'rankplan help run') the
+help of that command, as --help does.`,
+		ValidArgsFunction: func(c *cobra.Command, args []string, toComplete string) ([]cobra.Completion, cobra.ShellCompDirective) {
+			target, rest, err := c.Root().Find(args)
+			if err != nil || len(rest) > 0 {
+				return nil, cobra.ShellCompDirectiveNoFileComp
+			}
+			var out []cobra.Completion
+			for _, name := range helpTopics(target) {
+				if strings.HasPrefix(name, toComplete) {
+					out = append(out, name)
+				}
+			}
+			return out, cobra.ShellCompDirectiveNoFileComp
+		},
+		RunE: func(c *cobra.Command, args []string) error {
+			root := c.Root()
+			target, rest, err := root.Find(args)
+			if err != nil || len(rest) > 0 {
+				msg := fmt.Sprintf("help: unknown help topic %q", strings.Join(args, " "))
+				if len(args) == 1 {
+					if near := root.SuggestionsFor(args[0]); len(near) > 0 {
+						msg += " (did you mean " + strings.Join(near, " or ") + "?)"
+					}
+				}
+				return usageErrorf("%s; expected one of the commands: %s", msg, strings.Join(helpTopics(root), ", "))
+			}
+			target.InitDefaultHelpFlag()
+			target.InitDefaultVersionFlag()
+			return target.Help()
+		},
+	}
+}
+
+// helpTopics lists the commands under c that 'help' takes, in the order --help lists
+// them: the listed commands and help itself.
+func helpTopics(c *cobra.Command) []string {
+	var names []string
+	for _, sub := range c.Commands() {
+		if sub.IsAvailableCommand() || sub.Name() == "help" {
+			names = append(names, sub.Name())
+		}
+	}
+	return names
 }
 
 // exactArgs is cobra.ExactArgs with our usage error type and wording.

@@ -1,10 +1,12 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
+	"strconv"
 
 	"github.com/spf13/cobra"
 
@@ -15,7 +17,7 @@ import (
 func newRunCmd(u *ui) *cobra.Command {
 	var (
 		o        runner.RunOptions
-		dataSeen bool
+		dataSeen trueOrFalse
 		jsonOut  bool
 	)
 	c := &cobra.Command{
@@ -29,8 +31,9 @@ rankplan never overwrites earlier results. The folder appears only when the run 
 finished; a failed or killed run leaves DIR.incomplete-XXXX instead.
 
 With --lock, the plan must match the lock made by 'rankplan lock'; a plan that differs runs
-only with --deviation "reason" (repeat for several) and --data-seen=true|false, and every
-deviation is recorded. With --sign KEY the final audit head is signed (Ed25519).
+only with --deviation "reason" (repeat for several) and --data-seen true|false (or
+--data-seen=true|false: the value is required), and every deviation is recorded. With
+--sign KEY the final audit head is signed (Ed25519).
 
 Monte Carlo and bootstrap resamples run on --workers goroutines; the results are the same
 bytes for any number of workers, on any machine. When standard error is a terminal, a
@@ -48,8 +51,8 @@ success.`,
 			if o.Workers < 0 {
 				return usageErrorf("run: --workers %d: expected 0 (one per core) or more", o.Workers)
 			}
-			if c.Flags().Changed("data-seen") {
-				o.DataSeen = &dataSeen
+			if dataSeen.set {
+				o.DataSeen = &dataSeen.value
 			}
 			o.Args = append([]string{"rankplan", "run"}, args...)
 			q := quiet(c)
@@ -103,10 +106,43 @@ success.`,
 	f.StringVar(&o.Reason, "reason", "", "why this run is made, recorded in the audit log")
 	f.StringVar(&o.LockPath, "lock", "", "a plan lock (from 'rankplan lock') the plan must match")
 	f.StringArrayVar(&o.Deviations, "deviation", nil, "the reason for a difference from the locked plan (repeatable)")
-	f.BoolVar(&dataSeen, "data-seen", false, "with --deviation: whether the data had been seen when the plan was changed")
+	f.Var(&dataSeen, "data-seen", "with --deviation: whether the data had been seen when the plan was changed (required value: true or false)")
 	f.StringVar(&o.SignKey, "sign", "", "an Ed25519 private key (from 'rankplan keygen') to sign the audit head")
 	f.StringVar(&o.Meaning, "meaning", "authorship", "with --sign: the meaning of the signature (e.g. authorship, review, approval)")
 	f.BoolVar(&jsonOut, "json", false, "print results.json on standard output, exactly as written to DIR (or, on failure, a JSON error object); other lines go to standard error")
 	_ = c.MarkFlagDirname("out")
+	_ = c.RegisterFlagCompletionFunc("data-seen", fixedValues([]string{"true", "false"}))
 	return c
 }
+
+// trueOrFalse is a flag whose value, true or false, is required, written after a space or
+// an '='. Unlike a bool flag, which takes its value only after '=', it never leaves
+// "--data-seen false" to be read as the flag and an argument "false".
+type trueOrFalse struct {
+	value bool
+	set   bool // the flag was given
+}
+
+func (b *trueOrFalse) Set(s string) error {
+	switch s {
+	case "true":
+		b.value = true
+	case "false":
+		b.value = false
+	default:
+		return errors.New("expected true or false")
+	}
+	b.set = true
+	return nil
+}
+
+// String returns the value given, or "" when the flag was not given: it has no default.
+func (b *trueOrFalse) String() string {
+	if !b.set {
+		return ""
+	}
+	return strconv.FormatBool(b.value)
+}
+
+// Type names the values in the help text.
+func (b *trueOrFalse) Type() string { return "true|false" }
