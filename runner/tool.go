@@ -10,7 +10,7 @@ import (
 )
 
 // Version is rankplan's release version.
-const Version = "0.1.0-dev"
+const Version = "0.2.0-dev"
 
 // ToolInfo identifies the running build of rankplan.
 type ToolInfo struct {

@@ -149,8 +149,10 @@ func (d Draft) YAML() []byte {
 	p("      method: %s  # %s\n", d.PValue, choices(PValueMethods()))
 	if d.Resamples > 0 {
 		p("      resamples: %d  # Monte Carlo resamples (permutation, auto)\n", d.Resamples)
+		p("      interval_level: %v  # level of the Monte Carlo p-value's Clopper-Pearson interval\n", DefaultIntervalLevel)
 	} else {
 		p("      # resamples: 100000  # Monte Carlo resamples (permutation, auto)\n")
+		p("      # interval_level: %v  # level of the Monte Carlo p-value's interval (permutation, auto)\n", DefaultIntervalLevel)
 	}
 	p("    effect_size:\n")
 	if d.EffectResamples > 0 {

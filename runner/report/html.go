@@ -20,7 +20,7 @@ type Meta struct {
 	DataFile, DataSHA256                      string
 	Lock                                      string   // e.g. "locked: lock sha256:… matches" or "no lock"
 	Deviations                                []string // each deviation from the lock, in words; empty: none
-	Tool                                      string   // "rankplan 0.1.0-dev (revision …, go1.26)"
+	Tool                                      string   // "rankplan 0.2.0-dev (revision …, go1.26)"
 	Seed, RNG                                 string
 	AuditHead                                 string // "sha256:<hex>", the chain head when the report was written
 	AuditSeq                                  int64  // its record number
