@@ -314,6 +314,7 @@ func closeRunFolder(ctx context.Context, w *folder.Writer, in *runInputs, ex *ex
 	}
 	head, seq := w.Head()
 	meta := reportMeta(in.planRec, in.dataRec, in.toolRec, p.Seed.String(), head, seq)
+	meta.ValueScale = ex.valueScale
 	renders, err := renderings(ctx, res, meta, ex.sorted, opt.Out)
 	if err != nil {
 		return nil, err
