@@ -112,9 +112,6 @@ const (
 	LogScale    ValueScale = "log"
 )
 
-// ValueScales lists the value scales, in the plan schema's order.
-var ValueScales = []ValueScale{LinearScale, LogScale}
-
 // BoxValueScale is the plan's value scale for the box plot: linear unless the plan's report
 // options say log.
 func (p *Plan) BoxValueScale() ValueScale {
