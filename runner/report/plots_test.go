@@ -370,3 +370,29 @@ func TestForestFigure(t *testing.T) {
 		t.Errorf("%d pairs: %v, %.80q", len(ph.Pairs), err, fig)
 	}
 }
+
+// TestForestRange checks the forest plot's axis: quantile7 agrees with stats.Quartiles
+// (type 7) and does not overflow on ±1e308; an interval running out to −1e300 leaves the
+// axis at the scale of the other shifts, and without it the axis covers every interval.
+func TestForestRange(t *testing.T) {
+	v := []float64{-3, -1, 0, 0.5, 2, 2, 7, 11}
+	q1, med, q3, err := stats.Quartiles(v)
+	if err != nil || quantile7(v, 0.25) != q1 || quantile7(v, 0.5) != med || quantile7(v, 0.75) != q3 {
+		t.Errorf("quantile7 %v %v %v, stats.Quartiles %v %v %v (%v)", quantile7(v, 0.25), quantile7(v, 0.5), quantile7(v, 0.75), q1, med, q3, err)
+	}
+	if q := quantile7([]float64{-1e308, 1e308}, 0.5); q != 0 {
+		t.Errorf("quantile7 of ±1e308 = %v", q)
+	}
+	pair := func(shift, low, high float64) results.Pair {
+		return results.Pair{HodgesLehmann: results.HLShift{Shift: shift, Interval: results.Interval{Low: low, High: high}}}
+	}
+	pairs := []results.Pair{pair(-1, -2, 0), pair(0.5, -0.5, 1.5), pair(1, 0, 2)}
+	// Every end inside the fences: the axis is [−2, 2] padded by 0.2.
+	if lo, hi := forestRange(pairs); math.Abs(lo+2.2) > 1e-12 || math.Abs(hi-2.2) > 1e-12 {
+		t.Errorf("axis [%v, %v], want [-2.2, 2.2]", lo, hi)
+	}
+	pairs = append(pairs, pair(0.8, -1e300, 3))
+	if lo, hi := forestRange(pairs); lo < -10 || hi < 3 || hi > 10 {
+		t.Errorf("with an interval to -1e300: axis [%v, %v]", lo, hi)
+	}
+}
