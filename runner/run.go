@@ -544,8 +544,9 @@ func renderReport(res *results.Results, meta report.Meta, sorted [][][]float64) 
 	values := make([]report.AnalysisValues, len(sorted))
 	for i, groups := range sorted {
 		values[i].ID = res.Analyses[i].ID
-		for _, g := range groups {
-			values[i].Groups = append(values[i].Groups, report.Thin(g, report.MaxPointsPerGroup))
+		for j, g := range groups {
+			rg := res.Analyses[i].Groups[j]
+			values[i].Groups = append(values[i].Groups, report.ThinBox(g, report.MaxPointsPerGroup, rg.Q1, rg.Q3))
 		}
 	}
 	var h bytes.Buffer

@@ -8,6 +8,8 @@ import (
 	"image/color"
 	"math"
 	"regexp"
+	"slices"
+	"sort"
 	"strconv"
 	"strings"
 
@@ -75,7 +77,7 @@ func pColor(p float64) color.NRGBA {
 
 // MaxPointsPerGroup caps the points drawn per group in the box plot, so that the page
 // stays small for any N: a larger group shows this many of its order statistics, evenly
-// spaced in rank (the caption says so). It is the one cap: the caller thins with [Thin].
+// spaced in rank (the caption says so). It is the one cap: the caller thins with [ThinBox].
 const MaxPointsPerGroup = 400
 
 // Thin returns at most m order statistics of the ascending s, evenly spaced in rank
@@ -88,6 +90,31 @@ func Thin(s []float64, m int) []float64 {
 	out := make([]float64, m)
 	for j := range out {
 		out[j] = s[pointIndex(j, m, len(s))]
+	}
+	return out
+}
+
+// ThinBox is [Thin] that also keeps a group's adjacent values, the most extreme
+// observations inside Tukey's fences on its quartiles q1 and q3 from results.json
+// ([tukeyFences]), so that the box plot's whiskers end where they would on every
+// observation: at most m + 2 values, sorted ascending.
+func ThinBox(s []float64, m int, q1, q3 float64) []float64 {
+	out := Thin(s, m)
+	if len(out) == len(s) {
+		return out
+	}
+	flo, fhi := tukeyFences(q1, q3)
+	var keep []float64
+	if i := sort.SearchFloat64s(s, flo); i < len(s) && s[i] <= fhi {
+		keep = append(keep, s[i])
+	}
+	if j := sort.Search(len(s), func(j int) bool { return s[j] > fhi }) - 1; j >= 0 && s[j] >= flo {
+		keep = append(keep, s[j])
+	}
+	for _, v := range keep {
+		if i := sort.SearchFloat64s(out, v); i == len(out) || out[i] != v {
+			out = slices.Insert(out, i, v)
+		}
 	}
 	return out
 }

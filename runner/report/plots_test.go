@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"math"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -394,5 +395,37 @@ func TestForestRange(t *testing.T) {
 	pairs = append(pairs, pair(0.8, -1e300, 3))
 	if lo, hi := forestRange(pairs); lo < -10 || hi < 3 || hi > 10 {
 		t.Errorf("with an interval to -1e300: axis [%v, %v]", lo, hi)
+	}
+}
+
+// TestThinBox checks that thinning keeps the adjacent values: on 1, 2, …, 1000 and an
+// outlier 5000, ten evenly spaced order statistics miss 1000, the largest value inside the
+// upper fence; ThinBox adds it, so the whiskers of the thinned values are those of all.
+func TestThinBox(t *testing.T) {
+	s := make([]float64, 0, 1001)
+	for i := 1; i <= 1000; i++ {
+		s = append(s, float64(i))
+	}
+	s = append(s, 5000)
+	q1, med, q3, err := stats.Quartiles(s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := results.Group{N: len(s), Q1: q1, Median: med, Q3: q3, Min: s[0], Max: s[len(s)-1]}
+	thin := Thin(s, 10)
+	if slices.Contains(thin, 1000) {
+		t.Fatalf("Thin kept 1000 already: %v", thin)
+	}
+	got := ThinBox(s, 10, q1, q3)
+	if len(got) != 11 || !slices.IsSorted(got) || !slices.Contains(got, 1000) || got[0] != 1 || got[len(got)-1] != 5000 {
+		t.Errorf("ThinBox = %v", got)
+	}
+	lo, hi := whiskerEnds(g, got)
+	wlo, whi := whiskerEnds(g, s)
+	if lo != wlo || hi != whi || hi != 1000 {
+		t.Errorf("whiskers of the thinned values %v, %v; of all %v, %v", lo, hi, wlo, whi)
+	}
+	if short := []float64{1, 2, 3}; !slices.Equal(ThinBox(short, 10, 1.5, 2.5), short) {
+		t.Errorf("a short group is not kept whole")
 	}
 }
