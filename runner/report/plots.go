@@ -205,8 +205,11 @@ func (t plainTicks) Ticks(lo, hi float64) []plot.Tick {
 	return ts
 }
 
+// maxLogLabels is the most labels of a log axis.
+const maxLogLabels = 10
+
 // logTicks are the ticks of a log axis from lo to hi (both above 0): gonum/plot's ticks at
-// the powers of ten; when fewer than two of those lie in the range, labels at 1, 2 and 5
+// the powers of ten (over more than maxLogLabels decades, every step-th power alone); when fewer than two of those lie in the range, labels at 1, 2 and 5
 // times the powers of ten; when fewer than two of those either, the default linear ticks.
 func logTicks(lo, hi float64) []plot.Tick {
 	in := func(ts []plot.Tick) int {
@@ -219,6 +222,21 @@ func logTicks(lo, hi float64) []plot.Tick {
 		return n
 	}
 	ts := plot.LogTicks{Prec: -1}.Ticks(lo, hi)
+	if n := in(ts); n > maxLogLabels {
+		// Many decades: only every step-th power of ten, without the ticks between.
+		step := (n + maxLogLabels - 1) / maxLogLabels
+		var out []plot.Tick
+		for _, tk := range ts {
+			if tk.Label == "" {
+				continue
+			}
+			if e := int(math.Round(math.Log10(tk.Value))); e%step != 0 {
+				tk.Label = ""
+			}
+			out = append(out, tk)
+		}
+		return out
+	}
 	if in(ts) >= 2 {
 		return ts
 	}
@@ -274,10 +292,16 @@ func darker(c color.NRGBA) color.NRGBA {
 	return color.NRGBA{uint8(float64(c.R) * 0.7), uint8(float64(c.G) * 0.7), uint8(float64(c.B) * 0.7), 0xFF}
 }
 
-// span returns the range from lo to hi padded by 5% of its length (or by max(1, 5% of
-// |lo|) when lo = hi) so that nothing sits on the frame.
+// axisLimit bounds every axis range, so that its length and its padding stay finite
+// (a range of ±MaxFloat64 has no finite length); what lies beyond is drawn at the edge.
+const axisLimit = math.MaxFloat64 / 4
+
+// span returns the range from lo to hi, each first cut to ±axisLimit, padded by 5% of its
+// length (or by max(1, 5% of |lo|) when lo = hi) so that nothing sits on the frame.
 func span(lo, hi float64) (float64, float64) {
-	pad := 0.05 * (hi - lo)
+	lo = math.Max(-axisLimit, math.Min(axisLimit, lo))
+	hi = math.Max(-axisLimit, math.Min(axisLimit, hi))
+	pad := 0.05*hi - 0.05*lo
 	if !(pad > 0) {
 		pad = math.Max(1, math.Abs(lo)*0.05)
 	}

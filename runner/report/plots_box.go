@@ -254,6 +254,10 @@ func boxPlotSVG(a *results.Analysis, values [][]float64, want spec.ValueScale) (
 		wlo = math.Max(wlo, emin) // the lower fence may lie at or below 0
 	}
 	lo, hi := valueAxis(sc.fwd(wlo), sc.fwd(whi), sc.fwd(emin), sc.fwd(emax))
+	if sc.log {
+		// From 1e-323 (subnormal) to 1e308: powers of ten that are finite and above 0.
+		lo, hi = math.Max(lo, -323), math.Min(hi, 308)
+	}
 	lo, hi = sc.inv(lo), sc.inv(hi)
 	l := layoutFor(len(a.Groups))
 	p := newPlot()

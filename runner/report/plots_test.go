@@ -429,3 +429,53 @@ func TestThinBox(t *testing.T) {
 		t.Errorf("a short group is not kept whole")
 	}
 }
+
+// TestPlotsExtremeFloats draws the box plot (linear and log), the mean-rank plot and the
+// forest plot of groups holding extreme doubles: ±MaxFloat64, ±1e308, subnormals, −0. No
+// plot may fail, panic or write a non-finite coordinate, and a log axis over 600 decades
+// keeps its labels apart (at most 12).
+func TestPlotsExtremeFloats(t *testing.T) {
+	for _, tc := range []struct {
+		name   string
+		groups [][]float64
+	}{
+		{"max float", [][]float64{{-math.MaxFloat64, 0, math.MaxFloat64}, {1, 2, 3}}},
+		{"1e308", [][]float64{{-1e308, 1e308}, {1e308, 1e308}}},
+		{"subnormal", [][]float64{{5e-324, 1e-323, 2e-323}, {1e-310, 1e308, 1e308}}},
+		{"zeros", [][]float64{{math.Copysign(0, -1), 0, 0}, {0, 0}}},
+	} {
+		a := &results.Analysis{ID: "x", Outcome: "y"}
+		for i, v := range tc.groups {
+			q1, med, q3, err := stats.Quartiles(v)
+			if err != nil {
+				t.Fatal(err)
+			}
+			a.N += len(v)
+			a.Groups = append(a.Groups, results.Group{Name: "g" + strconv.Itoa(i), N: len(v), Q1: q1, Median: med, Q3: q3, Min: v[0], Max: v[len(v)-1], MeanRank: float64(a.N) / 2})
+		}
+		a.PostHoc = &results.PostHoc{Ran: true, Pairs: []results.Pair{{Groups: [2]string{"g0", "g1"},
+			HodgesLehmann: results.HLShift{Shift: tc.groups[0][0], Interval: results.Interval{Level: 0.95, Low: -math.MaxFloat64, High: math.MaxFloat64}}}}}
+		check := func(what string, svg []byte, err error) {
+			t.Helper()
+			if err != nil {
+				t.Errorf("%s, %s: %v", tc.name, what, err)
+			}
+			if bytes.Contains(svg, []byte("NaN")) || bytes.Contains(svg, []byte("Inf")) {
+				t.Errorf("%s, %s: non-finite coordinates", tc.name, what)
+			}
+			if n := bytes.Count(svg, []byte("</text>")); n > 40 {
+				t.Errorf("%s, %s: %d texts", tc.name, what, n)
+			}
+		}
+		for _, scale := range []spec.ValueScale{spec.LinearScale, spec.LogScale} {
+			svg, _, err := boxPlotSVG(a, tc.groups, scale)
+			check("box plot "+string(scale), svg, err)
+			svg, _, err = boxPlotSVG(a, nil, scale)
+			check("box plot without values "+string(scale), svg, err)
+		}
+		svg, err := meanRankPlotSVG(a)
+		check("mean-rank plot", svg, err)
+		svg, err = forestSVG(a)
+		check("forest plot", svg, err)
+	}
+}
