@@ -131,16 +131,13 @@ type htmlAnalysis struct {
 	Points     int // most points drawn per group
 	Box, Ranks template.HTML
 	Heat       template.HTML
-	// BoxCaption, HeatNote and Forest come from the plots (plots_view.go).
-	BoxCaption, HeatNote string
-	Forest               template.HTML
-	HeatLegend           []legendSwatch
-	Diag                 []diagRow
-	Spread               *spreadNote
-	TieShare             float64
-	RankMid              float64
-	PostHocSay           string
-	FamilySay            string
+	HeatLegend []legendSwatch
+	Diag       []diagRow
+	Spread     *spreadNote
+	TieShare   float64
+	RankMid    float64
+	PostHocSay string
+	FamilySay  string
 	// PairPMethods names the distributions the pairs' p-values came from, in words.
 	PairPMethods string
 	// ClippedRanks names the groups whose mean-rank interval was cut to its range.
@@ -149,6 +146,10 @@ type htmlAnalysis struct {
 	// display has more than 52 letters (names with numbers, joined with ".").
 	LettersSay      string
 	LettersNumbered bool
+
+	// BoxCaption, HeatNote and Forest come with the plots ([htmlAnalysis.addPlots]).
+	BoxCaption, HeatNote string
+	Forest               template.HTML
 }
 
 type diagRow struct {
