@@ -398,7 +398,8 @@ type heatGeometry struct {
 //
 //	c = clamp(6.5 in / k, 11 pt, 0.9 in)
 //
-// square; labels at 9 pt (7 pt in cells below 14 pt), truncated to 1.3 in; the numbers at
+// square; labels at 9 pt (7 pt in cells below 14 pt), truncated so that even a typeface
+// fontSlack times wider keeps them within 1.3 in; the numbers at
 // the largest size up to 9 pt at which the widest fits 85% of a cell with the typeface
 // slack, none below 6 pt or from heatCompactFrom groups on; column labels turned upright
 // when the widest does not fit 85% of a cell.

@@ -52,7 +52,8 @@ type groupLayout struct {
 //	w = clamp(1.4 + 1.0·k, 4.2, 7) in wide and 3.2 in high,
 //
 // with each label at most 80% of its slot (w − 0.8 in)/k; from horizontalFrom on, one row
-// of 18 pt per group, h = 0.9 in + k·18 pt, w = 7 in, labels at most 1.7 in.
+// of 18 pt per group, h = 0.9 in + k·18 pt, w = 7 in, labels at most 1.7 in. Label widths
+// are those of plotFont divided by fontSlack, so that a wider substitute still fits.
 func layoutFor(k int) groupLayout {
 	k = max(k, 1)
 	if k >= horizontalFrom {
