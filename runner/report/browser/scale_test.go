@@ -12,6 +12,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/chromedp/cdproto/emulation"
 	"github.com/chromedp/chromedp"
 
 	"rankplan/runner"
@@ -143,7 +144,8 @@ type plotBoxes struct {
 // cell sticks out of its cell. It also requires the compact heat map (no numbers) from 13
 // groups on, the horizontal layout from 9 groups on (group labels left of the plot), box
 // plot and forest plot axes at the scale of the data despite a value of 1e300, tick labels
-// in plain decimals, and tooltips for truncated labels.
+// in plain decimals, and tooltips for truncated labels; in print at the width of A4 no
+// plot may stick out of the page.
 // Screenshots of the figures go to testdata/screenshots/scale-k*.png with -update.
 func TestPlotLabelsDoNotOverlap(t *testing.T) {
 	exe := chromium(t)
@@ -187,7 +189,34 @@ func TestPlotLabelsDoNotOverlap(t *testing.T) {
 			} else if _, err := os.Stat(path); err != nil {
 				t.Errorf("no committed screenshot %s for review (go test ./runner/report/browser -run PlotLabels -update): %v", path, err)
 			}
+			checkPlotsPrint(ctx, t) // last: it leaves the tab in print media
 		})
+	}
+}
+
+// plotsOverflowJS lists the plots whose right edge lies beyond the page width.
+const plotsOverflowJS = `(() => {
+  const w = document.documentElement.clientWidth;
+  return Array.from(document.querySelectorAll("svg.plot")).filter(e => e.getBoundingClientRect().right > w + 0.5)
+    .map(e => e.getAttribute("aria-label") + ": right edge " + Math.round(e.getBoundingClientRect().right) + " px > " + w + " px");
+})()`
+
+// checkPlotsPrint checks that in print media at the text width of A4 (672 CSS px, as in
+// checkPrint) every plot fits the page, the wide ones too.
+func checkPlotsPrint(ctx context.Context, t *testing.T) {
+	t.Helper()
+	if _, err := chromedp.Call(ctx, emulation.SetEmulatedMedia, emulation.SetEmulatedMediaParams{Media: "print"}); err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, chromedp.EmulateViewport(672, 950)); err != nil {
+		t.Fatal(err)
+	}
+	wide, err := chromedp.Run(ctx, chromedp.Evaluate[[]string](plotsOverflowJS))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, w := range wide {
+		t.Errorf("print at A4 width: %s", w)
 	}
 }
 
