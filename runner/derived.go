@@ -147,7 +147,7 @@ func crossCheck(r *VerifyReport, f *folder.Folder, sameBuild bool) *results.Resu
 
 // checkReport compares report.html with the rendering of results.json, the log and the
 // rerun's values by this build, after a rerun on the recorded data reproduced the results.
-func checkReport(r *VerifyReport, f *folder.Folder, res *results.Results, sorted [][][]float64) {
+func checkReport(r *VerifyReport, f *folder.Folder, res *results.Results, ex *execution) {
 	var plan folder.PlanBound
 	var data folder.DataBound
 	var started folder.RunStarted
@@ -161,7 +161,8 @@ func checkReport(r *VerifyReport, f *folder.Folder, res *results.Results, sorted
 		}
 	}
 	meta := reportMeta(plan, data, started.Tool, res.Plan.Seed, recordHead(f, seq), seq)
-	h, err := renderReport(res, meta, sorted)
+	meta.ValueScale = ex.valueScale
+	h, err := renderReport(res, meta, ex.sorted)
 	if err != nil {
 		r.add("report", Fail, ClassDiffer, ReportFile, "%s cannot be rendered again: %v", ReportFile, err)
 		return

@@ -85,6 +85,8 @@ func Execute(ctx context.Context, prep *Prepared, opt Options) (*results.Results
 type execution struct {
 	results *results.Results
 	sorted  [][][]float64
+	// valueScale is the plan's scale of the box plot's value axis, for report.html.
+	valueScale spec.ValueScale
 }
 
 func execute(ctx context.Context, prep *Prepared, opt Options) (*execution, error) {
@@ -142,7 +144,7 @@ func execute(ctx context.Context, prep *Prepared, opt Options) (*execution, erro
 		a.PostHoc = ph
 		ranks[i] = nil
 	}
-	return &execution{results: res, sorted: sorted}, nil
+	return &execution{results: res, sorted: sorted, valueScale: p.BoxValueScale()}, nil
 }
 
 // analyse runs the omnibus test of one analysis and its effect sizes, and returns the

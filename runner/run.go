@@ -314,6 +314,7 @@ func closeRunFolder(ctx context.Context, w *folder.Writer, in *runInputs, ex *ex
 	}
 	head, seq := w.Head()
 	meta := reportMeta(in.planRec, in.dataRec, in.toolRec, p.Seed.String(), head, seq)
+	meta.ValueScale = ex.valueScale
 	renders, err := renderings(ctx, res, meta, ex.sorted, opt.Out)
 	if err != nil {
 		return nil, err
@@ -543,8 +544,9 @@ func renderReport(res *results.Results, meta report.Meta, sorted [][][]float64) 
 	values := make([]report.AnalysisValues, len(sorted))
 	for i, groups := range sorted {
 		values[i].ID = res.Analyses[i].ID
-		for _, g := range groups {
-			values[i].Groups = append(values[i].Groups, report.Thin(g, report.MaxPointsPerGroup))
+		for j, g := range groups {
+			rg := res.Analyses[i].Groups[j]
+			values[i].Groups = append(values[i].Groups, report.ThinBox(g, report.MaxPointsPerGroup, rg.Q1, rg.Q3))
 		}
 	}
 	var h bytes.Buffer

@@ -462,7 +462,7 @@ func rerunAndCompare(ctx context.Context, r *VerifyReport, f *folder.Folder, sam
 	if digest == resultsDigest {
 		r.add("rerun", Pass, "", ResultsFile, "rerunning the plan on the recorded data reproduces the results digest %s", digest)
 		if sameBuild {
-			checkReport(r, f, fresh, ex.sorted)
+			checkReport(r, f, fresh, ex)
 		}
 		return nil
 	}

@@ -23,6 +23,8 @@ type Plan struct {
 	Analyses    []Analysis `json:"analyses"`
 	// Multiplicity, when present, controls the error rate across analyses.
 	Multiplicity *Multiplicity `json:"multiplicity,omitempty"`
+	// Report holds the options of report.html; nil: every option at its default.
+	Report *ReportOptions `json:"report,omitempty"`
 
 	// File is the plan's path as given to Load (used in messages); Dir is the folder that
 	// relative data paths are resolved against.
@@ -90,6 +92,33 @@ type Multiplicity struct {
 	// Analyses are the ids of the family, in testing order for a fixed sequence;
 	// default: every analysis, in plan order.
 	Analyses []string `json:"analyses"`
+}
+
+// ReportOptions are options of report.html that change how results are drawn, never a
+// result. An absent key keeps the plan's canonical form as it was before the key existed.
+type ReportOptions struct {
+	// ValueScale is the scale of the box plot's value axis; empty: linear. With log, a
+	// group holding a value of 0 or below is drawn on the linear scale instead and the
+	// figure caption says so (the plan is checked before the data are read).
+	ValueScale ValueScale `json:"value_scale,omitempty"`
+}
+
+// ValueScale names the scale of the box plot's value axis.
+type ValueScale string
+
+// The value scales of report.html's box plot.
+const (
+	LinearScale ValueScale = "linear"
+	LogScale    ValueScale = "log"
+)
+
+// BoxValueScale is the plan's value scale for the box plot: linear unless the plan's report
+// options say log.
+func (p *Plan) BoxValueScale() ValueScale {
+	if p.Report != nil && p.Report.ValueScale == LogScale {
+		return LogScale
+	}
+	return LinearScale
 }
 
 // EffectSize is how an analysis reports its omnibus effect sizes.

@@ -161,7 +161,7 @@ func parseErrorCases(t *testing.T) []parseErrorCase {
 		{"unknown key", edit(t, "outcome: y", "outcome: y\ncolour: red"),
 			[]string{"plan.yaml:8:3: data.colour: unknown key; expected one of: decimal, delimiter, file, group, missing, outcome, sha256, unit"}},
 		{"unknown top-level key", goodPlan + "extra: 1\n",
-			[]string{"plan.yaml:15:1: extra: unknown key; expected one of: alpha, analyses, data, description, groups, id, multiplicity, rankplan, seed, title"}},
+			[]string{"plan.yaml:15:1: extra: unknown key; expected one of: alpha, analyses, data, description, groups, id, multiplicity, rankplan, report, seed, title"}},
 		{"missing key", edit(t, "group: g", "# no group"),
 			[]string{`plan.yaml:4:1: data: missing required key "group"`}},
 		{"wrong type", edit(t, "alpha: 0.05", "alpha: [0.05]"),

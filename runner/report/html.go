@@ -24,6 +24,9 @@ type Meta struct {
 	Seed, RNG                                 string
 	AuditHead                                 string // "sha256:<hex>", the chain head when the report was written
 	AuditSeq                                  int64  // its record number
+
+	// ValueScale is the plan's scale of the box plot's value axis; empty: linear.
+	ValueScale spec.ValueScale
 }
 
 // AnalysisValues are the observations of one analysis per group (report order), for the plots only.
@@ -57,6 +60,9 @@ func HTML(w io.Writer, res *results.Results, meta Meta, values []AnalysisValues)
 	for i := range res.Analyses {
 		a := &res.Analyses[i]
 		v, err := analysisView(i, a, res.Plan.Alpha, byID[a.ID])
+		if err == nil {
+			err = v.addPlots(res.Conventions.Quantiles, byID[a.ID], meta.ValueScale)
+		}
 		if err != nil {
 			return fmt.Errorf("html report: analysis %q: %w", a.ID, err)
 		}
@@ -144,6 +150,10 @@ type htmlAnalysis struct {
 	// printed page lists (those that differ or are not computable) and where the rest
 	// are; empty for a shorter table, which prints whole.
 	PrintPairs string
+
+	// BoxCaption, HeatNote and Forest come with the plots ([htmlAnalysis.addPlots]).
+	BoxCaption, HeatNote string
+	Forest               template.HTML
 }
 
 // printPairsMax is the most pairs a printed page lists in full (all pairs of six groups);
@@ -209,18 +219,6 @@ func analysisView(i int, a *results.Analysis, alpha float64, vals [][]float64) (
 	if kw := a.KruskalWallis; kw != nil && a.N > 0 {
 		v.TieShare = float64(kw.TiedValues) / float64(a.N)
 	}
-	if a.N > 0 {
-		svg, err := boxPlotSVG(a, vals)
-		if err != nil {
-			return v, err
-		}
-		v.Box = template.HTML(svg) // built by the SVG canvas, which escapes its text
-		svg, err = meanRankPlotSVG(a)
-		if err != nil {
-			return v, err
-		}
-		v.Ranks = template.HTML(svg)
-	}
 	if ph := a.PostHoc; ph != nil {
 		v.PostHocSay = postHocNames[ph.Method]
 		if v.PostHocSay == "" {
@@ -243,11 +241,6 @@ func analysisView(i int, a *results.Analysis, alpha float64, vals [][]float64) (
 			v.LettersNumbered = v.LettersNumbered || strings.ContainsAny(l.Display, ".0123456789")
 		}
 		if ph.Ran && len(ph.Pairs) > 0 {
-			svg, err := heatmapSVG(a)
-			if err != nil {
-				return v, err
-			}
-			v.Heat = template.HTML(svg)
 			for _, p := range []float64{1, 0.1, 0.05, 0.01, 0.001} {
 				v.HeatLegend = append(v.HeatLegend, legendSwatch{Label: Num(p), Color: hexColor(pColor(p))})
 			}
@@ -602,7 +595,7 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 <h3>Figures</h3>
 {{if .Box}}<figure>
 {{.Box}}
-<figcaption>Box plot of {{.Outcome}}{{unitSuffix .Unit}} by group: boxes from Q1 to Q3 with the median as a thick line, whiskers to the minimum and maximum (all from the results).{{if .HasValues}} Dots are the observations, spread sideways by a fixed pseudo-random jitter{{if gt .Points 400}}; groups with more than 400 observations show 400 of them, evenly spaced in rank, including the extremes{{end}}.{{else}} The observations were not given, so no dots are drawn.{{end}}</figcaption>
+<figcaption>{{.BoxCaption}}</figcaption>
 </figure>
 <figure>
 {{.Ranks}}
@@ -610,8 +603,9 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
 </figure>{{end}}
 {{if .Heat}}<figure>
 {{.Heat}}
-<figcaption>{{if .PostHoc.Simultaneous}}Simultaneous{{else}}Adjusted{{end}} p-values of the pairwise comparisons; {{if eq .PostHoc.Family "many-to-one"}}the diagonal and the pairs not compared stay blank{{else}}the diagonal stays blank{{end}}. Colour: darker is smaller.{{range .HeatLegend}}<span class="swatch" style="background-color: {{.Color}}"></span>{{.Label}}{{end}}</figcaption>
+<figcaption>{{if .PostHoc.Simultaneous}}Simultaneous{{else}}Adjusted{{end}} p-values of the pairwise comparisons; {{if eq .PostHoc.Family "many-to-one"}}the diagonal and the pairs not compared stay blank{{else}}the diagonal stays blank{{end}}. Colour: darker is smaller.{{with .HeatNote}} {{.}}{{end}}{{range .HeatLegend}}<span class="swatch" style="background-color: {{.Color}}"></span>{{.Label}}{{end}}</figcaption>
 </figure>{{end}}
+{{.Forest}}
 </section>
 </section>
 {{end}}

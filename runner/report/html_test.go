@@ -18,6 +18,7 @@ import (
 	"golang.org/x/net/html/atom"
 
 	"rankplan/runner/results"
+	"rankplan/spec"
 )
 
 var update = flag.Bool("update", false, "rewrite the HTML report golden file under testdata/html")
@@ -171,7 +172,9 @@ func TestHTMLStructure(t *testing.T) {
 						hrefs = append(hrefs, h)
 					}
 				case atom.Title:
-					title = textOf(n)
+					if n.Parent != nil && n.Parent.DataAtom == atom.Head {
+						title = textOf(n) // not the tooltips (<title>) inside the plots
+					}
 				case atom.Html:
 					lang, _ = attr(n, "lang")
 				case atom.Meta:
@@ -203,7 +206,10 @@ func TestHTMLStructure(t *testing.T) {
 				want = append(want, "Analysis "+a.ID+": "+a.Title)
 				wantSVG += 2
 				if pairsRan(a) {
-					wantSVG++
+					wantSVG++ // the heat map
+					if len(a.PostHoc.Pairs) <= maxForestRows {
+						wantSVG++ // the forest plot
+					}
 				}
 			}
 			if res.Multiplicity != nil {
@@ -223,7 +229,7 @@ func TestHTMLStructure(t *testing.T) {
 				}
 			}
 			if svgs != wantSVG {
-				t.Errorf("%d <svg> elements, want %d (box and mean-rank plot per analysis, heatmap where pairs ran)", svgs, wantSVG)
+				t.Errorf("%d <svg> elements, want %d (box and mean-rank plot per analysis, heatmap and forest plot where pairs ran)", svgs, wantSVG)
 			}
 			text := textOf(doc)
 			for _, s := range []string{Caution, "a value from one group exceeds a value from another", "same shape and spread",
@@ -308,8 +314,8 @@ func TestHTMLDeterministic(t *testing.T) {
 		}
 		for i := range res.Analyses {
 			an := &res.Analyses[i]
-			p1, err1 := boxPlotSVG(an, vals[i].Groups)
-			p2, err2 := boxPlotSVG(an, vals[i].Groups)
+			p1, _, err1 := boxPlotSVG(an, vals[i].Groups, spec.LinearScale)
+			p2, _, err2 := boxPlotSVG(an, vals[i].Groups, spec.LinearScale)
 			if err1 != nil || err2 != nil || !bytes.Equal(p1, p2) {
 				t.Errorf("%s/%s: box plot not byte-identical run to run (%v, %v)", name, an.ID, err1, err2)
 			}
@@ -622,10 +628,10 @@ func TestHTMLVariants(t *testing.T) {
 			ph.Adjust = "none"
 			ph.Letters[0].Letters, ph.Letters[0].Display = []string{"a", "b1"}, "a.b1"
 			return v
-		}, []string{"not found to differ at α = 0.05 without adjustment", "a.b1", "names carry a number (a1, b1, …) and a group's names are joined with “.”"}, 3,
+		}, []string{"not found to differ at α = 0.05 without adjustment", "a.b1", "names carry a number (a1, b1, …) and a group's names are joined with “.”"}, 4,
 			[]string{"after adjustment", "do not differ"}},
 		{"no values", func(r *results.Results, v []AnalysisValues) []AnalysisValues { return nil },
-			[]string{"The observations were not given, so no dots are drawn."}, 3, []string{"Dots are the observations"}},
+			[]string{"The observations were not given, so no dots are drawn."}, 4, []string{"Dots are the observations"}},
 		{"hodges-lehmann intervals", func(r *results.Results, v []AnalysisValues) []AnalysisValues {
 			// The first pair as if its groups held 3 values each (level not attainable), the
 			// second with its index from the normal approximation, none tied.
@@ -644,7 +650,7 @@ func TestHTMLVariants(t *testing.T) {
 		}, []string{"widest [-6, 7], coverage 90% (95% not attainable)",
 			"L1 vs L2: 95% not attainable with 3 and 3 values; widest interval, 90% coverage.",
 			"95% [-2.5, 3], normal approximation", "its coverage is not computed"},
-			3, []string{"Tied values", " *"}},
+			4, []string{"Tied values", " *"}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			res, vals := loadFixture(t, "dissolution")
@@ -835,7 +841,7 @@ func TestHTMLProvenanceAndLabels(t *testing.T) {
 			}
 		})
 	}
-	box, err := boxPlotSVG(&res.Analyses[0], vals[0].Groups)
+	box, _, err := boxPlotSVG(&res.Analyses[0], vals[0].Groups, spec.LinearScale)
 	if err != nil {
 		t.Fatal(err)
 	}

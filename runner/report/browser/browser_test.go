@@ -55,20 +55,9 @@ func TestReportInChromium(t *testing.T) {
 	if err != nil || len(plans) == 0 {
 		t.Fatalf("no example plans: %v", err)
 	}
-	// The network is disabled: every host name fails to resolve and every proxied request
-	// goes to a closed port; the test also fails on any request that is not file: or data:.
-	opts := append(chromedp.DefaultExecAllocatorOptions[:], chromedp.ExecPath(exe),
-		chromedp.NoSandbox, chromedp.Flag("disable-gpu", true), chromedp.WindowSize(1100, 1400),
-		chromedp.Flag("host-resolver-rules", "MAP * ~NOTFOUND"), chromedp.ProxyServer("127.0.0.1:9"))
-	// One browser for all examples, each in its own tab, run in parallel; the browser is
-	// closed when the last of them has finished (t.Cleanup, not defer).
-	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
-	t.Cleanup(cancelAlloc)
-	bctx, cancelBrowser := chromedp.NewContext(actx)
-	t.Cleanup(cancelBrowser)
-	if err := chromedp.Do(bctx); err != nil {
-		t.Fatalf("start %s: %v", exe, err)
-	}
+	// One browser for all examples, each in its own tab, run in parallel, with the network
+	// disabled; the test also fails on any request that is not file: or data:.
+	bctx := newBrowser(t, exe)
 	for _, plan := range plans {
 		name := filepath.Base(filepath.Dir(plan))
 		t.Run(name, func(t *testing.T) {
@@ -159,7 +148,7 @@ func TestReportInChromium(t *testing.T) {
 				t.Fatal(err)
 			}
 			if want := wantPlots(&res); plots != want {
-				t.Errorf("%d plots drawn at a visible size, want %d (box and mean-rank plot per analysis, heatmap where pairs ran)", plots, want)
+				t.Errorf("%d plots drawn at a visible size, want %d (box and mean-rank plot per analysis, heatmap and forest plot where pairs ran)", plots, want)
 			}
 			checkPrint(ctx, t)
 			path := filepath.Join("testdata", "screenshots", name+".png")
@@ -176,7 +165,8 @@ func TestReportInChromium(t *testing.T) {
 }
 
 // wantPlots is the number of plots the page must show: a box plot and a mean-rank plot
-// per analysis with data, and a heatmap of adjusted p-values where pairs were compared.
+// per analysis with data, and a heatmap of adjusted p-values and a forest plot of the
+// shifts where pairs were compared.
 func wantPlots(res *results.Results) int {
 	n := 0
 	for _, a := range res.Analyses {
@@ -184,7 +174,10 @@ func wantPlots(res *results.Results) int {
 			n += 2
 		}
 		if ph := a.PostHoc; ph != nil && ph.Ran && len(ph.Pairs) > 0 {
-			n++
+			n++ // the heat map
+			if len(ph.Pairs) <= 100 {
+				n++ // the forest plot, drawn for up to 100 pairs
+			}
 		}
 	}
 	return n
