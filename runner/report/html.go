@@ -417,6 +417,11 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
   .planid { margin: 0 0 .4em; }
   nav.contents { display: none; }
   .print-only { display: block; }
+  .screen-only { display: none; }
+  /* The printed forest plot, of the pairs that differ, has its caption beside it. */
+  section.figures > figure.print-only { display: flex; flex: 1 1 100%; max-width: none; gap: 4mm; align-items: center; }
+  section.figures > figure.print-only > svg { flex: 0 1 50%; }
+  section.figures > figure.print-only > figcaption { flex: 1 1 50%; }
   td.repeat, th.repeat { display: none; }
   code, .hash { font-size: .92em; }
   table { margin: .2em 0 .4em; font-size: 7.5pt; line-height: 1.2; }
@@ -456,8 +461,9 @@ footer { margin-top: 2.5em; border-top: 1px solid #bbb; padding-top: .6em; font-
   section.figures > figure { flex: 1 1 30%; max-width: 50%; min-width: 0; margin: .2em 0; }
   svg.plot { max-width: 100%; }
   figcaption { max-width: none; }
-  /* Small sections, tables and figures stay whole; an analysis as a whole may span pages. */
-  section.data, section.omnibus, section.effects, section.diagnostics, section#multiplicity, section#reading,
+  /* Small sections, tables and figures stay whole; an analysis as a whole may span pages,
+     and so may its omnibus test and effect sizes, between their tables and notes. */
+  section.data, section.diagnostics, section#multiplicity, section#reading,
   table, tr, figure, .decision, .caution, dl.facts, footer { page-break-inside: avoid; break-inside: avoid; }
   table.long { break-inside: auto; }
   table.long tr.quiet { display: none; }

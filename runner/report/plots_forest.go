@@ -111,8 +111,7 @@ func (f forestPlotter) Plot(c draw.Canvas, plt *plot.Plot) {
 
 // forestSVG draws the forest plot of an analysis's pairs: one row per pair, labels at the
 // left, the Hodges-Lehmann shift with its interval, a reference line at 0.
-func forestSVG(a *results.Analysis) ([]byte, error) {
-	pairs := a.PostHoc.Pairs
+func forestSVG(a *results.Analysis, pairs []results.Pair) ([]byte, error) {
 	l := groupLayout{k: len(pairs), horizontal: true, w: horizontalWidth * vg.Inch,
 		h: frameHeight*vg.Inch + vg.Length(len(pairs))*rowHeight, labelMax: 2.2 * vg.Inch / fontSlack}
 	tips := &svgTips{}
@@ -146,7 +145,7 @@ func forestFigure(a *results.Analysis) (template.HTML, error) {
 		return template.HTML(fmt.Sprintf(`<p class="note">No forest plot: %d pairs are more than the %d rows it draws; the pairs table lists every shift with its interval.</p>`,
 			len(ph.Pairs), maxForestRows)), nil
 	}
-	svg, err := forestSVG(a)
+	svg, err := forestSVG(a, ph.Pairs)
 	if err != nil {
 		return "", err
 	}
@@ -158,5 +157,30 @@ func forestFigure(a *results.Analysis) (template.HTML, error) {
 	}
 	caption := fmt.Sprintf("Forest plot of the pairwise comparisons: the Hodges-Lehmann shift of each pair (how far the first group's values lie above the second's) as a dot with its %s distribution-free interval; the dashed line marks no shift, and a triangle marks an interval that runs on beyond the axis. Filled dots are the pairs found to differ. The pairs table gives each interval's coverage.",
 		html.EscapeString(level))
-	return template.HTML("<figure>\n" + string(svg) + "\n<figcaption>" + caption + "</figcaption>\n</figure>"), nil
+	if len(ph.Pairs) <= printPairsMax {
+		return template.HTML("<figure>\n" + string(svg) + "\n<figcaption>" + caption + "</figcaption>\n</figure>"), nil
+	}
+	// On paper a long forest plot would take a page of its own: like the pairs table, the
+	// printed page draws only the pairs found to differ, and says so.
+	out := "<figure class=\"screen-only\">\n" + string(svg) + "\n<figcaption>" + caption + "</figcaption>\n</figure>"
+	var differ []results.Pair
+	for _, p := range ph.Pairs {
+		if p.Reject {
+			differ = append(differ, p)
+		}
+	}
+	switch {
+	case len(differ) == 0:
+		out += fmt.Sprintf("\n<p class=\"note print-only\">On paper the forest plot is left out: none of the %d pairs was found to differ; it is in this report on screen.</p>", len(ph.Pairs))
+	case len(differ) > maxForestRows:
+		out += fmt.Sprintf("\n<p class=\"note print-only\">On paper the forest plot is left out: %d pairs were found to differ, more than the %d rows it draws; it is in this report on screen, and pairs.csv lists every shift.</p>", len(differ), maxForestRows)
+	default:
+		psvg, err := forestSVG(a, differ)
+		if err != nil {
+			return "", err
+		}
+		out += "\n<figure class=\"print-only\">\n" + string(psvg) + "\n<figcaption>" + caption +
+			html.EscapeString(fmt.Sprintf(" On paper it shows only the %d of %d pairs found to differ; every pair is in this report on screen and in pairs.csv.", len(differ), len(ph.Pairs))) + "</figcaption>\n</figure>"
+	}
+	return template.HTML(out), nil
 }

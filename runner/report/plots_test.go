@@ -475,7 +475,7 @@ func TestPlotsExtremeFloats(t *testing.T) {
 		}
 		svg, err := meanRankPlotSVG(a)
 		check("mean-rank plot", svg, err)
-		svg, err = forestSVG(a)
+		svg, err = forestSVG(a, a.PostHoc.Pairs)
 		check("forest plot", svg, err)
 	}
 }

@@ -102,8 +102,9 @@ seed: 1
 }
 
 // textsJS lists, per plot, the boxes of its <text> elements (the text's own words, not
-// its tooltip) and the areas that carry a tooltip (heat-map cells, forest rows).
-const textsJS = `Array.from(document.querySelectorAll("svg.plot")).map(svg => ({
+// its tooltip) and the areas that carry a tooltip (heat-map cells, forest rows), of the
+// plots shown on screen (a plot drawn for paper only has no boxes there).
+const textsJS = `Array.from(document.querySelectorAll("svg.plot")).filter(svg => svg.getClientRects().length > 0).map(svg => ({
   label: svg.getAttribute("aria-label"),
   texts: Array.from(svg.querySelectorAll("text")).map(e => {
     const r = e.getBoundingClientRect();
