@@ -143,7 +143,7 @@ func TestErrorsBesideSchemaError(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			src := strings.TrimSuffix(tc.src, "\n") + "\nzzz: 1\n"
 			line := strings.Count(src, "\n")
-			want := append(slices.Clone(tc.want), fmt.Sprintf("plan.yaml:%d:1: zzz: unknown key; expected one of: alpha, analyses, data, description, groups, id, multiplicity, rankplan, seed, title", line))
+			want := append(slices.Clone(tc.want), fmt.Sprintf("plan.yaml:%d:1: zzz: unknown key; expected one of: alpha, analyses, data, description, groups, id, multiplicity, rankplan, report, seed, title", line))
 			_, err := Parse("plan.yaml", []byte(src))
 			list, ok := AsList(err)
 			if !ok {
