@@ -43,10 +43,12 @@ const DefaultPermutationLevel = 0.95
 // Permutation is a Monte Carlo permutation p-value of the Kruskal-Wallis test with its
 // Monte Carlo error; see [KruskalWallisPermutation].
 type Permutation struct {
-	Resamples int64   // m, the number of random relabelings
-	Exceed    int64   // b = #{resamples with T* >= T_obs}
-	P         float64 // (b + 1) / (m + 1)
-	SE        float64 // sqrt(p̂ (1 − p̂) / m), p̂ = b / m
+	// Resamples is the number of random relabelings the estimate rests on: m, or L when
+	// the sequential rule stopped (the resample that brought the h-th exceedance).
+	Resamples int64
+	Exceed    int64   // b = #{resamples with T* >= T_obs} among them (h when stopped)
+	P         float64 // (b + 1) / (m + 1); h / L when the sequential rule stopped
+	SE        float64 // sqrt(p̂ (1 − p̂) / m), p̂ = b / m (m = L, b = h when stopped)
 	// Level is the confidence level of the interval [CILow, CIHigh].
 	Level float64
 	// CILow and CIHigh are the Clopper-Pearson interval at Level for the permutation
@@ -55,8 +57,20 @@ type Permutation struct {
 	// error against scipy 1.10.1 stats.beta.ppf is below max(1e-12, 1e-17·m)
 	// (TestBetaQuantile). They describe the Monte Carlo error, so that is far below what
 	// matters.
+	// When the sequential rule stopped, the interval is [SequentialInterval](h, L, Level)
+	// instead.
 	CILow, CIHigh float64
 	Comparison    string // ComparisonExact or ComparisonFloat: how T* >= T_obs was decided
+
+	// StopAfter is h of the sequential rule ([PermutationOptions].StopAfter); 0 without
+	// one, and then MaxResamples is 0 and Stopped false.
+	StopAfter int64
+	// MaxResamples is m, the most resamples the sequential rule would draw.
+	MaxResamples int64
+	// Stopped reports that the sequential rule stopped at the h-th exceedance, before or
+	// at the m-th resample; when false, every m resamples were drawn and P is
+	// (b + 1)/(m + 1).
+	Stopped bool
 }
 
 // PermutationOptions configure [KruskalWallisPermutation].
@@ -68,6 +82,10 @@ type PermutationOptions struct {
 	// Level is the confidence level of the Clopper-Pearson interval, strictly between 0
 	// and 1; 0 means [DefaultPermutationLevel]. It does not change the count b.
 	Level float64
+	// StopAfter, when at least 1, is h of Besag & Clifford's sequential rule: stop at
+	// the resample that brings the h-th exceedance (see [KruskalWallisPermutation]);
+	// 0 draws all Resamples. It must not exceed Resamples.
+	StopAfter int64
 	// Progress, if not nil, is called with the resamples finished so far after each
 	// block of PermutationBlockSize, from the worker goroutines (see [Progress]). The
 	// result does not depend on it.
@@ -112,6 +130,23 @@ type PermutationOptions struct {
 //	SE     = sqrt(p̂ (1 − p̂) / m),  p̂ = b / m
 //	[CILow, CIHigh] = ClopperPearson(b, m, Level)
 //
+// Sequential rule (StopAfter = h >= 1; Besag & Clifford 1991, "Sequential Monte Carlo
+// p-values", Biometrika 78:301-304; docs/methods.md §1.7). The resamples are taken in
+// the order above (block 0 first, and within a block in drawing order); when the h-th
+// exceedance comes at resample L <= m, the procedure stops there and reports
+//
+//	P      = h / L
+//	SE     = sqrt(p̂ (1 − p̂) / L),  p̂ = h / L
+//	[CILow, CIHigh] = SequentialInterval(h, L, Level)
+//
+// and when fewer than h of the m resamples exceed, it reports the fixed-m result
+// above. The result is that of drawing one resample after another and stopping at the
+// h-th exceedance; blocks still run in parallel, but their counts are consumed in block
+// order, the rule is applied at the first block whose running count reaches h, the h-th
+// exceedance is found within it from a record of which of its resamples exceeded, and
+// later blocks are not started or are abandoned. So it too is bit-identical for any
+// number of workers, and at most Workers − 1 blocks of work are wasted.
+//
 // It returns [ErrAllTied] (wrapped) when every observation is tied, an error when m < 1,
 // when Level is not 0 and not strictly between 0 and 1,
 // when N >= 2^31, when r is not the Ranking of (group, values, k), and ctx's error if ctx
@@ -130,15 +165,26 @@ func KruskalWallisPermutation(ctx context.Context, group []int32, values []float
 	if !(level > 0 && level < 1) {
 		return Permutation{}, fmt.Errorf("kw permutation: the interval level must lie strictly between 0 and 1, got %v", opt.Level)
 	}
+	if opt.StopAfter < 0 || opt.StopAfter > opt.Resamples {
+		return Permutation{}, fmt.Errorf("kw permutation: the sequential rule's h must lie in [1, %d] (the resamples), or be 0 for none; got %d", opt.Resamples, opt.StopAfter)
+	}
 	ps, err := newPermSetup(group, values, k, r)
 	if err != nil {
 		return Permutation{}, fmt.Errorf("kw permutation: %w", err)
 	}
-	b, err := ps.run(ctx, opt)
+	b, l, err := ps.run(ctx, opt)
 	if err != nil {
 		return Permutation{}, fmt.Errorf("kw permutation: %w", err)
 	}
-	out, err := permutationSummary(b, opt.Resamples, level)
+	var out Permutation
+	if l > 0 {
+		out, err = sequentialSummary(opt.StopAfter, l, opt.Resamples, level)
+	} else {
+		out, err = permutationSummary(b, opt.Resamples, level)
+		if opt.StopAfter > 0 {
+			out.StopAfter, out.MaxResamples = opt.StopAfter, opt.Resamples
+		}
+	}
 	if err != nil {
 		return Permutation{}, fmt.Errorf("kw permutation: %w", err)
 	}
@@ -391,50 +437,75 @@ func permRowRanks(group []int32, values []float64, r *Ranking) ([]uint32, error)
 }
 
 // run draws the resamples of opt on the workers (see [runBlocks]) and returns the
-// number of exceedances.
-func (ps *permSetup) run(ctx context.Context, opt PermutationOptions) (int64, error) {
+// number of exceedances b among all m resamples, or, when the sequential rule of opt
+// stopped, the index L >= 1 of the resample that brought the h-th exceedance (b is
+// then not needed and 0). Counts are kept per block, so that b never depends on the
+// workers.
+func (ps *permSetup) run(ctx context.Context, opt PermutationOptions) (b, l int64, err error) {
 	m := opt.Resamples
 	blocks := (m-1)/PermutationBlockSize + 1
 	workers := resolveWorkers(opt.Workers, blocks)
 	progress := newProgressCounter(opt.Progress, m)
-	counts := make([]int64, workers)
+	counts := make([]int64, blocks)
 	labels := make([][]int32, workers)
 	sums := make([][]uint64, workers)
-	err := runBlocks(ctx, blocks, workers, nil, func(w int, j int64) error {
+	var seq *seqStop
+	var poll func() bool
+	if opt.StopAfter > 0 {
+		seq = newSeqStop(opt.StopAfter, blocks)
+		poll = seq.stopped
+	}
+	err = runBlocks(ctx, blocks, workers, poll, func(w int, j int64) error {
 		if labels[w] == nil {
 			labels[w], sums[w] = make([]int32, len(ps.labels)), make([]uint64, ps.k)
 		}
 		start := j * PermutationBlockSize
 		end := min(start+PermutationBlockSize, m)
-		c, err := ps.block(ctx, opt, uint64(j), end-start, labels[w], sums[w])
+		c, err := ps.block(ctx, opt, uint64(j), end-start, labels[w], sums[w], seq)
 		if err != nil {
 			return err
 		}
-		counts[w] += c
+		counts[j] = c
 		progress.add(end - start)
+		if seq != nil {
+			seq.finish(j, c)
+		}
 		return nil
 	})
 	if err != nil {
-		return 0, err
+		return 0, 0, err
 	}
-	var b int64
+	if seq != nil && seq.stopped() {
+		l, err := seq.stopAt()
+		return 0, l, err
+	}
 	for _, c := range counts {
 		b += c
 	}
-	return b, nil
+	return b, 0, nil
 }
 
 // block draws the count resamples of block j into the scratch buffers a (len N) and
-// sums (len k) and returns how many exceed the observed statistic.
-func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64, count int64, a []int32, sums []uint64) (int64, error) {
+// sums (len k) and returns how many exceed the observed statistic. With a sequential
+// rule (seq not nil) it also marks each exceeding resample in the block's bitmap, and
+// gives up (returning 0) once the rule has stopped at an earlier block, whose count
+// alone then matters.
+func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64, count int64, a []int32, sums []uint64, seq *seqStop) (int64, error) {
 	copy(a, ps.labels)
 	s := stream.New(stream.Key(PermutationPurpose, opt.Seed, opt.AnalysisID, j))
 	done := ctx.Done()
-	d := ps.rank2
+	d := ps.rank2[:len(a)]
+	var hits []uint64
+	if seq != nil {
+		hits = seq.blockHits(int64(j))
+	}
 	var exceed int64
-	for range count {
+	for r := range count {
 		if cancelled(done) {
 			return 0, ctx.Err()
+		}
+		if seq != nil && seq.past(int64(j)) {
+			return 0, nil
 		}
 		// Fisher-Yates exactly as stream.ShuffleInt32, adding each position's rank to
 		// its group as soon as the position's label is final.
@@ -450,6 +521,9 @@ func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64
 		sums[a[0]] += uint64(d[0])
 		if ps.exceeds(sums) {
 			exceed++
+			if hits != nil {
+				hits[r>>6] |= 1 << (r & 63)
+			}
 		}
 	}
 	return exceed, nil

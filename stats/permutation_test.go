@@ -68,18 +68,18 @@ func lcmInt64(xs []int64) int64 {
 	return l
 }
 
-// bruteExactP enumerates every assignment of the rows to groups of the observed sizes
-// and returns #{T·L >= observed} and the number of assignments, with T·L computed in
-// int64 from the definition (the designs here are small enough).
-func bruteExactP(groups [][]float64) (hits, total int64) {
+// definitionStat returns the rows' labels of groups, the group sizes, and T·L of a
+// labelling in int64 from the definition (doubled rank 2·#smaller + #equal + 1,
+// L = lcm of the sizes), for designs small enough.
+func definitionStat(groups [][]float64) (g []int32, sizes []int64, stat func(lab []int32) int64) {
 	g, v := flatten(groups)
-	d := naiveRank2(v) // the definition: 2·#smaller + #equal + 1
-	sizes := make([]int64, len(groups))
+	d := naiveRank2(v)
+	sizes = make([]int64, len(groups))
 	for i, x := range groups {
 		sizes[i] = int64(len(x))
 	}
 	l := lcmInt64(sizes)
-	stat := func(lab []int32) int64 {
+	return g, sizes, func(lab []int32) int64 {
 		s := make([]int64, len(sizes))
 		for j, x := range lab {
 			s[x] += d[j]
@@ -90,6 +90,13 @@ func bruteExactP(groups [][]float64) (hits, total int64) {
 		}
 		return q
 	}
+}
+
+// bruteExactP enumerates every assignment of the rows to groups of the observed sizes
+// and returns #{T·L >= observed} and the number of assignments, with T·L computed in
+// int64 from the definition (the designs here are small enough).
+func bruteExactP(groups [][]float64) (hits, total int64) {
+	g, sizes, stat := definitionStat(groups)
 	obs := stat(g)
 	left := slices.Clone(sizes)
 	lab := make([]int32, len(g))
@@ -618,7 +625,7 @@ func TestPermutationRulesAgree(t *testing.T) {
 		g, v := flatten(groups)
 		ps := mustPermSetup(t, g, v, len(groups))
 		opt := PermutationOptions{Seed: 9, AnalysisID: "rules", Resamples: 3*PermutationBlockSize + 5, Workers: 2}
-		exact, err := ps.run(context.Background(), opt)
+		exact, _, err := ps.run(context.Background(), opt)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -630,7 +637,7 @@ func TestPermutationRulesAgree(t *testing.T) {
 		if err != nil || fl.exact {
 			t.Fatalf("forcing the float rule: %v", err)
 		}
-		float, err := fl.run(context.Background(), opt)
+		float, _, err := fl.run(context.Background(), opt)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -648,7 +655,7 @@ func TestPermutationFusedShuffle(t *testing.T) {
 	opt := PermutationOptions{Seed: 11, AnalysisID: "fused"}
 	a := make([]int32, len(g))
 	sums := make([]uint64, 3)
-	got, err := ps.block(context.Background(), opt, 4, 500, a, sums)
+	got, err := ps.block(context.Background(), opt, 4, 500, a, sums, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
