@@ -316,8 +316,20 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 		if !errors.Is(err, stats.ErrExactBudget) {
 			return nil, err
 		}
+		why := strings.TrimPrefix(err.Error(), stats.ErrExactBudget.Error()+": ")
+		large, smallest := in.largeGroups()
+		if large {
+			pv.Method, pv.Value, pv.Log10 = spec.Asymptotic, tail(kw.P, kw.Log10P).Value, kw.Log10P
+			pv.Reason = fmt.Sprintf("auto with asymptotic_when_large: the asymptotic chi-square p-value, since the exact distribution does not fit the work budget (%s) "+
+				"and every group holds at least %d observations (the smallest %d), where the chi-square p-value is within 15%% of the permutation p-value at 0.05, 0.01 and 0.001 (docs/methods.md §1.8)",
+				why, LargeGroupSize, smallest)
+			return pv, nil
+		}
 		pv.Reason = fmt.Sprintf("auto: Monte Carlo with the plan's %d resamples, since the exact distribution does not fit the work budget (%s)",
-			a.PValue.Resamples, strings.TrimPrefix(err.Error(), stats.ErrExactBudget.Error()+": "))
+			a.PValue.Resamples, why)
+		if a.PValue.AsymptoticWhenLarge {
+			pv.Reason += fmt.Sprintf("; asymptotic_when_large does not apply, since the smallest group holds %d observations, fewer than %d", smallest, LargeGroupSize)
+		}
 	case spec.Permutation:
 		pv.Reason = "the plan asks for a Monte Carlo permutation p-value"
 	default:
@@ -326,7 +338,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	mc, err := await(ctx, "kw permutation", func() (stats.Permutation, error) {
 		return stats.KruskalWallisPermutation(ctx, in.Group, in.Values, len(in.Groups), r, stats.PermutationOptions{
 			Seed: uint64(p.Seed), AnalysisID: a.ID, Resamples: a.PValue.Resamples, Level: a.PValue.IntervalLevel,
-			Workers: opt.Workers, Progress: opt.progress(a.ID, TaskPermutation),
+			StopAfter: a.PValue.StopAtExceedances, Workers: opt.Workers, Progress: opt.progress(a.ID, TaskPermutation),
 		})
 	})
 	if err != nil {
@@ -334,16 +346,41 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 	}
 	pv.Method = spec.Permutation
 	pv.Value, pv.Log10 = tail(mc.P, stats.Log10(mc.P)).Value, stats.Log10(mc.P)
+	estimator := "(b + 1) / (m + 1), b exceedances in m resamples (Phipson & Smyth 2010)"
+	if mc.Stopped {
+		estimator = "h / L, stopped at the h-th exceedance after L resamples (Besag & Clifford 1991)"
+	}
 	pv.MonteCarlo = &results.MonteCarlo{
 		Resamples:   strconv.FormatInt(mc.Resamples, 10),
 		Exceedances: strconv.FormatInt(mc.Exceed, 10),
-		Estimator:   "(b + 1) / (m + 1), b exceedances in m resamples (Phipson & Smyth 2010)",
+		Estimator:   estimator,
 		SE:          mc.SE,
 		CI:          results.Interval{Level: mc.Level, Low: mc.CILow, High: mc.CIHigh},
 		Comparison:  mc.Comparison,
 		Stream:      fmt.Sprintf("purpose %q, blocks of %d resamples", stats.PermutationPurpose, stats.PermutationBlockSize),
 	}
+	if mc.StopAfter > 0 {
+		pv.MonteCarlo.Sequential = sequentialRecord(mc)
+	}
 	return pv, nil
+}
+
+// sequentialRecord describes the sequential rule of a Monte Carlo p-value for the
+// results, and when it stopped, its estimator and interval.
+func sequentialRecord(mc stats.Permutation) *results.Sequential {
+	sq := &results.Sequential{
+		Rule: "Besag & Clifford (1991): stop at the resample that brings the h-th exceedance and report h / L, L the resamples drawn; " +
+			"when fewer than h of the m resamples exceed, draw all m and report (b + 1) / (m + 1); resamples are taken in block order, so the stop is the same for any number of workers",
+		StopAtExceedances: strconv.FormatInt(mc.StopAfter, 10),
+		MaxResamples:      strconv.FormatInt(mc.MaxResamples, 10),
+		Stopped:           mc.Stopped,
+		Interval:          "Clopper-Pearson: the rule did not stop, so the count of exceedances in m resamples is binomial",
+	}
+	if mc.Stopped {
+		sq.Interval = "exact interval for sampling until the h-th exceedance (negative binomial tails of L inverted): " +
+			"[Beta^-1((1 - level)/2; h, L - h + 1), Beta^-1((1 + level)/2; h, L - h)], the upper end 1 when L = h; Besag & Clifford give no interval"
+	}
+	return sq
 }
 
 // effectSizes computes epsilon-squared and eta-squared based on H, with the interval the

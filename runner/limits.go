@@ -93,7 +93,7 @@ func (prep *Prepared) CheckWork(ctx context.Context) error {
 			case errors.Is(err, stats.ErrExactBudget) && a.PValue.Method == spec.Exact:
 				errs = append(errs, exactRefused(p, i, err))
 			case errors.Is(err, stats.ErrExactBudget):
-				monteCarlo = true
+				monteCarlo = in.autoChoice() == spec.Permutation
 			default:
 				return fmt.Errorf("analysis %q: %w", a.ID, err)
 			}
@@ -148,9 +148,11 @@ func exactRefused(p *spec.Plan, index int, err error) *spec.Error {
 }
 
 // autoChoice is the method that p-value method auto takes for the input, as [pValue]
-// decides it: exact when the exact p-value fitted the work budget, permutation when it
-// did not. It is empty before [Prepared.CheckWork] has tried the exact p-value, and when
-// that gave no p-value for another reason (every value tied).
+// decides it: exact when the exact p-value fitted the work budget; when it did not,
+// asymptotic when the plan sets pvalue.asymptotic_when_large and every group is large
+// ([Input.largeGroups]), else permutation. It is empty before [Prepared.CheckWork] has
+// tried the exact p-value, and when that gave no p-value for another reason (every
+// value tied).
 func (in *Input) autoChoice() spec.PValueMethod {
 	switch {
 	case in.exact == nil:
@@ -158,7 +160,34 @@ func (in *Input) autoChoice() spec.PValueMethod {
 	case in.exact.err == nil:
 		return spec.Exact
 	case errors.Is(in.exact.err, stats.ErrExactBudget):
+		if ok, _ := in.largeGroups(); ok {
+			return spec.Asymptotic
+		}
 		return spec.Permutation
 	}
 	return ""
+}
+
+// LargeGroupSize is the group size from which method auto with
+// pvalue.asymptotic_when_large takes the asymptotic chi-square p-value when the exact
+// distribution does not fit the work budget: every group must hold at least this many
+// observations. It comes from the accuracy study of docs/methods.md §1.8
+// (testdata/reference/auto_large_scipy.py, checked by TestLargeGroupSizeStudy): from
+// this size on, for k = 3 to 6 groups, equal or unequal sizes, with or without heavy
+// ties, the actual size of the chi-square test at alpha = 0.05, 0.01 and 0.001 is
+// within 15% of alpha (relative), the Monte Carlo error of the study included.
+const LargeGroupSize = 25
+
+// largeGroups reports whether the plan lets method auto take the asymptotic p-value
+// for this input's design (pvalue.asymptotic_when_large) and every group holds at least
+// [LargeGroupSize] observations, with the smallest group's size. It does not look at
+// the exact method's budget.
+func (in *Input) largeGroups() (bool, int) {
+	smallest := 0
+	for i, c := range in.Counts {
+		if i == 0 || c < smallest {
+			smallest = c
+		}
+	}
+	return in.Analysis.PValue.AsymptoticWhenLarge && smallest >= LargeGroupSize, smallest
 }

@@ -55,6 +55,11 @@ type Draft struct {
 	Control         string
 }
 
+// DraftLargeGroupSize is the group size that the drafted comment on
+// pvalue.asymptotic_when_large names; the runner's rule (runner.LargeGroupSize) is
+// tested to agree with it.
+const DraftLargeGroupSize = 25
+
 // YAML renders the draft as a plan file whose first line points editors at the schema
 // (the yaml-language-server `$schema` comment).
 func (d Draft) YAML() []byte {
@@ -154,6 +159,8 @@ func (d Draft) YAML() []byte {
 		p("      # resamples: 100000  # Monte Carlo resamples (permutation, auto)\n")
 		p("      # interval_level: %v  # level of the Monte Carlo p-value's interval (permutation, auto)\n", DefaultIntervalLevel)
 	}
+	p("      # stop_at_exceedances: 10  # sequential Monte Carlo: stop once 10 resamples reach H (permutation, auto)\n")
+	p("      # asymptotic_when_large: true  # auto: the chi-square p when the exact p does not fit and every group holds at least %d\n", DraftLargeGroupSize)
 	p("    effect_size:\n")
 	if d.EffectResamples > 0 {
 		p("      interval: %s  # %s\n", BootstrapInterval, choices(IntervalMethods()))

@@ -312,12 +312,24 @@ func (p *Plan) check(dt doubt) ErrorList {
 				if a.PValue.Resamples == 0 {
 					add(at+".pvalue", "method %q needs resamples, the number of Monte Carlo resamples (e.g. 100000)", m)
 				}
+				if h := a.PValue.StopAtExceedances; a.PValue.Resamples > 0 && h > a.PValue.Resamples {
+					add(at+".pvalue.stop_at_exceedances", "%d exceedances cannot be reached in %d resamples; use at most %d", h, a.PValue.Resamples, a.PValue.Resamples)
+				}
+				if m == Permutation && p.Has(at+".pvalue.asymptotic_when_large") {
+					add(at+".pvalue.asymptotic_when_large", "applies only to the method auto, not %q, which always draws resamples", m)
+				}
 			default:
 				if a.PValue.Resamples != 0 {
 					add(at+".pvalue.resamples", "applies only to the methods permutation and auto, not %q", m)
 				}
 				if p.Has(at + ".pvalue.interval_level") {
 					add(at+".pvalue.interval_level", "applies only to the methods permutation and auto, not %q: only a Monte Carlo p-value has an interval", m)
+				}
+				if p.Has(at + ".pvalue.stop_at_exceedances") {
+					add(at+".pvalue.stop_at_exceedances", "applies only to the methods permutation and auto, not %q: only a Monte Carlo p-value draws resamples", m)
+				}
+				if p.Has(at + ".pvalue.asymptotic_when_large") {
+					add(at+".pvalue.asymptotic_when_large", "applies only to the method auto, not %q", m)
 				}
 			}
 		}

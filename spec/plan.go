@@ -146,6 +146,17 @@ type PValue struct {
 	// Carlo p-value, strictly between 0 and 1; with the methods permutation and auto only,
 	// where it defaults to [DefaultIntervalLevel], and 0 with the others.
 	IntervalLevel float64 `json:"interval_level,omitempty"`
+	// StopAtExceedances is h of the sequential rule of a Monte Carlo p-value (Besag &
+	// Clifford 1991): stop at the resample that brings the h-th exceedance and report
+	// h/L, L the resamples drawn; 0 (the key absent) draws every resample. With the
+	// methods permutation and auto only, at most Resamples.
+	StopAtExceedances int64 `json:"stop_at_exceedances,omitempty"`
+	// AsymptoticWhenLarge lets method auto take the asymptotic chi-square p-value
+	// instead of Monte Carlo when the exact distribution does not fit the work budget
+	// and every group holds at least the number of observations the runner documents
+	// (runner.LargeGroupSize); false (the key absent) keeps Monte Carlo. With method auto
+	// only.
+	AsymptoticWhenLarge bool `json:"asymptotic_when_large,omitempty"`
 }
 
 // DefaultIntervalLevel is the confidence level of a Monte Carlo p-value's interval when

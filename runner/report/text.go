@@ -396,13 +396,15 @@ func PreviewWith(w io.Writer, pv *results.Preview, planPath, dataPath string, st
 
 // previewMethod says which p-value method an analysis will use: for auto, the method
 // chosen (exact when it fits the work budget, otherwise Monte Carlo with the plan's
-// resamples).
+// resamples, or the asymptotic p-value under asymptotic_when_large).
 func previewMethod(a results.PreviewAnalysis) string {
 	switch {
 	case a.PValue == spec.Auto && a.Chosen == spec.Exact:
 		return "auto: exact (the exact distribution fits the work budget)"
 	case a.PValue == spec.Auto && a.Chosen == spec.Permutation:
 		return "auto: Monte Carlo with " + a.Resamples + " resamples (the exact distribution does not fit the work budget)"
+	case a.PValue == spec.Auto && a.Chosen == spec.Asymptotic:
+		return "auto: asymptotic chi-square (the exact distribution does not fit the work budget, and asymptotic_when_large applies: every group is large)"
 	case a.Resamples != "":
 		return string(a.PValue) + " (" + a.Resamples + " Monte Carlo resamples)"
 	}

@@ -264,6 +264,21 @@ type MonteCarlo struct {
 	CI          Interval `json:"ci"` // Clopper-Pearson interval of the permutation p
 	Comparison  string   `json:"comparison"`
 	Stream      string   `json:"stream"` // the stream purpose label and block size
+	// Sequential is present when the plan sets pvalue.stop_at_exceedances.
+	Sequential *Sequential `json:"sequential,omitempty"`
+}
+
+// Sequential records the sequential rule of a Monte Carlo p-value (Besag & Clifford
+// 1991). When it stopped, MonteCarlo.Resamples is L, the resamples drawn up to the
+// h-th exceedance, MonteCarlo.Exceedances is h, the p-value is h/L and MonteCarlo.CI is
+// the interval named by Interval; when it did not, every one of MaxResamples was drawn
+// and the fixed rule's estimate and Clopper-Pearson interval stand.
+type Sequential struct {
+	Rule              string `json:"rule"`
+	StopAtExceedances string `json:"stop_at_exceedances"` // h
+	MaxResamples      string `json:"max_resamples"`       // m
+	Stopped           bool   `json:"stopped"`
+	Interval          string `json:"interval"` // how MonteCarlo.CI was computed
 }
 
 // Interval is a two-sided interval at a level.
@@ -379,7 +394,8 @@ type PreviewAnalysis struct {
 	Test   spec.Test         `json:"test"`
 	PValue spec.PValueMethod `json:"p_value_method"`
 	// Chosen is, for method auto, the method the run will use: exact when the exact
-	// distribution fits the work budget, permutation (Monte Carlo) otherwise; empty for
+	// distribution fits the work budget, permutation (Monte Carlo) otherwise, or
+	// asymptotic when pvalue.asymptotic_when_large applies; empty for
 	// other methods and when no p-value can be computed (every value tied).
 	Chosen spec.PValueMethod `json:"p_value_chosen,omitempty"`
 	// Resamples is the Monte Carlo resample count (decimal string), for permutation and auto.
