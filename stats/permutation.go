@@ -457,7 +457,7 @@ func (ps *permSetup) run(ctx context.Context, opt PermutationOptions) (b, l int6
 	}
 	err = runBlocks(ctx, blocks, workers, poll, func(w int, j int64) error {
 		if labels[w] == nil {
-			labels[w], sums[w] = make([]int32, len(ps.labels)), make([]uint64, ps.k)
+			labels[w], sums[w] = make([]int32, len(ps.labels)), make([]uint64, 2*ps.k)
 		}
 		start := j * PermutationBlockSize
 		end := min(start+PermutationBlockSize, m)
@@ -486,7 +486,7 @@ func (ps *permSetup) run(ctx context.Context, opt PermutationOptions) (b, l int6
 }
 
 // block draws the count resamples of block j into the scratch buffers a (len N) and
-// sums (len k) and returns how many exceed the observed statistic. With a sequential
+// sums (len 2k) and returns how many exceed the observed statistic. With a sequential
 // rule (seq not nil) it also marks each exceeding resample in the block's bitmap, and
 // gives up (returning 0) once the rule has stopped at an earlier block, whose count
 // alone then matters.
@@ -514,12 +514,24 @@ func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64
 			if i&(cancelEvery-1) == 0 && cancelled(done) {
 				return 0, ctx.Err()
 			}
-			x := s.Below(uint64(i) + 1)
+			// s.Below(i + 1) (Lemire's method), with its common case inline: one raw
+			// value, whose low product half is at least the bound, so no rejection test
+			// is needed; otherwise Below's own steps from the same value.
+			n := uint64(i) + 1
+			x, lo := bits.Mul64(s.Uint64(), n)
+			if lo < n {
+				x = lemireReject(s, n, x, lo)
+			}
 			a[i], a[x] = a[x], a[i]
-			sums[a[i]] += uint64(d[i])
+			// Two partial sums per group, by the parity of the position, so that
+			// consecutive positions of one group do not wait on each other's store.
+			sums[2*int(a[i])+(i&1)] += uint64(d[i])
 		}
-		sums[a[0]] += uint64(d[0])
-		if ps.exceeds(sums) {
+		sums[2*int(a[0])] += uint64(d[0])
+		for g := range ps.k { // reads 2g and 2g+1 >= g, so in place
+			sums[g] = sums[2*g] + sums[2*g+1]
+		}
+		if ps.exceeds(sums[:ps.k]) {
 			exceed++
 			if hits != nil {
 				hits[r>>6] |= 1 << (r & 63)
@@ -527,4 +539,17 @@ func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64
 		}
 	}
 	return exceed, nil
+}
+
+// lemireReject finishes [stream.Stream.Below](n) after its first raw value gave the
+// product hi·2^64 + lo with lo < n: when lo is also below t = 2^64 mod n, the value is
+// rejected and further raw values are drawn until one is not; it returns the high half
+// of the accepted product. TestPermutationFusedShuffle checks the fused loop against
+// stream.ShuffleInt32, and TestLemireRejectSteps this function against Below.
+func lemireReject(s *stream.Stream, n, hi, lo uint64) uint64 {
+	t := -n % n
+	for lo < t {
+		hi, lo = bits.Mul64(s.Uint64(), n)
+	}
+	return hi
 }

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/big"
+	"math/bits"
 	"os"
 	"slices"
 	"testing"
@@ -264,4 +265,32 @@ func ExampleSequentialInterval() {
 	fmt.Printf("p = %.4f, 95%% interval [%.4f, %.4f]\n", 10.0/412, lo, hi)
 	// Output:
 	// p = 0.0243, 95% interval [0.0117, 0.0412]
+}
+
+// TestLemireRejectSteps: the Monte Carlo loop's inline form of stream.Below (one raw
+// value, and lemireReject when its low product half is below the bound) draws the same
+// integers from the same raw values as Below, on bounds where rejection is common
+// (2^63 + 1: t = 2^63 − 1, about half the raw values rejected) and where it is rare.
+func TestLemireRejectSteps(t *testing.T) {
+	for _, n := range []uint64{1, 2, 3, 1000, 1<<32 + 7, 1<<63 + 1, math.MaxUint64} {
+		key := stream.Key("test", 1, "lemire", n)
+		below, fused := stream.New(key), stream.New(key)
+		rejected := 0
+		for range 2000 {
+			want := below.Below(n)
+			x, lo := bits.Mul64(fused.Uint64(), n)
+			if lo < n {
+				if lo < -n%n {
+					rejected++
+				}
+				x = lemireReject(fused, n, x, lo)
+			}
+			if x != want {
+				t.Fatalf("n = %d: fused %d, Below %d", n, x, want)
+			}
+		}
+		if n == 1<<63+1 && rejected < 500 {
+			t.Errorf("n = 2^63 + 1: only %d of 2000 first values rejected; the slow path went untested", rejected)
+		}
+	}
 }
