@@ -477,6 +477,15 @@ func FuzzSampleStats(f *testing.F) {
 				t.Fatalf("KruskalWallisPermutation: %+v", p)
 			}
 		})
+		within(t, "KruskalWallisPermutation sequential", func() {
+			h := 1 + in.resamp/3
+			p, err := KruskalWallisPermutation(context.Background(), in.group, in.values, in.k, r,
+				PermutationOptions{Seed: 1, AnalysisID: "fuzz", Resamples: in.resamp, StopAfter: h, Workers: 2})
+			if err == nil && intact && !(p.P > 0 && p.P <= 1 && unit(p.CILow) && unit(p.CIHigh) && p.CILow <= p.CIHigh &&
+				p.Resamples <= in.resamp && (!p.Stopped || p.Exceed == h)) {
+				t.Fatalf("KruskalWallisPermutation with StopAfter %d: %+v", h, p)
+			}
+		})
 		within(t, "KruskalWallisBootstrap", func() {
 			b, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 1, AnalysisID: "fuzz", Resamples: in.resamp, Level: level, Workers: 1})
 			if err == nil && intact && !(b.HLow >= 0 && b.HLow <= b.HHigh && b.HHigh <= float64(n-1)) {
@@ -542,6 +551,17 @@ func FuzzDistributions(f *testing.F) {
 				ok := m >= 1 && x > 0 && x < 1
 				if (err == nil) != ok || (err == nil && !(unit(lo) && unit(hi) && lo <= hi)) {
 					t.Fatalf("ClopperPearson(%d, %d, %v) = %v, %v, %v", cb, m, x, lo, hi, err)
+				}
+			})
+			within(t, "SequentialInterval", func() {
+				h, l := n, n+int64(max(min(a, 1e6), 0)) // L - h failures, a share of the range
+				if math.IsNaN(a) {
+					l = n
+				}
+				lo, hi, err := SequentialInterval(h, l, x)
+				ok := h >= 1 && x > 0 && x < 1
+				if (err == nil) != ok || (err == nil && !(unit(lo) && unit(hi) && lo <= hi)) {
+					t.Fatalf("SequentialInterval(%d, %d, %v) = %v, %v, %v", h, l, x, lo, hi, err)
 				}
 			})
 		}
