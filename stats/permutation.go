@@ -144,8 +144,10 @@ type PermutationOptions struct {
 // h-th exceedance; blocks still run in parallel, but their counts are consumed in block
 // order, the rule is applied at the first block whose running count reaches h, the h-th
 // exceedance is found within it from a record of which of its resamples exceeded, and
-// later blocks are not started or are abandoned. So it too is bit-identical for any
-// number of workers, and at most Workers − 1 blocks of work are wasted.
+// later blocks are not started or are abandoned; a block also ends at the exceedance
+// that completes the count it needs. So it too is bit-identical for any number of
+// workers; with one worker it draws exactly L resamples, with more at most Workers − 1
+// blocks of work are wasted.
 //
 // It returns [ErrAllTied] (wrapped) when every observation is tied, an error when m < 1,
 // when Level is not 0 and not strictly between 0 and 1,
@@ -487,8 +489,9 @@ func (ps *permSetup) run(ctx context.Context, opt PermutationOptions) (b, l int6
 
 // block draws the count resamples of block j into the scratch buffers a (len N) and
 // sums (len 2k) and returns how many exceed the observed statistic. With a sequential
-// rule (seq not nil) it also marks each exceeding resample in the block's bitmap, and
-// gives up (returning 0) once the rule has stopped at an earlier block, whose count
+// rule (seq not nil) it also marks each exceeding resample in the block's bitmap, ends
+// early with the count so far once that count holds the rule's stop ([seqStop.need]),
+// and gives up (returning 0) once the rule has stopped at an earlier block, whose count
 // alone then matters.
 func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64, count int64, a []int32, sums []uint64, seq *seqStop) (int64, error) {
 	copy(a, ps.labels)
@@ -535,6 +538,9 @@ func (ps *permSetup) block(ctx context.Context, opt PermutationOptions, j uint64
 			exceed++
 			if hits != nil {
 				hits[r>>6] |= 1 << (r & 63)
+				if exceed >= seq.need(int64(j)) {
+					return exceed, nil // the stop is here or earlier; the rest is not needed
+				}
 			}
 		}
 	}

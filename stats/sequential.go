@@ -71,7 +71,9 @@ func sequentialSummary(h, l, m int64, level float64) (Permutation, error) {
 // reaches h it records that block, so that no later block is started and the ones
 // already running give up (see [permSetup.run]). Each block also records which of its
 // resamples exceeded, one bit per resample, so that the h-th exceedance is found
-// within the stopping block.
+// within the stopping block; and a block ends as soon as it has found the
+// exceedances it needs ([seqStop.need]), so that the rule draws little more than the
+// L resamples it reports even when a block is long (10^6 observations).
 type seqStop struct {
 	h      int64
 	hits   []uint64 // PermutationBlockSize/64 words per block
@@ -101,6 +103,19 @@ func (s *seqStop) past(j int64) bool { return j > s.stopBlock.Load() }
 
 // stopped reports whether the rule has stopped; the poll of [runBlocks].
 func (s *seqStop) stopped() bool { return s.stopBlock.Load() != math.MaxInt64 }
+
+// need is how many exceedances block j must find for the rule to stop within it, as
+// far as is known now: h − (exceedances of blocks 0..j−1) once those are all consumed,
+// else h. It only ever decreases, and a block that has found need exceedances holds the
+// stop (the h-th exceedance is its need-th or comes earlier), so it may end there.
+func (s *seqStop) need(j int64) int64 {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if s.next == j {
+		return s.h - s.before
+	}
+	return s.h
+}
 
 // finish records block j's count and consumes the blocks now finished in order.
 func (s *seqStop) finish(j, count int64) {
