@@ -321,7 +321,7 @@ func pValue(ctx context.Context, p *spec.Plan, index int, in *Input, r *stats.Ra
 		if large {
 			pv.Method, pv.Value, pv.Log10 = spec.Asymptotic, tail(kw.P, kw.Log10P).Value, kw.Log10P
 			pv.Reason = fmt.Sprintf("auto with asymptotic_when_large: the asymptotic chi-square p-value, since the exact distribution does not fit the work budget (%s) "+
-				"and every group holds at least %d observations (the smallest %d), where the chi-square p-value is within 15%% of the permutation p-value at 0.05, 0.01 and 0.001 (docs/methods.md §1.8)",
+				"and every group holds at least %d observations (the smallest %d), where the chi-square test keeps its level and rejects at least 90%% as often as the permutation test at alpha 0.05 and 80%% at 0.01 (conservative by up to 40%% at 0.001; docs/methods.md §1.8)",
 				why, LargeGroupSize, smallest)
 			return pv, nil
 		}
