@@ -240,6 +240,14 @@ func SummaryWith(w io.Writer, res *results.Results, dataPath string, st Style) e
 			ew.printf("      %s of %s resamples reached H; Monte Carlo SE %s, %s%% interval [%s, %s]\n",
 				mc.Exceedances, mc.Resamples, Num(mc.SE), Num(100*mc.CI.Level), NumP(mc.CI.Low), NumP(mc.CI.High))
 		}
+		if mc := pv.MonteCarlo; mc != nil && mc.Sequential != nil {
+			sq := mc.Sequential
+			what := "did not stop: fewer than h of the resamples reached H, so all were drawn"
+			if sq.Stopped {
+				what = "stopped at the h-th exceedance, p = h/L"
+			}
+			ew.printf("      sequential rule with h = %s and at most %s resamples: %s\n", sq.StopAtExceedances, sq.MaxResamples, what)
+		}
 		if pv.Method != spec.Asymptotic {
 			ew.printf("      asymptotic chi-square p = %s\n", FormatP(a.AsymptoticP.Value, a.AsymptoticP.Log10))
 		}
