@@ -273,7 +273,7 @@ func renameNoReplace(from, to string) error {
 
 // syncDir makes the entries of dir durable (fsync(2) on the folder). It does its best and
 // reports nothing: a folder that cannot be opened for reading (write-only) or a file
-// system that cannot sync a folder still gets its files, as before folders were synced.
+// system that cannot sync a folder still gets its files written.
 func syncDir(dir string) {
 	if d, err := os.Open(dir); err == nil {
 		d.Sync()
