@@ -146,6 +146,7 @@ func Prepare(ctx context.Context, p *spec.Plan) (*Prepared, error) {
 		return nil, inputErr(errs.Err())
 	}
 	prep.Data.LookAlikeGroups = LookAlikeGroups(p.Data.Group, t.Groups)
+	renumberGroups(t, groups)
 	for i := range p.Analyses {
 		a := &p.Analyses[i]
 		if c := a.PostHoc.Control; c != "" && !slices.Contains(groups, c) {
@@ -284,6 +285,40 @@ func sortedCopy(s []string) []string {
 	return c
 }
 
+// renumberGroups numbers the table's groups in report order when the analysed groups are
+// exactly the groups of the table: each row's group index is rewritten in place (a
+// missing label stays -1) and t.Groups becomes a copy of groups. The analyses can then
+// use the table's group column as it is (see select_), instead of a copy per analysis.
+// Otherwise the table is left alone.
+func renumberGroups(t *data.Table, groups []string) {
+	if len(groups) != len(t.Groups) {
+		return
+	}
+	pos := make(map[string]int32, len(groups))
+	for j, g := range groups {
+		pos[g] = int32(j)
+	}
+	remap := make([]int32, len(t.Groups))
+	identity := true
+	for j, g := range t.Groups {
+		k, ok := pos[g]
+		if !ok {
+			return
+		}
+		remap[j] = k
+		identity = identity && k == int32(j)
+	}
+	if identity {
+		return
+	}
+	for r, g := range t.Group {
+		if g >= 0 {
+			t.Group[r] = remap[g]
+		}
+	}
+	t.Groups = slices.Clone(groups)
+}
+
 // select_ builds the input of analysis i: each row is either used or counted once as
 // excluded, under the first reason that applies in this order: missing-group,
 // group-not-included, outside-subset, missing-outcome. subset is the label column of the
@@ -325,10 +360,27 @@ func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []floa
 	in := Input{
 		Analysis: a,
 		Groups:   groups,
-		Group:    make([]int32, 0, t.Rows),
-		Values:   make([]float64, 0, t.Rows),
 		Counts:   make([]int, len(groups)),
 	}
+	// When no row is left out, the analysis takes the table's columns as they are, the
+	// group column too when its numbering is the report order (see renumberGroups):
+	// nothing downstream modifies an Input's rows, so they may be shared.
+	if rowsAllKept(t, remap, keep, subset, outcome, in.Counts) {
+		in.Values = outcome[:t.Rows:t.Rows]
+		if isIdentity(remap) {
+			in.Group = t.Group[:t.Rows:t.Rows]
+		} else {
+			in.Group = make([]int32, t.Rows)
+			for r, g := range t.Group[:t.Rows] {
+				in.Group[r] = remap[g]
+			}
+		}
+		in.Excluded = []results.Exclusion{}
+		return in, emptyGroups(p, at, a, groups, in)
+	}
+	clear(in.Counts)
+	in.Group = make([]int32, 0, t.Rows)
+	in.Values = make([]float64, 0, t.Rows)
 	type key struct {
 		reason string
 		group  int32 // table group index, -1 for a missing label
@@ -371,6 +423,33 @@ func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []floa
 		in.Excluded = append(in.Excluded, results.Exclusion{Group: label(k.group), Reason: k.reason, Rows: excluded[k]})
 	}
 
+	return in, emptyGroups(p, at, a, groups, in)
+}
+
+// rowsAllKept reports whether analysis input would keep every row of t (no missing label,
+// no group left out, every row in the subset, no missing outcome), counting the rows of
+// each analysis group into counts as it goes; it stops at the first row left out.
+func rowsAllKept(t *data.Table, remap []int32, keep []bool, subset *data.LabelColumn, outcome []float64, counts []int) bool {
+	for r, g := range t.Group[:t.Rows] {
+		if g < 0 || remap[g] < 0 || keep != nil && !keep[subset.Row[r]] || math.IsNaN(outcome[r]) {
+			return false
+		}
+		counts[remap[g]]++
+	}
+	return true
+}
+
+func isIdentity(remap []int32) bool {
+	for j, k := range remap {
+		if k != int32(j) {
+			return false
+		}
+	}
+	return true
+}
+
+// emptyGroups is the error for the analysed groups that have no observation left, or nil.
+func emptyGroups(p *spec.Plan, at string, a *spec.Analysis, groups []string, in Input) error {
 	var errs spec.ErrorList
 	for j, g := range groups {
 		if in.Counts[j] == 0 {
@@ -384,7 +463,7 @@ func select_(p *spec.Plan, i int, t *data.Table, groups []string, outcome []floa
 				g, a.Outcome, why.String()))
 		}
 	}
-	return in, errs.Err()
+	return errs.Err()
 }
 
 // Preview summarises a prepared plan for `rankplan check`.

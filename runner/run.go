@@ -153,6 +153,7 @@ type runInputs struct {
 // bindInputs reads and checks everything a run needs: the output folder's name and the
 // folders above it that are missing (created later, by openRunFolder), the plan, its lock and deviations, the data, the work's size and the signing key.
 func bindInputs(ctx context.Context, planPath string, opt RunOptions) (*runInputs, error) {
+	startRunWork()
 	in := &runInputs{planPath: planPath, now: opt.Now}
 	if in.now == nil {
 		in.now = time.Now

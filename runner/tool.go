@@ -2,11 +2,13 @@ package runner
 
 import (
 	"os"
-	"rankplan/runner/audit"
-	"rankplan/runner/folder"
 	"runtime"
 	"runtime/debug"
 	"sync"
+
+	"rankplan/runner/audit"
+	"rankplan/runner/folder"
+	"rankplan/schemas"
 )
 
 // Version is rankplan's release version.
@@ -58,6 +60,16 @@ func (t ToolInfo) Record(exe string, exeSize int64) folder.Tool {
 		ExecutableSHA256: exe, ExecutableBytes: exeSize,
 		Go: t.GoVersion, GOOS: t.GOOS, GOARCH: t.GOARCH, GOAMD64: goamd64(),
 	}
+}
+
+// startRunWork starts, each on its own goroutine, the work of a run that does not depend
+// on its inputs and would otherwise wait for them: hashing the executable (about 20 MB,
+// for run.started) and compiling the results schema (for results.json). Both happen once
+// per process; whoever needs the result first waits for the work started here. A run that
+// fails before it needs them leaves them to finish unused.
+func startRunWork() {
+	go Executable()
+	go schemas.Results()
 }
 
 // Executable returns the SHA-256 and size of the running executable ("" and 0 when it

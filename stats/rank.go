@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"unsafe"
 )
 
 // Block is one tie block of the pooled sorted sample: a maximal run of equal values.
@@ -53,9 +54,9 @@ type Ranking struct {
 //
 // Rank does not modify group or values. The Sorted slices of the result are sub-slices
 // of one backing array of length N, each with its capacity cut to its length. It takes
-// O(N log N) time (a sort within each group, then a k-way merge of the sorted groups
-// with a heap, O(N log k)) and O(N + k + m) memory, with a fixed number of allocations
-// whatever N is.
+// O(N log N) time (a sort within each group, by radix for large groups (see
+// [sortFinite]), then a k-way merge of the sorted groups with a heap, O(N log k)) and
+// O(N + k + m) memory, with a fixed number of allocations whatever N is.
 func Rank(group []int32, values []float64, k int) (*Ranking, error) {
 	if k < 2 {
 		return nil, fmt.Errorf("rank: need at least 2 groups, got k = %d", k)
@@ -109,8 +110,11 @@ func Rank(group []int32, values []float64, k int) (*Ranking, error) {
 		backing[next[g]] = v
 		next[g]++
 	}
+	// Scratch for the radix sort of the largest group (allocated for small groups too,
+	// so that the number of allocations does not depend on N).
+	radixScratch := make([]uint64, slices.Max(counts))
 	for _, s := range sorted {
-		slices.Sort(s)
+		sortFinite(s, radixScratch)
 	}
 
 	// First merge: count the tie blocks, so Blocks is allocated once at its size.
@@ -247,4 +251,77 @@ func (mg *merger) next() int {
 		}
 	}
 	return t
+}
+
+// radixMinLen is the shortest slice that sortFinite sorts by radix; shorter ones are
+// sorted by comparison (pdqsort), which is faster there.
+const radixMinLen = 1024
+
+// radixBits is the width of one radix digit: six passes of 11 bits cover 64-bit keys,
+// with a histogram of 2048 counters per pass.
+const radixBits = 11
+
+// sortFinite sorts s, which holds no NaN and no negative zero, in ascending order. A slice
+// of radixMinLen values or more is sorted by a least-significant-digit radix sort
+// (Knuth, TAOCP vol. 3, 2nd ed., 1998, §5.2.5) of the order-preserving 64-bit keys
+//
+//	key(v) = bits(v) XOR 0x8000000000000000   for v ≥ 0 (sign bit clear)
+//	key(v) = NOT bits(v)                      for v < 0
+//
+// where bits(v) is the IEEE 754 binary64 encoding: for finite values, key(a) < key(b)
+// exactly when a < b (common practice; the encoding orders non-negative values by their
+// bits as unsigned integers, and reversing all bits of a negative value orders it below
+// every non-negative one and in reverse magnitude). A pass whose digit is the same for
+// every key moves nothing and is skipped. scratch must hold at least len(s) keys when
+// len(s) ≥ radixMinLen. The result is the one ascending order of the values, so it is the
+// same as a comparison sort's, bit for bit. O(len(s)) time, no allocation.
+func sortFinite(s []float64, scratch []uint64) {
+	n := len(s)
+	if n < radixMinLen {
+		slices.Sort(s)
+		return
+	}
+	// The keys are built in place: s and its keys share memory (float64 and uint64 have
+	// the same size and alignment).
+	keys := unsafe.Slice((*uint64)(unsafe.Pointer(unsafe.SliceData(s))), n)
+	const passes = (64 + radixBits - 1) / radixBits
+	const buckets = 1 << radixBits
+	var count [passes][buckets]int
+	for i, b := range keys {
+		if b>>63 != 0 {
+			b = ^b
+		} else {
+			b |= 1 << 63
+		}
+		keys[i] = b
+		for p := range passes {
+			count[p][(b>>(p*radixBits))&(buckets-1)]++
+		}
+	}
+	src, dst := keys, scratch[:n]
+	for p := range passes {
+		c := &count[p]
+		shift := uint(p * radixBits)
+		if c[(src[0]>>shift)&(buckets-1)] == n {
+			continue // every key has this digit
+		}
+		sum := 0
+		for d := range c {
+			c[d], sum = sum, sum+c[d]
+		}
+		for _, b := range src {
+			d := (b >> shift) & (buckets - 1)
+			dst[c[d]] = b
+			c[d]++
+		}
+		src, dst = dst, src
+	}
+	for i, b := range src {
+		if b>>63 != 0 {
+			b &^= 1 << 63
+		} else {
+			b = ^b
+		}
+		keys[i] = b
+	}
 }

@@ -45,11 +45,20 @@ func parseTime(s string) (time.Time, bool) {
 	return t, true
 }
 
-// Log is an append-only audit log file. Each record is written as its
-// canonical (JCS) bytes plus "\n", followed by f.Sync(), before Append
-// returns; the file is opened O_WRONLY|O_CREATE|O_EXCL|O_APPEND, so an
-// existing file is never reused or truncated (21 CFR Part 11 §11.10(e):
-// changes never obscure earlier records). A Log is safe for concurrent use.
+// Log is an append-only audit log file. Each record is written with one write(2) as its
+// canonical (JCS) bytes plus "\n" before Append returns, so another process (or a
+// verify of a killed run) sees every record appended so far; the file is opened
+// O_WRONLY|O_CREATE|O_EXCL|O_APPEND, so an existing file is never reused or truncated
+// (21 CFR Part 11 §11.10(e): changes never obscure earlier records). A Log is safe for
+// concurrent use.
+//
+// Durability is the caller's choice of commit points: [Log.Sync] (and [Log.Close]) make
+// every record written so far durable with one fsync(2). A record that no later step
+// depends on needs no sync of its own: what the process wrote survives the process being
+// killed, and a power loss before the next commit point can only cost the log its last
+// records, leaving a log that ends early (or with a torn last line), which is what a
+// stopped run leaves anyway. The writer of a folder syncs before every step that relies
+// on the log being on disk (see package runner/folder).
 type Log struct {
 	mu     sync.Mutex
 	f      *os.File
@@ -59,6 +68,7 @@ type Log struct {
 	seq    int64
 	head   string
 	size   int64 // bytes of the complete records written
+	synced int64 // bytes known to be on disk (size at the last successful sync)
 	broken error // set when a write or sync failed; later appends refuse
 }
 
@@ -76,7 +86,7 @@ func Create(path string, actor Actor, now func() time.Time) (*Log, error) {
 }
 
 // Append writes the next record, with event and data (marshalled to a JSON
-// object), and syncs the file before it returns the record written.
+// object), and returns the record written. It does not sync the file: see [Log.Sync].
 //
 //	seq = previous seq + 1,  prev = Head() (GenesisPrev for the first)
 func (l *Log) Append(event string, data any) (Record, error) {
@@ -124,18 +134,13 @@ func (l *Log) Append(event string, data any) (Record, error) {
 	}
 	head := Digest(line)
 	line = append(line, '\n')
-	// A write or sync that fails (a full disk) may leave part of the line in the file:
-	// cut the file back to its last complete record, which a full disk allows, so that
-	// the log ends cleanly where the run stopped.
+	// A write that fails (a full disk) may leave part of the line in the file: cut the
+	// file back to its last complete record, which a full disk allows, so that the log
+	// ends cleanly where the run stopped.
 	if _, err := l.f.Write(line); err != nil {
 		l.broken = err
 		l.f.Truncate(l.size)
 		return Record{}, fmt.Errorf("append audit record %s to %s: %w", event, l.path, err)
-	}
-	if err := l.f.Sync(); err != nil {
-		l.broken = err
-		l.f.Truncate(l.size)
-		return Record{}, fmt.Errorf("sync audit log %s: %w", l.path, err)
 	}
 	l.size += int64(len(line))
 	l.seq = rec.Seq
@@ -158,21 +163,51 @@ func (l *Log) Seq() int64 {
 	return l.seq
 }
 
-// Close syncs and closes the file. Closing twice is an error.
+// Sync makes every record written so far durable (fsync(2)); it does nothing when no
+// record was written since the last sync. A failed sync breaks the log: later appends
+// refuse, since what reached the disk is no longer known.
+func (l *Log) Sync() error {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	if l.f == nil {
+		return errors.New("sync audit log: log is closed")
+	}
+	return l.syncLocked()
+}
+
+func (l *Log) syncLocked() error {
+	if l.broken != nil {
+		return fmt.Errorf("sync audit log %s: earlier write failed: %w", l.path, l.broken)
+	}
+	if l.synced == l.size {
+		return nil
+	}
+	if err := l.f.Sync(); err != nil {
+		l.broken = err
+		return fmt.Errorf("sync audit log %s: %w", l.path, err)
+	}
+	l.synced = l.size
+	return nil
+}
+
+// Close syncs (as [Log.Sync]) and closes the file. Closing twice is an error.
 func (l *Log) Close() error {
 	l.mu.Lock()
 	defer l.mu.Unlock()
 	if l.f == nil {
 		return errors.New("close audit log: already closed")
 	}
+	var serr error
+	if l.broken == nil {
+		serr = l.syncLocked()
+	}
 	f := l.f
 	l.f = nil
-	if err := f.Sync(); err != nil {
-		f.Close()
-		return fmt.Errorf("close audit log %s: %w", l.path, err)
+	if err := f.Close(); err != nil && serr == nil {
+		serr = fmt.Errorf("close audit log %s: %w", l.path, err)
 	}
-	if err := f.Close(); err != nil {
-		return fmt.Errorf("close audit log %s: %w", l.path, err)
+	if serr != nil {
+		return fmt.Errorf("close audit log: %w", serr)
 	}
 	return nil
 }

@@ -11,6 +11,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"runtime"
 	"slices"
 	"strconv"
 	"strings"
@@ -132,6 +133,16 @@ const bufSize = 64 << 10
 // bytes of r, or -1 if unknown, and only sizes the table's slices once the first rows
 // show the bytes per row.
 func load(ctx context.Context, r io.Reader, opt Options, size int64) (*Table, error) {
+	chunk, workers := 0, 0
+	if size >= parallelMinBytes {
+		chunk, workers = chunkBytes, min(runtime.GOMAXPROCS(0), maxWorkers)
+	}
+	return loadIn(ctx, r, opt, size, chunk, workers)
+}
+
+// loadIn is [load]; with chunk > 0 the rows after the header are read in chunks of about
+// chunk bytes, parsed by workers goroutines (see loader.runChunked), else one by one.
+func loadIn(ctx context.Context, r io.Reader, opt Options, size int64, chunk, workers int) (*Table, error) {
 	if err := opt.check(); err != nil {
 		return nil, err
 	}
@@ -143,6 +154,7 @@ func load(ctx context.Context, r io.Reader, opt Options, size int64) (*Table, er
 	lim := opt.Limits.resolve()
 	l := &loader{opt: opt, lim: lim, p: newRecordReader(br, opt.Name, opt.Delimiter, lim.CellBytes, lim.RecordBytes),
 		ids: map[string]int32{}, hr: hr, br: br, expect: size}
+	l.chunkBytes, l.workers = chunk, max(workers, 1)
 	t, err := l.run()
 	if err != nil {
 		return nil, err
@@ -183,8 +195,14 @@ func load(ctx context.Context, r io.Reader, opt Options, size int64) (*Table, er
 // Group labels must be valid UTF-8.
 //
 // Every data error is an *Error; a failing read is returned wrapped. LoadFile
-// allocates nothing per row: group labels are allocated once each, and the columns are
-// sized once from the first rows and the file's size.
+// allocates nothing per row: group labels are allocated once each (once per chunk when
+// read in chunks), and the columns are sized once from the first rows and the file's
+// size.
+//
+// A file of 4 MiB or more is parsed in chunks of about 1 MiB on as many goroutines as
+// GOMAXPROCS allows (at most 8), while one goroutine reads and hashes it; the table and
+// the first error (its text and position) are the same as when it is read record by
+// record (see chunked.go).
 //
 // ctx is checked before every read, that is every 64 KiB: once ctx is done, LoadFile
 // returns its error (wrapped) within a buffer of rows.
@@ -354,6 +372,37 @@ type loader struct {
 	hr     *hashReader   // the bytes read so far, for sizing
 	br     *bufio.Reader // the bytes read but not yet parsed
 	expect int64         // expected bytes of the whole input, or -1
+
+	// chunkBytes > 0 reads the rows after the header in chunks of about that many bytes,
+	// parsed on workers goroutines (see runChunked).
+	chunkBytes, workers int
+
+	// For a loader of one chunk: where each new label was first seen (track), and the
+	// stage of the row being read when an error occurred (see stage*).
+	track      bool
+	groupFirst []firstSeen
+	labFirst   [][]firstSeen
+	stage      int
+}
+
+// The stages of reading one row, in the order the checks are made: a record-level
+// problem (the record itself, its field count, its line number), the limit on rows,
+// the group cell, the outcome cells, then label column c at stageLabels + c. Errors of
+// one row are reported in this order, so the first in file order is the one of the
+// lowest (row, stage).
+const (
+	stageRecord = iota
+	stageRows
+	stageGroup
+	stageOutcome
+	stageLabels
+)
+
+// firstSeen is where a label was first seen in a chunk: its row within the chunk and
+// its cell.
+type firstSeen struct {
+	row int
+	pos fieldPos
 }
 
 // sizeAfterRows is the number of rows after which the loader estimates the number of
@@ -365,13 +414,20 @@ const sizeAfterRows = 1024
 // It never expects more rows than the file could hold (each record takes at least one
 // byte per field) or than a Line can number.
 func (l *loader) presize() {
+	if l.expect <= 0 {
+		return
+	}
 	used := l.hr.n - int64(l.br.Buffered())
-	if l.expect <= 0 || used <= 0 {
+	if used <= 0 {
 		return
 	}
 	est := float64(l.t.Rows) * float64(l.expect) / float64(used) * 1.05
 	est = min(est, float64(l.expect)/float64(len(l.names))+1, math.MaxInt32)
-	more := int(est) - l.t.Rows
+	l.grow(int(est) - l.t.Rows)
+}
+
+// grow makes room in the table's columns for more rows.
+func (l *loader) grow(more int) {
 	if more <= 0 {
 		return
 	}
@@ -399,26 +455,40 @@ func (l *loader) run() (*Table, error) {
 	}
 	l.lastID = -1
 	l.t.Outcome = make([][]float64, len(l.outAt))
+	if l.chunkBytes > 0 {
+		err = l.runChunked()
+	} else {
+		err = l.rows()
+	}
+	if err != nil {
+		return nil, err
+	}
+	if l.t.Rows == 0 {
+		return nil, &Error{File: l.opt.Name, Msg: "no data rows", Err: ErrNoRows}
+	}
+	return &l.t, nil
+}
+
+// rows reads the records after the header one by one, to the end of the input.
+func (l *loader) rows() error {
+	p := l.p
 	for {
+		l.stage = stageRecord
 		ok, err := p.next()
 		if err != nil {
 			var e *Error
 			if errors.As(err, &e) && p.errField >= 0 && p.errField < len(l.names) {
 				e.Field = l.names[p.errField]
 			}
-			return nil, err
+			return err
 		}
 		if !ok {
-			break
+			return nil
 		}
 		if err := l.row(); err != nil {
-			return nil, err
+			return err
 		}
 	}
-	if l.t.Rows == 0 {
-		return nil, &Error{File: l.opt.Name, Msg: "no data rows", Err: ErrNoRows}
-	}
-	return &l.t, nil
 }
 
 // header takes the current record as the header and finds the required columns.
@@ -471,6 +541,7 @@ func (l *loader) header() error {
 // row appends the current record to the table.
 func (l *loader) row() error {
 	p := l.p
+	l.stage = stageRecord
 	if p.nfields() != len(l.names) {
 		return &Error{File: l.opt.Name, Line: p.start,
 			Msg: fmt.Sprintf("record has %d fields, header has %d", p.nfields(), len(l.names))}
@@ -478,14 +549,16 @@ func (l *loader) row() error {
 	if p.start > math.MaxInt32 {
 		return &Error{File: l.opt.Name, Line: p.start, Msg: "more lines than this loader can number (2147483647)"}
 	}
+	l.stage = stageRows
 	if l.t.Rows == l.lim.Rows {
-		return &Error{File: l.opt.Name, Line: p.start,
-			Msg: fmt.Sprintf("more than %d data rows, the limit for a data file", l.lim.Rows)}
+		return l.tooManyRows(p.start)
 	}
+	l.stage = stageGroup
 	g, err := l.group(l.groupAt)
 	if err != nil {
 		return err
 	}
+	l.stage = stageOutcome
 	for c, at := range l.outAt {
 		v, err := l.value(at)
 		if err != nil {
@@ -494,6 +567,7 @@ func (l *loader) row() error {
 		l.t.Outcome[c] = append(l.t.Outcome[c], v)
 	}
 	for c, at := range l.labAt {
+		l.stage = stageLabels + c
 		id, err := l.label(c, at)
 		if err != nil {
 			return err
@@ -507,6 +581,12 @@ func (l *loader) row() error {
 		l.presize()
 	}
 	return nil
+}
+
+// tooManyRows is the error for the row after the limit, on line.
+func (l *loader) tooManyRows(line int) error {
+	return &Error{File: l.opt.Name, Line: line,
+		Msg: fmt.Sprintf("more than %d data rows, the limit for a data file", l.lim.Rows)}
 }
 
 // cellError returns an *Error about field i of the current record.
@@ -550,6 +630,9 @@ func (l *loader) group(i int) (int32, error) {
 		id = int32(len(l.t.Groups))
 		l.t.Groups = append(l.t.Groups, s)
 		l.ids[s] = id
+		if l.track {
+			l.groupFirst = append(l.groupFirst, firstSeen{l.t.Rows, l.p.pos[i]})
+		}
 	}
 	l.lastLabel, l.lastID = l.t.Groups[id], id
 	return id, nil
@@ -579,6 +662,9 @@ func (l *loader) label(c, i int) (int32, error) {
 	id = int32(len(col.Values))
 	col.Values = append(col.Values, s)
 	l.labIDs[c][s] = id
+	if l.track {
+		l.labFirst[c] = append(l.labFirst[c], firstSeen{l.t.Rows, l.p.pos[i]})
+	}
 	return id, nil
 }
 

@@ -6,9 +6,9 @@
 // Every record's data is a typed value of this package ([RunStarted], [PlanBound], ...),
 // and every record as a whole matches the audit-record JSON Schema embedded in package
 // schemas (draft 2020-12). [Writer] writes a folder with the guarantees the audit trail
-// needs (records canonical, hash-chained and synced one by one; files through synced
-// temporary files; the folder renamed into place only when complete, never replacing
-// anything); [Read] reads one back, checking the chain and validating every record.
+// needs (records canonical and hash-chained, synced at the points that later steps rely
+// on; files through synced temporary files, on disk before their records; the folder
+// renamed into place only when complete on disk, never replacing anything); [Read] reads one back, checking the chain and validating every record.
 //
 // A run folder's log reads, in this order:
 //

@@ -25,12 +25,28 @@ var ErrExists = errors.New("the output folder already exists; rankplan never ove
 var IncompleteName = regexp.MustCompile(`\.incomplete-[0-9a-f]{8}$`)
 
 // Writer writes a folder of a [Kind]. Everything goes into DIR.incomplete-XXXX beside
-// DIR; each audit record is canonical, hash-chained and synced before the next step; each
-// file goes through a synced temporary file and a hard link and is recorded with its
-// SHA-256; the head file is written last, and the folder is renamed to DIR with
-// renameat2(RENAME_NOREPLACE), so DIR appears only complete and never replaces anything.
-// A folder that is not finished stays under its working name, its log closed by the
-// kind's Failed record.
+// DIR; each audit record is canonical and hash-chained; each file goes through a synced
+// temporary file and a hard link and is recorded with its SHA-256; the head file is
+// written last, and the folder is renamed to DIR with renameat2(RENAME_NOREPLACE), so DIR
+// appears only complete and never replaces anything. A folder that is not finished stays
+// under its working name, its log closed by the kind's Failed record.
+//
+// What is synced, and why (a kill leaves everything written so far, since the kernel
+// keeps it; only a power loss or a crash of the kernel can lose what was not synced):
+//
+//   - each file, and the folder after its name was linked, before its output.written
+//     record is written: a record that reached the disk never names a file that did not;
+//   - the log after the last record of the kind's opening sequence (exclusions.applied,
+//     cases.bound): the inputs a run bound are on disk before its long computation;
+//   - the log after the closing record, before the head file names its last record;
+//   - the head file and the seal, then the folder once, before the rename makes the
+//     folder final: a folder under its final name is complete on disk;
+//   - the folder that holds DIR after the rename.
+//
+// Other records (analysis.finished, output.written) are written without a sync of their
+// own: a power loss before the next of these points can only cut the log short after an
+// earlier record, and a log cut short in a folder still under its working name is an
+// incomplete run to verify, as a killed run is.
 type Writer struct {
 	kind     *Kind
 	out, tmp string
@@ -85,10 +101,17 @@ func Busy(dir string) bool {
 // WorkDir returns the working folder, DIR.incomplete-XXXX.
 func (w *Writer) WorkDir() string { return w.tmp }
 
-// Record appends the next audit record.
+// Record appends the next audit record. The record that ends the kind's opening
+// sequence is synced at once (see [Writer]).
 func (w *Writer) Record(r Record) error {
-	if _, err := w.log.Append(r.Event(), r); err != nil {
+	rec, err := w.log.Append(r.Event(), r)
+	if err != nil {
 		return fmt.Errorf("write audit log: %w", err)
+	}
+	if n := len(w.kind.Sequence); rec.Seq == int64(n) && rec.Event == w.kind.Sequence[n-1] {
+		if err := w.log.Sync(); err != nil {
+			return fmt.Errorf("write audit log: %w", err)
+		}
 	}
 	return nil
 }
@@ -128,6 +151,10 @@ func (w *Writer) Finish(ctx context.Context, closing Record, seal Seal) (head st
 	if err := w.Record(closing); err != nil {
 		return "", 0, err
 	}
+	// The head file names the log's last record: the log is on disk before it is.
+	if err := w.log.Sync(); err != nil {
+		return "", 0, fmt.Errorf("write audit log: %w", err)
+	}
 	head, seq = w.log.Head(), w.log.Seq()
 	headPath := filepath.Join(w.tmp, HeadFile)
 	var written []string
@@ -138,7 +165,9 @@ func (w *Writer) Finish(ctx context.Context, closing Record, seal Seal) (head st
 		w.Abandon(Failure{Error: cause.Error()})
 		return "", 0, cause
 	}
-	if err := WriteNew(headPath, []byte(head+"\n")); err != nil {
+	// The head file and the seal are each synced; their names are made durable by one
+	// sync of the folder below, before the rename.
+	if err := writeNew(headPath, []byte(head+"\n"), false); err != nil {
 		return undo(err)
 	}
 	written = append(written, headPath)
@@ -149,12 +178,13 @@ func (w *Writer) Finish(ctx context.Context, closing Record, seal Seal) (head st
 		}
 		if name != "" {
 			p := filepath.Join(w.tmp, name)
-			if err := WriteNew(p, b); err != nil {
+			if err := writeNew(p, b, false); err != nil {
 				return undo(err)
 			}
 			written = append(written, p)
 		}
 	}
+	syncDir(w.tmp)
 	if err := renameNoReplace(w.tmp, w.out); err != nil {
 		return undo(fmt.Errorf("move the finished folder into place (it stays in %s): %w", w.tmp, err))
 	}
@@ -163,6 +193,7 @@ func (w *Writer) Finish(ctx context.Context, closing Record, seal Seal) (head st
 	if err := w.log.Close(); err != nil {
 		return "", 0, fmt.Errorf("close audit log: %w", err)
 	}
+	// The rename is durable once the folder that holds DIR is synced.
 	syncDir(filepath.Dir(w.out))
 	return head, seq, nil
 }
@@ -188,7 +219,11 @@ const MaxFileBytes = 1 << 30
 // is linked into place. The hard link fails when path exists, so an existing file is never
 // replaced, not even by a race. It refuses more than MaxFileBytes. The file gets the mode of the audit log (audit.FileMode,
 // filtered by the umask).
-func WriteNew(path string, b []byte) error {
+func WriteNew(path string, b []byte) error { return writeNew(path, b, true) }
+
+// writeNew is [WriteNew]; with dirSync false the folder is not synced after the link, for a
+// caller that syncs it once after several files.
+func writeNew(path string, b []byte, dirSync bool) error {
 	if len(b) > MaxFileBytes {
 		return fmt.Errorf("write %s: %d bytes, more than the limit of %d bytes (1 GiB) for a file of a run folder, which verify would refuse to read", path, len(b), MaxFileBytes)
 	}
@@ -209,7 +244,9 @@ func WriteNew(path string, b []byte) error {
 	if err != nil {
 		return fmt.Errorf("write %s: %w", path, err)
 	}
-	syncDir(filepath.Dir(path))
+	if dirSync {
+		syncDir(filepath.Dir(path)) // the name is on disk before the caller records the file
+	}
 	return nil
 }
 
@@ -234,6 +271,9 @@ func renameNoReplace(from, to string) error {
 	return nil
 }
 
+// syncDir makes the entries of dir durable (fsync(2) on the folder). It does its best and
+// reports nothing: a folder that cannot be opened for reading (write-only) or a file
+// system that cannot sync a folder still gets its files written.
 func syncDir(dir string) {
 	if d, err := os.Open(dir); err == nil {
 		d.Sync()
