@@ -214,7 +214,7 @@ func TestResampleStops(t *testing.T) {
 
 		closed := make(chan struct{})
 		close(closed)
-		w := newBootWorker(r, bi)
+		w := newBootWorker(r, bi, false)
 		w.done = closed
 		s := stream.New(key)
 		w.resample(s)
@@ -227,7 +227,7 @@ func TestResampleStops(t *testing.T) {
 		}
 
 		live := make(chan struct{})
-		a, b := newBootWorker(r, bi), newBootWorker(r, bi)
+		a, b := newBootWorker(r, bi, false), newBootWorker(r, bi, false)
 		b.done = live
 		ha, da := a.resample(stream.New(key))
 		hb, db := b.resample(stream.New(key))

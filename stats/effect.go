@@ -137,8 +137,10 @@ type BootstrapOptions struct {
 	Resamples  int64   // at least 1
 	Level      float64 // confidence level, in (0, 1)
 	Workers    int     // 0 or less: runtime.GOMAXPROCS(0); the result does not depend on it
+	// Scheme is how resamples are drawn; the zero value is [BootstrapIndices].
+	Scheme BootstrapScheme
 	// Progress, if not nil, is called with the resamples finished so far after each
-	// block of BootstrapBlockSize, from the worker goroutines (see [Progress]). The
+	// block of resamples (BootstrapBlockSize or CountsBlockSize), from the worker goroutines (see [Progress]). The
 	// result does not depend on it.
 	Progress Progress
 }
@@ -184,31 +186,44 @@ func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOption
 	if err != nil {
 		return Bootstrap{}, err
 	}
+	purpose, blockSize := BootstrapPurpose, int64(BootstrapBlockSize)
+	counts := false
+	switch opt.Scheme {
+	case BootstrapIndices:
+	case BootstrapCounts:
+		purpose, blockSize, counts = CountsPurpose, CountsBlockSize, true
+	default:
+		return Bootstrap{}, fmt.Errorf("bootstrap: unknown resampling scheme %d", int(opt.Scheme))
+	}
 	m := opt.Resamples
 	hs := make([]float64, m)
 	degenerate := make([]bool, m)
-	blocks := (m + BootstrapBlockSize - 1) / BootstrapBlockSize
+	blocks := (m + blockSize - 1) / blockSize
 	workers := resolveWorkers(opt.Workers, blocks)
 	progress := newProgressCounter(opt.Progress, m)
 	scratch := make([]*bootWorker, workers)
 	done := ctx.Done()
 	err = runBlocks(ctx, blocks, workers, nil, func(w int, j int64) error {
 		if scratch[w] == nil {
-			scratch[w] = newBootWorker(r, bi)
+			scratch[w] = newBootWorker(r, bi, counts)
 			scratch[w].done = done
 		}
-		s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
-		end := min((j+1)*BootstrapBlockSize, m)
-		for b := j * BootstrapBlockSize; b < end; b++ {
+		s := stream.New(stream.Key(purpose, opt.Seed, opt.AnalysisID, uint64(j)))
+		end := min((j+1)*blockSize, m)
+		for b := j * blockSize; b < end; b++ {
 			if cancelled(done) {
 				return ctx.Err()
 			}
-			hs[b], degenerate[b] = scratch[w].resample(s)
+			if counts {
+				hs[b], degenerate[b] = scratch[w].resampleCounts(s)
+			} else {
+				hs[b], degenerate[b] = scratch[w].resample(s)
+			}
 			if scratch[w].stopped {
 				return ctx.Err()
 			}
 		}
-		progress.add(end - j*BootstrapBlockSize)
+		progress.add(end - j*blockSize)
 		return nil
 	})
 	if err != nil {
@@ -336,10 +351,12 @@ type bootWorker struct {
 	stopped  bool            // a resample was given up because done was closed
 }
 
-func newBootWorker(r *Ranking, bi *bootIndex) *bootWorker {
+// newBootWorker returns the scratch buffers of one goroutine; counts says that the
+// resamples are of the [BootstrapCounts] scheme, which always counts per group and run.
+func newBootWorker(r *Ranking, bi *bootIndex, counts bool) *bootWorker {
 	m := len(r.Blocks)
 	w := &bootWorker{r: r, bi: bi, count: make([]int64, m), rankSum2: make([]int64, r.K), blocks: make([]Block, 0, m)}
-	if bi.byGroup {
+	if bi.byGroup || counts {
 		w.runCount = make([][]int32, r.K)
 		for i, g := range bi.runs {
 			w.runCount[i] = make([]int32, len(g.blocks))
@@ -350,53 +367,91 @@ func newBootWorker(r *Ranking, bi *bootIndex) *bootWorker {
 	return w
 }
 
-// resample draws one bootstrap resample and returns its tie-corrected H*. A drawn value is
-// one of the pooled sample's distinct values, so the resample is ranked by counting how
-// often each distinct value was drawn (no comparison sort): a value drawn t times after b
-// smaller draws has the doubled midrank 2b + t + 1, the same integers, tie blocks and H*
-// as sorting the resample would give. When w.done is closed during the draws it gives
-// the resample up and sets w.stopped; the result is then meaningless.
+// resample draws one bootstrap resample of the [BootstrapIndices] scheme and returns its
+// tie-corrected H*. A drawn value is one of the pooled sample's distinct values, so the
+// resample is ranked by counting how often each distinct value was drawn (no comparison
+// sort): a value drawn t times after b smaller draws has the doubled midrank 2b + t + 1,
+// the same integers, tie blocks and H* as sorting the resample would give. When w.done is
+// closed during the draws it gives the resample up and sets w.stopped; the result is then
+// meaningless.
 func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool) {
 	r, bi := w.r, w.bi
-	clear(w.count)
 	if bi.byGroup {
 		for i, vals := range r.Sorted {
-			n := uint64(len(vals))
-			g, cnt := &bi.runs[i], w.runCount[i]
+			cnt := w.runCount[i]
 			clear(cnt)
-			for q := range n {
-				if q&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
-					w.stopped = true
-					return 0, false
-				}
-				j := int32(s.Below(n))
-				l := g.coarse[j>>g.shift]
-				for g.bounds[l+1] <= j {
-					l++
-				}
-				cnt[l]++
-			}
-			for l, c := range cnt {
-				w.count[g.blocks[l]] += int64(c)
+			if !w.drawIndices(s, &bi.runs[i], cnt, uint64(len(vals))) {
+				w.stopped = true
+				return 0, false
 			}
 		}
-	} else {
-		off := 0
-		for _, vals := range r.Sorted {
-			n := len(vals)
-			idx, dr := bi.index[off:off+n], w.draws[off:off+n]
-			for j := range dr {
-				if j&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
-					w.stopped = true
-					return 0, false
-				}
-				u := idx[s.Below(uint64(n))]
-				dr[j] = u
-				w.count[u]++
+		return w.hFromRunCounts()
+	}
+	clear(w.count)
+	off := 0
+	for _, vals := range r.Sorted {
+		n := len(vals)
+		idx, dr := bi.index[off:off+n], w.draws[off:off+n]
+		for j := range dr {
+			if j&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
+				w.stopped = true
+				return 0, false
 			}
-			off += n
+			u := idx[s.Below(uint64(n))]
+			dr[j] = u
+			w.count[u]++
+		}
+		off += n
+	}
+	w.midranks()
+	off = 0
+	for i, vals := range r.Sorted {
+		var sum int64
+		for _, u := range w.draws[off : off+len(vals)] {
+			sum += w.count[u]
+		}
+		w.rankSum2[i] = sum
+		off += len(vals)
+	}
+	return w.hStar()
+}
+
+// resampleCounts draws one resample of the [BootstrapCounts] scheme ([bootWorker.drawCounts])
+// and returns its tie-corrected H*, ranked from the counts as [bootWorker.resample] does.
+// When w.done is closed during the draws it gives the resample up and sets w.stopped.
+func (w *bootWorker) resampleCounts(s *stream.Stream) (hStar float64, degenerate bool) {
+	if !w.drawCounts(s) {
+		w.stopped = true
+		return 0, false
+	}
+	return w.hFromRunCounts()
+}
+
+// hFromRunCounts returns H* of the resample whose counts per group and run are in
+// w.runCount: the pooled count of each distinct value, its doubled midrank, and each
+// group's sum of doubled midranks Σ_l runCount[i][l]·d(value of run l).
+func (w *bootWorker) hFromRunCounts() (hStar float64, degenerate bool) {
+	clear(w.count)
+	for i, g := range w.bi.runs {
+		for l, c := range w.runCount[i] {
+			w.count[g.blocks[l]] += int64(c)
 		}
 	}
+	w.midranks()
+	for i, g := range w.bi.runs {
+		var sum int64
+		for l, c := range w.runCount[i] {
+			sum += int64(c) * w.count[g.blocks[l]]
+		}
+		w.rankSum2[i] = sum
+	}
+	return w.hStar()
+}
+
+// midranks turns w.count from how often each distinct value was drawn into its doubled
+// midrank 2b + t + 1 (t draws of it after b smaller ones), and lists the tie blocks of the
+// resample in w.blocks.
+func (w *bootWorker) midranks() {
 	w.blocks = w.blocks[:0]
 	var below int64
 	for u, t := range w.count {
@@ -408,26 +463,12 @@ func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool)
 		w.blocks = append(w.blocks, Block{Rank2: d, Size: int(t)})
 		below += t
 	}
-	if bi.byGroup {
-		for i, g := range bi.runs {
-			var sum int64
-			for l, c := range w.runCount[i] {
-				sum += int64(c) * w.count[g.blocks[l]]
-			}
-			w.rankSum2[i] = sum
-		}
-	} else {
-		off := 0
-		for i, vals := range r.Sorted {
-			var sum int64
-			for _, u := range w.draws[off : off+len(vals)] {
-				sum += w.count[u]
-			}
-			w.rankSum2[i] = sum
-			off += len(vals)
-		}
-	}
-	_, hStar, c := tieCorrectedH(r.N, r.Counts, w.rankSum2, w.blocks)
+}
+
+// hStar is H* of the resample whose rank sums and tie blocks are in w.rankSum2 and
+// w.blocks; a resample with every value tied is degenerate and counts as 0.
+func (w *bootWorker) hStar() (hStar float64, degenerate bool) {
+	_, hStar, c := tieCorrectedH(w.r.N, w.r.Counts, w.rankSum2, w.blocks)
 	if !(c > 0) {
 		return 0, true
 	}
