@@ -34,25 +34,52 @@ const binomialInversionBelow = 30
 //
 // The symmetry step is decided in integers, so it never depends on rounding.
 func binomialCount(s *stream.Stream, n, a, b int64) int64 {
-	if n == 0 || a == 0 {
-		return 0
+	bp := newBinomialParams(a, b)
+	return bp.draw(s, n)
+}
+
+// binomialParams holds what [binomialCount] computes from a and b alone, so that a caller
+// drawing many counts with one probability (and varying n) computes it once; the draws
+// are those of binomialCount, bit for bit.
+type binomialParams struct {
+	zero, all, flip bool
+	p, q            float64 // p = a/b <= 1/2 after the symmetry step, q = (b − a)/b
+	sr, lq          float64 // p/q and log1p(−p), for the inversion
+}
+
+func newBinomialParams(a, b int64) binomialParams {
+	if a == 0 {
+		return binomialParams{zero: true}
 	}
 	if a == b {
+		return binomialParams{all: true}
+	}
+	var bp binomialParams
+	if 2*a > b {
+		a, bp.flip = b-a, true
+	}
+	bp.p = float64(a) / float64(b)
+	bp.q = float64(b-a) / float64(b)
+	bp.sr = bp.p / bp.q
+	bp.lq = log1pPortable(-bp.p)
+	return bp
+}
+
+// draw draws the count of n trials (see [binomialCount]).
+func (bp *binomialParams) draw(s *stream.Stream, n int64) int64 {
+	switch {
+	case n == 0 || bp.zero:
+		return 0
+	case bp.all:
 		return n
 	}
-	flip := 2*a > b
-	if flip {
-		a = b - a
-	}
-	p := float64(a) / float64(b)
-	q := float64(b-a) / float64(b)
 	var y int64
-	if float64(float64(n)*p) < binomialInversionBelow {
-		y = binomialInversion(s, n, p, q)
+	if float64(float64(n)*bp.p) < binomialInversionBelow {
+		y = binomialInversion(s, n, bp)
 	} else {
-		y = binomialBTPE(s, n, p, q)
+		y = binomialBTPE(s, n, bp.p, bp.q)
 	}
-	if flip {
+	if bp.flip {
 		return n - y
 	}
 	return y
@@ -76,10 +103,10 @@ func binomialCount(s *stream.Stream, n, a, b int64) int64 {
 // with U from [uniform01]. f(y)/f(y − 1) = (n − y + 1)p/(y q) = a/y − s. The bound lies
 // ten standard deviations above the mean, so a restart has a chance below 10^−20: it
 // only catches the last bits of probability that rounding leaves out of the sum.
-func binomialInversion(s *stream.Stream, n int64, p, q float64) int64 {
-	sr := p / q
+func binomialInversion(s *stream.Stream, n int64, bp *binomialParams) int64 {
+	p, q, sr := bp.p, bp.q, bp.sr
 	a := float64(float64(n+1) * sr)
-	f0 := expPortable(float64(float64(n) * log1pPortable(-p)))
+	f0 := expPortable(float64(float64(n) * bp.lq))
 	mu := float64(float64(n) * p)
 	bound := math.Floor(mu + float64(10*math.Sqrt(float64(mu*q)+1)))
 	if fn := float64(n); bound > fn {

@@ -211,6 +211,7 @@ func TestMultinomialCounts(t *testing.T) {
 			if got := n < CountsIndexRatio*int64(m); got != tc.byIndex {
 				t.Fatalf("drawn by indices: %v, want %v", got, tc.byIndex)
 			}
+			bi.prepareBinomials()
 			w := newBootWorker(r, bi, true)
 			s := stream.New(stream.Key(CountsPurpose, 4, tc.name, 0))
 			pooled := make([]int64, m)

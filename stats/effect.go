@@ -192,6 +192,7 @@ func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOption
 	case BootstrapIndices:
 	case BootstrapCounts:
 		purpose, blockSize, counts = CountsPurpose, CountsBlockSize, true
+		bi.prepareBinomials()
 	default:
 		return Bootstrap{}, fmt.Errorf("bootstrap: unknown resampling scheme %d", int(opt.Scheme))
 	}
@@ -301,6 +302,9 @@ type groupRuns struct {
 	bounds []int32 // len(blocks) + 1 entries; the last is n_i
 	coarse []int32
 	shift  uint
+	// binomials[l] is the binomial of run l under the counts scheme, when the group is
+	// drawn by conditional binomials (see bootIndex.prepareBinomials); nil otherwise.
+	binomials []binomialParams
 }
 
 func newBootIndex(r *Ranking) (*bootIndex, error) {
