@@ -2,8 +2,12 @@ package stats
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/hex"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"rankplan/stats/stream"
@@ -291,5 +295,122 @@ func TestBootstrapCountsWorkers(t *testing.T) {
 	opt.Scheme = BootstrapScheme(7)
 	if _, err := KruskalWallisBootstrap(context.Background(), r, opt); err == nil {
 		t.Error("an unknown scheme gave no error")
+	}
+}
+
+// TestBootstrapCountsReference compares the counts scheme's percentile interval of H* with
+// a plain bootstrap in Python (stats/testdata/bootstrap/kw_bootstrap_plain.py: numpy's
+// generator, scipy 1.10.1 kruskal, numpy percentile; 10 independent bootstraps of 2000
+// resamples per design). A bootstrap of the same size from another stream differs from
+// the mean of those by sampling alone, with standard deviation about sd·√(1 + 1/10), sd
+// the spread of the ten; each end must lie within 5 such deviations (with sd estimated
+// from ten values, a chance of about 1e-3 of a false alarm per end). The indices scheme
+// is held to the same check. The designs reach both ways of drawing a group's counts.
+func TestBootstrapCountsReference(t *testing.T) {
+	var ref struct {
+		Resamples int64
+		Level     float64
+		Reps      int
+		Designs   []struct {
+			Name      string
+			Groups    [][]float64
+			HStar     float64 `json:"h_star"`
+			HLowMean  float64 `json:"h_low_mean"`
+			HLowSD    float64 `json:"h_low_sd"`
+			HHighMean float64 `json:"h_high_mean"`
+			HHighSD   float64 `json:"h_high_sd"`
+		}
+	}
+	readJSON(t, "testdata/bootstrap/kw_bootstrap_plain.json", &ref)
+	if len(ref.Designs) != 3 || ref.Resamples != 2000 {
+		t.Fatalf("reference file: %d designs, %d resamples", len(ref.Designs), ref.Resamples)
+	}
+	byIndex, byBinomials := 0, 0
+	for _, d := range ref.Designs {
+		r := bootRanking(t, d.Groups)
+		bi, err := newBootIndex(r)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i, g := range bi.runs {
+			if len(r.Sorted[i]) < CountsIndexRatio*len(g.blocks) {
+				byIndex++
+			} else {
+				byBinomials++
+			}
+		}
+		kw, err := KruskalWallisTest(r)
+		if err != nil || !closeRel(kw.H, d.HStar, 1e-12) {
+			t.Fatalf("%s: H* %v %v, scipy %v", d.Name, kw.H, err, d.HStar)
+		}
+		for _, scheme := range []BootstrapScheme{BootstrapCounts, BootstrapIndices} {
+			got, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 20261204, AnalysisID: d.Name,
+				Resamples: ref.Resamples, Level: ref.Level, Scheme: scheme})
+			if err != nil {
+				t.Fatal(err)
+			}
+			inflate := math.Sqrt(1 + 1/float64(ref.Reps))
+			for _, e := range []struct {
+				end           string
+				got, mean, sd float64
+			}{{"low", got.HLow, d.HLowMean, d.HLowSD}, {"high", got.HHigh, d.HHighMean, d.HHighSD}} {
+				if z := (e.got - e.mean) / (e.sd * inflate); !(math.Abs(z) <= 5) {
+					t.Errorf("%s, %v: %s end %v, plain bootstrap %v ± %v (z = %.2f)", d.Name, scheme, e.end, e.got, e.mean, e.sd, z)
+				} else {
+					t.Logf("%s, %v: %s end %v, plain bootstrap %v ± %v (z = %.2f)", d.Name, scheme, e.end, e.got, e.mean, e.sd, z)
+				}
+			}
+		}
+	}
+	if byIndex == 0 || byBinomials == 0 {
+		t.Errorf("groups drawn by indices: %d, by binomials: %d; want both", byIndex, byBinomials)
+	}
+}
+
+// binomialBitsWant is the SHA-256 of what TestBinomialCountBits draws, recorded on
+// linux/amd64. bench/arch-determinism.sh runs it in GOAMD64=v1 and v3 builds and in an
+// arm64 build under qemu. It pins the counts scheme: a change of the sampler, the
+// multinomial step or their stream use changes it (the test prints the new value), and
+// needs a new scheme name, never an edit of counts-v2.
+const binomialBitsWant = "bb7e46de4a354cec81a5edcc9745c8042e0c88412256c4c94773a24a220692fb"
+
+// TestBinomialCountBits hashes binomial counts drawn on a seeded grid of n and p = a/b
+// reaching inversion and every region of BTPE, and the bits of counts-scheme intervals of
+// H* on tied data drawn both by binomials and by indices.
+func TestBinomialCountBits(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	h := sha256.New()
+	put := func(x uint64) {
+		var b [8]byte
+		binary.BigEndian.PutUint64(b[:], x)
+		h.Write(b[:])
+	}
+	s := stream.New(stream.Key(CountsPurpose, 1, "bits", 0))
+	for range 3000 {
+		n := int64(1) << rng.IntN(31)
+		n += rng.Int64N(n)
+		b := 1 + rng.Int64N(1<<rng.IntN(31))
+		a := rng.Int64N(b + 1)
+		put(uint64(binomialCount(s, n, a, b)))
+	}
+	groups := make([][]float64, 4)
+	distinct := []int{100, 32, 52, 72} // the first group is drawn by indices, the others by binomials
+	for i := range groups {
+		for j := range 200 + 300*i {
+			groups[i] = append(groups[i], float64((j*7919+i*31)%distinct[i]))
+		}
+	}
+	r := bootRanking(t, groups)
+	for _, level := range []float64{0.5, 0.95} {
+		got, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 3, AnalysisID: "bits", Resamples: 300, Level: level, Scheme: BootstrapCounts})
+		if err != nil {
+			t.Fatal(err)
+		}
+		put(math.Float64bits(got.HLow))
+		put(math.Float64bits(got.HHigh))
+		put(uint64(got.Degenerate))
+	}
+	if got := hex.EncodeToString(h.Sum(nil)); got != binomialBitsWant {
+		t.Errorf("binomial counts hash %s, recorded %s", got, binomialBitsWant)
 	}
 }
