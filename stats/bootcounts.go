@@ -29,11 +29,10 @@ const CountsPurpose = "kw-effect-counts"
 
 // CountsIndexRatio chooses how the [BootstrapCounts] scheme draws one group's counts: a
 // group of n_i values in m_i runs of equal values is drawn by n_i uniform indices when
-// n_i < CountsIndexRatio·m_i, and by m_i − 1 conditional binomials otherwise (package
-// stream, §7). Either way the count vector is multinomial; the choice only sets which
-// is cheaper (on one core of the development machine an index cost about 20 ns at 10^6 rows, a
-// binomial 50 to 80 ns). Part of the
-// reproducibility contract.
+// n_i < CountsIndexRatio·m_i, and by conditional binomials otherwise (package stream,
+// §7). Either way the count vector is multinomial; the choice only sets which is cheaper
+// (on one core of the development machine an index cost about 20 ns at 10^6 rows, a
+// binomial 50 to 80 ns). Part of the reproducibility contract.
 const CountsIndexRatio = 4
 
 // String returns the scheme's name in plans and results: "indices-v1" or "counts-v2".

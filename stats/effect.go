@@ -162,10 +162,19 @@ type Bootstrap struct {
 // [KruskalWallisTest] does. A resample whose values are all tied has no H; it counts as
 // H* = 0 (the groups are then identical) and is counted in Degenerate.
 //
-// The draws follow the stream rules of package stream: resamples are cut into blocks of
-// [BootstrapBlockSize]; block j draws from stream.New(stream.Key(BootstrapPurpose, Seed,
-// AnalysisID, j)), one stream.Below(n_i) per drawn value, groups in order, resamples in
-// order. Blocks run on Workers goroutines; each resample's H* is stored at its index, so
+// The draws follow the stream rules of package stream, by opt.Scheme:
+//
+//   - [BootstrapIndices]: resamples are cut into blocks of [BootstrapBlockSize]; block j
+//     draws from stream.New(stream.Key(BootstrapPurpose, Seed, AnalysisID, j)), one
+//     stream.Below(n_i) per drawn value, groups in order, resamples in order.
+//   - [BootstrapCounts]: blocks of [CountsBlockSize] under [CountsPurpose]; each resample
+//     draws, groups in order, the group's counts over its runs of equal values as one
+//     multinomial (conditional binomials, or indices when runs are short; package
+//     stream §6 and §7, docs/methods.md §2.1), so that its cost grows with the number
+//     of distinct values rather than of observations. Its resamples have the law of the
+//     first scheme's, not its draws.
+//
+// Blocks run on Workers goroutines; each resample's H* is stored at its index, so
 // the result is identical for any number of workers. The interval is the type 7 quantile
 // pair (Hyndman & Fan 1996) of the sorted H* values at (1 ∓ Level)/2 (percentile method;
 // Efron & Tibshirani 1993, An Introduction to the Bootstrap, ch. 13, recalled from memory).
