@@ -414,3 +414,40 @@ func TestBinomialCountBits(t *testing.T) {
 		t.Errorf("binomial counts hash %s, recorded %s", got, binomialBitsWant)
 	}
 }
+
+// TestDrawCountsStops checks the context check within one resample of the counts scheme:
+// a group drawn by conditional binomials over more than cancelEvery runs gives the
+// resample up (drawCounts returns false, and resampleCounts sets stopped) once its
+// Done channel is closed; with a channel never closed the counts are those drawn without
+// one.
+func TestDrawCountsStops(t *testing.T) {
+	const m = cancelEvery + 10
+	groups := [][]float64{make([]float64, 0, 4*m), {1, 2, 3}}
+	for i := range 4 * m {
+		groups[0] = append(groups[0], float64(i/4)) // m runs of 4: drawn by binomials
+	}
+	r := mustRank(t, groups)
+	bi, err := newBootIndex(r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	bi.prepareBinomials()
+	if bi.runs[0].binomials == nil {
+		t.Fatal("the group is not drawn by binomials")
+	}
+	key := stream.Key(CountsPurpose, 3, "a", 0)
+	closed := make(chan struct{})
+	close(closed)
+	w := newBootWorker(r, bi, true)
+	w.done = closed
+	if w.resampleCounts(stream.New(key)); !w.stopped {
+		t.Error("closed channel: the resample was not given up")
+	}
+	a, b := newBootWorker(r, bi, true), newBootWorker(r, bi, true)
+	b.done = make(chan struct{})
+	ha, da := a.resampleCounts(stream.New(key))
+	hb, db := b.resampleCounts(stream.New(key))
+	if a.stopped || b.stopped || ha != hb || da != db {
+		t.Errorf("open channel: H* %v (stopped %v), without one %v (stopped %v)", hb, b.stopped, ha, a.stopped)
+	}
+}
