@@ -206,6 +206,9 @@ func TestResampleStops(t *testing.T) {
 	r := mustRank(t, groups)
 	for _, byGroup := range []bool{true, false} {
 		bi, err := newBootIndex(r)
+		if err == nil {
+			err = bi.withIndex(r)
+		}
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -199,6 +199,11 @@ func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOption
 	counts := false
 	switch opt.Scheme {
 	case BootstrapIndices:
+		if !bi.byGroup {
+			if err := bi.withIndex(r); err != nil {
+				return Bootstrap{}, err
+			}
+		}
 	case BootstrapCounts:
 		purpose, blockSize, counts = CountsPurpose, CountsBlockSize, true
 		bi.prepareBinomials()
@@ -252,13 +257,10 @@ func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOption
 	return out, nil
 }
 
-// valueIndex returns, for each value of r.Sorted (groups in order, one slice of length N
-// sharing the groups' order), the index of its tie block in r.Blocks: the position of its
-// value among the distinct values of the pooled sample, ascending. Values that compare
-// equal (-0 and +0 among them) share a block, as in [Rank]. It sorts only each group's
-// distinct values (its sorted values with repeats dropped), O(N + Σ m_i log Σ m_i), and is
-// computed once for all resamples.
-func valueIndex(r *Ranking) ([]int32, error) {
+// pooledDistinct returns the distinct values of the pooled sample, ascending; values
+// that compare equal (-0 and +0 among them) count once, as in [Rank]. It sorts only each
+// group's distinct values (its sorted values with repeats dropped), O(N + Σ m_i log Σ m_i).
+func pooledDistinct(r *Ranking) ([]float64, error) {
 	if r.N > math.MaxInt32 {
 		return nil, fmt.Errorf("bootstrap: %d observations are more than the index can hold", r.N)
 	}
@@ -275,6 +277,19 @@ func valueIndex(r *Ranking) ([]int32, error) {
 	if len(distinct) != len(r.Blocks) {
 		return nil, fmt.Errorf("bootstrap: the ranking has %d tie blocks but its values hold %d distinct values", len(r.Blocks), len(distinct))
 	}
+	return distinct, nil
+}
+
+// valueIndex returns, for each value of r.Sorted (groups in order, one slice of length N
+// sharing the groups' order), the index of its tie block in r.Blocks: the position of its
+// value among the distinct values of the pooled sample ([pooledDistinct]), ascending. It is
+// computed once for all resamples, and only where a resample keeps each draw's block
+// (the indices scheme with many distinct values): it takes 4 bytes per observation.
+func valueIndex(r *Ranking) ([]int32, error) {
+	distinct, err := pooledDistinct(r)
+	if err != nil {
+		return nil, err
+	}
 	idx := make([]int32, 0, r.N)
 	for _, vals := range r.Sorted {
 		u := 0
@@ -288,6 +303,16 @@ func valueIndex(r *Ranking) ([]int32, error) {
 	return idx, nil
 }
 
+// withIndex sets bi.index to valueIndex(r) unless it is set already.
+func (bi *bootIndex) withIndex(r *Ranking) error {
+	if bi.index != nil {
+		return nil
+	}
+	idx, err := valueIndex(r)
+	bi.index = idx
+	return err
+}
+
 // bootIndex is what every resample of a ranking reads, built once and shared read-only.
 //
 // A resample is ranked in one of two ways that give the same integers. With few distinct
@@ -296,7 +321,7 @@ func valueIndex(r *Ranking) ([]int32, error) {
 // those counts, O(N + Σ m_i) for m_i distinct values in group i; otherwise it keeps each
 // draw's block index (from index) and sums over the draws, O(N + m).
 type bootIndex struct {
-	index   []int32 // valueIndex(r)
+	index   []int32 // valueIndex(r), when a resample needs it (see bootIndex.withIndex); else nil
 	byGroup bool
 	runs    []groupRuns // per group
 }
@@ -316,20 +341,24 @@ type groupRuns struct {
 	binomials []binomialParams
 }
 
+// newBootIndex finds the runs of equal values of every group, each with its pooled
+// block, straight from the sorted values (no per-observation table).
 func newBootIndex(r *Ranking) (*bootIndex, error) {
-	index, err := valueIndex(r)
+	distinct, err := pooledDistinct(r)
 	if err != nil {
 		return nil, err
 	}
-	bi := &bootIndex{index: index, byGroup: int64(r.K)*int64(len(r.Blocks)) <= int64(r.N), runs: make([]groupRuns, r.K)}
-	off := 0
+	bi := &bootIndex{byGroup: int64(r.K)*int64(len(r.Blocks)) <= int64(r.N), runs: make([]groupRuns, r.K)}
 	for i, vals := range r.Sorted {
 		n := len(vals)
-		idx := index[off : off+n]
 		g := &bi.runs[i]
-		for j, u := range idx {
-			if j == 0 || u != idx[j-1] {
-				g.blocks = append(g.blocks, u)
+		u := 0
+		for j, v := range vals {
+			if j == 0 || v != vals[j-1] {
+				for distinct[u] < v {
+					u++
+				}
+				g.blocks = append(g.blocks, int32(u))
 				g.bounds = append(g.bounds, int32(j))
 			}
 		}
@@ -346,7 +375,6 @@ func newBootIndex(r *Ranking) (*bootIndex, error) {
 			}
 			g.coarse[b] = l
 		}
-		off += n
 	}
 	return bi, nil
 }

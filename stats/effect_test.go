@@ -172,6 +172,9 @@ func TestBootstrapCountingRanks(t *testing.T) {
 func checkCountingRanks(t *testing.T, name string, groups [][]float64, byGroup bool) {
 	r := bootRanking(t, groups)
 	bi, err := newBootIndex(r)
+	if err == nil {
+		err = bi.withIndex(r)
+	}
 	if err != nil {
 		t.Fatal(err)
 	}
