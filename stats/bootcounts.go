@@ -35,24 +35,13 @@ const CountsPurpose = "kw-effect-counts"
 // binomial 50 to 80 ns). Part of the reproducibility contract.
 const CountsIndexRatio = 4
 
-// String returns the scheme's name in plans and results: "indices-v1" or "counts-v2".
-func (s BootstrapScheme) String() string {
-	switch s {
-	case BootstrapIndices:
-		return "indices-v1"
-	case BootstrapCounts:
-		return "counts-v2"
-	}
-	return "unknown"
-}
-
 // drawCounts fills w.runCount with one resample's counts under the [BootstrapCounts]
 // scheme, groups in order: runCount[i][l] is how often group i drew its run l (its l-th
 // distinct value, ascending, of length t_l). A group of n values with m runs draws
 //
 //	if n < CountsIndexRatio·m:  n times j = Below(n), counting the run that holds j
 //	else:  R = n (draws left), L = n (length of the runs left); for l = 0 .. m − 1:
-//	           x_l = Binomial(R, t_l/L)  ([binomialCount] with a = t_l, b = L)
+//	           x_l = Binomial(R, t_l/L)  ([binomialParams] with a = t_l, b = L)
 //	           R = R − x_l;  L = L − t_l
 //
 // The conditional binomials give the multinomial (n; t_0/n, ..., t_{m−1}/n): given the

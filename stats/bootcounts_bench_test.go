@@ -36,7 +36,7 @@ func BenchmarkBootstrapScheme(b *testing.B) {
 			b.Fatal(err)
 		}
 		for _, scheme := range []BootstrapScheme{BootstrapIndices, BootstrapCounts} {
-			b.Run(fmt.Sprintf("N=%d/%v", n, scheme), func(b *testing.B) {
+			b.Run(fmt.Sprintf("N=%d/%s", n, schemeName(scheme)), func(b *testing.B) {
 				b.ReportAllocs()
 				for b.Loop() {
 					if _, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 1, AnalysisID: "x",

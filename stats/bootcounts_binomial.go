@@ -20,12 +20,15 @@ func uniform01(s *stream.Stream) float64 {
 	return float64(s.Uint64()>>11) * 0x1p-53
 }
 
-// binomialInversionBelow is the mean n·min(p, 1 − p) below which [binomialCount] draws
+// binomialInversionBelow is the mean n·min(p, 1 − p) below which [binomialParams.draw] draws
 // by inversion; at or above it, by BTPE. Part of the stream specification (§6).
 const binomialInversionBelow = 30
 
-// binomialCount draws a count from Binomial(n, a/b), 0 <= a <= b, b >= 1, n >= 0, as
-// the stream specification (package stream, §6) defines it:
+// binomialParams is a binomial probability a/b, 0 <= a <= b, b >= 1, prepared for
+// drawing counts: what the sampler computes from a and b alone, so that a caller drawing
+// many counts with one probability (and varying n) computes it once. [binomialParams.draw]
+// draws from Binomial(n, a/b), n >= 0, as the stream specification (package stream, §6)
+// defines it:
 //
 //	n = 0 or a = 0: 0, and a = b: n, with no draw;
 //	if 2a > b: draw y for the probability (b − a)/b instead and return n − y;
@@ -33,14 +36,6 @@ const binomialInversionBelow = 30
 //	n·p < 30: inversion ([binomialInversion]); else BTPE ([binomialBTPE]).
 //
 // The symmetry step is decided in integers, so it never depends on rounding.
-func binomialCount(s *stream.Stream, n, a, b int64) int64 {
-	bp := newBinomialParams(a, b)
-	return bp.draw(s, n)
-}
-
-// binomialParams holds what [binomialCount] computes from a and b alone, so that a caller
-// drawing many counts with one probability (and varying n) computes it once; the draws
-// are those of binomialCount, bit for bit.
 type binomialParams struct {
 	zero, all, flip bool
 	p, q            float64 // p = a/b <= 1/2 after the symmetry step, q = (b − a)/b
@@ -65,7 +60,7 @@ func newBinomialParams(a, b int64) binomialParams {
 	return bp
 }
 
-// draw draws the count of n trials (see [binomialCount]).
+// draw draws the count of n trials (see [binomialParams]).
 func (bp *binomialParams) draw(s *stream.Stream, n int64) int64 {
 	switch {
 	case n == 0 || bp.zero:

@@ -13,6 +13,17 @@ import (
 	"rankplan/stats/stream"
 )
 
+// binomialCount draws from Binomial(n, a/b) as the stream specification (§6) says.
+func binomialCount(s *stream.Stream, n, a, b int64) int64 {
+	bp := newBinomialParams(a, b)
+	return bp.draw(s, n)
+}
+
+// schemeName is the plan's name of a bootstrap scheme, for messages.
+func schemeName(s BootstrapScheme) string {
+	return map[BootstrapScheme]string{BootstrapIndices: "indices-v1", BootstrapCounts: "counts-v2"}[s]
+}
+
 // binomialPMF returns the Binomial(n, p) probabilities of lo..hi, computed in the test
 // with math.Lgamma (the exact formula C(n, y) p^y q^(n−y); only the comparison uses it).
 func binomialPMF(n int64, p float64, lo, hi int64) []float64 {
@@ -355,9 +366,9 @@ func TestBootstrapCountsReference(t *testing.T) {
 				got, mean, sd float64
 			}{{"low", got.HLow, d.HLowMean, d.HLowSD}, {"high", got.HHigh, d.HHighMean, d.HHighSD}} {
 				if z := (e.got - e.mean) / (e.sd * inflate); !(math.Abs(z) <= 5) {
-					t.Errorf("%s, %v: %s end %v, plain bootstrap %v ± %v (z = %.2f)", d.Name, scheme, e.end, e.got, e.mean, e.sd, z)
+					t.Errorf("%s, %s: %s end %v, plain bootstrap %v ± %v (z = %.2f)", d.Name, schemeName(scheme), e.end, e.got, e.mean, e.sd, z)
 				} else {
-					t.Logf("%s, %v: %s end %v, plain bootstrap %v ± %v (z = %.2f)", d.Name, scheme, e.end, e.got, e.mean, e.sd, z)
+					t.Logf("%s, %s: %s end %v, plain bootstrap %v ± %v (z = %.2f)", d.Name, schemeName(scheme), e.end, e.got, e.mean, e.sd, z)
 				}
 			}
 		}

@@ -481,7 +481,7 @@ func FuzzSampleStats(f *testing.F) {
 			within(t, "KruskalWallisBootstrap", func() {
 				b, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 1, AnalysisID: "fuzz", Resamples: in.resamp, Level: level, Workers: 1, Scheme: scheme})
 				if err == nil && intact && !(b.HLow >= 0 && b.HLow <= b.HHigh && b.HHigh <= float64(n-1)) {
-					t.Fatalf("KruskalWallisBootstrap, %v: %+v", scheme, b)
+					t.Fatalf("KruskalWallisBootstrap, scheme %d: %+v", scheme, b)
 				}
 			})
 		}

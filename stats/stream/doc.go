@@ -71,7 +71,7 @@
 // multiples of 2^−53 in [0, 1), computed exactly.
 //
 // Binomial(n, a/b), for integers n >= 0, 0 <= a <= b, b >= 1, is drawn as follows (the
-// code is binomialCount in package stats, which holds the portable log and exp it needs):
+// code is binomialParams in package stats, which holds the portable log and exp it needs):
 //
 //	n = 0 or a = 0: 0;  a = b: n  (no draw)
 //	if 2a > b: a = b − a, and the result y is returned as n − y
