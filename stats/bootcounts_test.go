@@ -86,6 +86,7 @@ func TestBinomialCount(t *testing.T) {
 		{100, 7, 10, "btpe (p > 1/2)"},
 		{10, 9, 10, "inversion (p > 1/2)"},
 		{5000, 17, 1000, "btpe"},
+		{10000, 4, 1000, "btpe (small p)"},
 		{1_000_000, 3, 7, "btpe (squeeze)"},
 		{10_000_000, 1, 10, "btpe (squeeze)"},
 	} {
