@@ -27,85 +27,136 @@ const CountsBlockSize = 64
 // CountsPurpose labels the stream of the [BootstrapCounts] scheme (see package stream).
 const CountsPurpose = "kw-effect-counts"
 
-// CountsIndexRatio chooses how the [BootstrapCounts] scheme draws one group's counts: a
-// group of n_i values in m_i runs of equal values is drawn by n_i uniform indices when
-// n_i < CountsIndexRatio·m_i, and by conditional binomials otherwise (package stream,
-// §7). Either way the count vector is multinomial; the choice only sets which is cheaper
-// (on one core of the development machine an index cost about 20 ns at 10^6 rows, a
-// binomial 50 to 80 ns). Part of the reproducibility contract.
-const CountsIndexRatio = 4
+// CountsShortRun is the run length below which the [BootstrapCounts] scheme draws a run's
+// count through uniform indices rather than its own binomial: the short runs of a group
+// are drawn as one cell, and the draws that fall into that cell are spread over its
+// positions by Below (package stream, §7). Either way the count vector is multinomial;
+// the length only sets which is cheaper (on one core of the development machine an index
+// cost about 10 to 20 ns, a binomial 50 to 80 ns). Part of the reproducibility contract.
+const CountsShortRun = 8
+
+// runCells is how the [BootstrapCounts] scheme draws one group's counts, computed once
+// from the data (see [bootIndex.prepareCells]).
+type runCells struct {
+	size  int64            // S, the total length of the short runs (t < CountsShortRun)
+	long  []int32          // the long runs, ascending
+	bino  []binomialParams // the cells' binomials: the short cell's first when S > 0, then one per long run
+	short groupRuns        // the short runs end to end: blocks[k] is the run index, bounds cumulative
+}
 
 // drawCounts fills w.runCount with one resample's counts under the [BootstrapCounts]
 // scheme, groups in order: runCount[i][l] is how often group i drew its run l (its l-th
-// distinct value, ascending, of length t_l). A group of n values with m runs draws
+// distinct value, ascending, of length t_l). A group of n values whose short runs
+// (t_l < CountsShortRun) have total length S draws
 //
-//	if n < CountsIndexRatio·m:  n times j = Below(n), counting the run that holds j
-//	else:  R = n (draws left), L = n (length of the runs left); for l = 0 .. m − 1:
-//	           x_l = Binomial(R, t_l/L)  ([binomialParams] with a = t_l, b = L)
-//	           R = R − x_l;  L = L − t_l
+//	R = n (draws left), L = n (length of the cells left)
+//	if S > 0:  X = Binomial(R, S/L);  R = R − X;  L = L − S          (the short cell)
+//	for each long run l, ascending, while R > 0:
+//	           x_l = Binomial(R, t_l/L);  R = R − x_l;  L = L − t_l
+//	X times:   j = Below(S), counting the short run that holds position j of the short
+//	           runs laid end to end in ascending order
 //
-// The conditional binomials give the multinomial (n; t_0/n, ..., t_{m−1}/n): given the
-// earlier counts, x_l is the number of the R remaining draws that fall into run l among the
-// runs l.. of total length L (common practice). The last run takes what is left without a
-// draw (t = L), and so does every run once R is 0. It returns false, with the counts
-// meaningless, when w.done was closed: the context is checked every cancelEvery draws or
-// runs.
+// with Binomial as [binomialParams] draws it. Conditional binomials give the multinomial
+// of the cells (given the earlier counts, a cell's count is the number of the R remaining
+// draws that fall into it among the cells of total length L; common practice), and given
+// X the short cell's draws are X uniform positions in it, so the counts of the runs are
+// Multinomial(n; t_0/n, ..., t_{m−1}/n), the law of n uniform indices. A cell whose length
+// is all that is left (t = L) takes R without a draw, so a group of short runs alone is
+// n draws of Below(n). It returns false, with the counts meaningless, when w.done was
+// closed: the context is checked every cancelEvery binomials or indices.
 func (w *bootWorker) drawCounts(s *stream.Stream) bool {
 	for i, vals := range w.r.Sorted {
-		n := int64(len(vals))
-		g, cnt := &w.bi.runs[i], w.runCount[i]
+		c, cnt := w.bi.runs[i].cells, w.runCount[i]
 		clear(cnt)
-		if n < CountsIndexRatio*int64(len(cnt)) {
-			if !w.drawIndices(s, g, cnt, uint64(n)) {
-				return false
-			}
-			continue
+		rem := int64(len(vals))
+		var x int64
+		k := 0
+		if c.size > 0 {
+			x = c.bino[0].draw(s, rem)
+			rem -= x
+			k = 1
 		}
-		rem := n
-		for l := range cnt {
-			if l&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
+		for j, l := range c.long {
+			if j&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
 				return false
 			}
 			if rem == 0 {
 				break
 			}
-			x := g.binomials[l].draw(s, rem)
-			cnt[l] = int32(x)
-			rem -= x
+			v := c.bino[k+j].draw(s, rem)
+			cnt[l] = int32(v)
+			rem -= v
+		}
+		if x > 0 {
+			sc := w.shortCount[i]
+			clear(sc)
+			if !w.drawIndices(s, &c.short, sc, uint64(x), uint64(c.size)) {
+				return false
+			}
+			for k, v := range sc {
+				cnt[c.short.blocks[k]] += v
+			}
 		}
 	}
 	return true
 }
 
-// prepareBinomials sets, for every group that [bootWorker.drawCounts] draws by
-// conditional binomials, the parameters of run l's binomial, t_l/L_l with L_l the length
-// of runs l, l+1, ... (they depend on the data alone, not on the draws).
-func (bi *bootIndex) prepareBinomials() {
+// prepareCells sets, for every group, how [bootWorker.drawCounts] draws its counts: the
+// short runs end to end with their position table, and the binomial of each cell (they
+// depend on the data alone, not on the draws).
+func (bi *bootIndex) prepareCells() {
 	for i := range bi.runs {
 		g := &bi.runs[i]
-		m := len(g.blocks)
-		n := int64(g.bounds[m])
-		if n < CountsIndexRatio*int64(m) || g.binomials != nil {
+		if g.cells != nil {
 			continue
 		}
-		g.binomials = make([]binomialParams, m)
-		left := n
+		m := len(g.blocks)
+		n := int64(g.bounds[m])
+		short := 0
 		for l := range m {
+			if g.bounds[l+1]-g.bounds[l] < CountsShortRun {
+				short++
+			}
+		}
+		c := &runCells{long: make([]int32, 0, m-short), bino: make([]binomialParams, 0, m-short+1)}
+		if short > 0 {
+			c.short.blocks = make([]int32, 0, short)
+			c.short.bounds = make([]int32, 0, short+1)
+		}
+		for l := range m {
+			if t := g.bounds[l+1] - g.bounds[l]; t < CountsShortRun {
+				c.short.blocks = append(c.short.blocks, int32(l))
+				c.short.bounds = append(c.short.bounds, int32(c.size))
+				c.size += int64(t)
+			} else {
+				c.long = append(c.long, int32(l))
+			}
+		}
+		left := n
+		if c.size > 0 {
+			c.short.bounds = append(c.short.bounds, int32(c.size))
+			c.short.index()
+			c.bino = append(c.bino, newBinomialParams(c.size, left))
+			left -= c.size
+		}
+		for _, l := range c.long {
 			t := int64(g.bounds[l+1] - g.bounds[l])
-			g.binomials[l] = newBinomialParams(t, left)
+			c.bino = append(c.bino, newBinomialParams(t, left))
 			left -= t
 		}
+		g.cells = c
 	}
 }
 
-// drawIndices counts, into cnt, the runs of n draws j = Below(n) from one group's sorted
-// positions (g describes its runs). It returns false when w.done was closed.
-func (w *bootWorker) drawIndices(s *stream.Stream, g *groupRuns, cnt []int32, n uint64) bool {
-	for q := range n {
+// drawIndices counts, into cnt, the runs of draws draws j = Below(size) from the
+// positions that g describes (a group's sorted values, or its short runs end to end). It
+// returns false when w.done was closed.
+func (w *bootWorker) drawIndices(s *stream.Stream, g *groupRuns, cnt []int32, draws, size uint64) bool {
+	for q := range draws {
 		if q&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
 			return false
 		}
-		j := int32(s.Below(n))
+		j := int32(s.Below(size))
 		l := g.coarse[j>>g.shift]
 		for g.bounds[l+1] <= j {
 			l++

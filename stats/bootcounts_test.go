@@ -193,8 +193,8 @@ func TestBinomialCountEdges(t *testing.T) {
 // multinomial (n; t_l/n): each resample's counts sum to n; over 20,000 resamples the
 // pooled count of each run, a Multinomial(20000·n, t_l/n) count, fits its expectation
 // (chi-square, p >= 1e-4), and each run's count has mean t_l and variance n p_l (1 − p_l)
-// within 5 standard errors. One design per way of drawing: conditional binomials
-// (n >= CountsIndexRatio·m) and indices.
+// within 5 standard errors. The designs mix short and long runs (CountsShortRun), hold
+// one long run and two short ones, and short runs alone (indices alone).
 func TestMultinomialCounts(t *testing.T) {
 	const resamples = 20_000
 	runs := func(lengths ...int) []float64 {
@@ -213,7 +213,7 @@ func TestMultinomialCounts(t *testing.T) {
 	}{
 		{"binomials", runs(1, 3, 40, 200, 7, 1, 90, 2, 400, 5), false},
 		{"binomials, one long run", runs(1000, 1, 1), false},
-		{"indices", runs(1, 3, 4, 2, 7, 1, 9, 2, 4, 5), true},
+		{"indices", runs(1, 3, 4, 2, 7, 1, 6, 2, 4, 5), true},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			other := []float64{0.5, 1.5, 2.5}
@@ -222,12 +222,12 @@ func TestMultinomialCounts(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
+			bi.prepareCells()
 			g := bi.runs[0]
 			m, n := len(g.blocks), int64(len(tc.values))
-			if got := n < CountsIndexRatio*int64(m); got != tc.byIndex {
-				t.Fatalf("drawn by indices: %v, want %v", got, tc.byIndex)
+			if got := len(g.cells.long) == 0; got != tc.byIndex {
+				t.Fatalf("drawn by indices alone: %v, want %v (long runs %v)", got, tc.byIndex, g.cells.long)
 			}
-			bi.prepareBinomials()
 			w := newBootWorker(r, bi, true)
 			s := stream.New(stream.Key(CountsPurpose, 4, tc.name, 0))
 			pooled := make([]int64, m)
@@ -317,7 +317,7 @@ func TestBootstrapCountsWorkers(t *testing.T) {
 // the mean of those by sampling alone, with standard deviation about sd·√(1 + 1/10), sd
 // the spread of the ten; each end must lie within 5 such deviations (with sd estimated
 // from ten values, a chance of about 1e-3 of a false alarm per end). The indices scheme
-// is held to the same check. The designs reach both ways of drawing a group's counts.
+// is held to the same check. The designs reach both ways of drawing a run's count.
 func TestBootstrapCountsReference(t *testing.T) {
 	var ref struct {
 		Resamples int64
@@ -344,12 +344,10 @@ func TestBootstrapCountsReference(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		for i, g := range bi.runs {
-			if len(r.Sorted[i]) < CountsIndexRatio*len(g.blocks) {
-				byIndex++
-			} else {
-				byBinomials++
-			}
+		bi.prepareCells()
+		for _, g := range bi.runs {
+			byIndex += len(g.cells.short.blocks)
+			byBinomials += len(g.cells.long)
 		}
 		kw, err := KruskalWallisTest(r)
 		if err != nil || !closeRel(kw.H, d.HStar, 1e-12) {
@@ -375,7 +373,7 @@ func TestBootstrapCountsReference(t *testing.T) {
 		}
 	}
 	if byIndex == 0 || byBinomials == 0 {
-		t.Errorf("groups drawn by indices: %d, by binomials: %d; want both", byIndex, byBinomials)
+		t.Errorf("short runs (drawn by indices): %d, long runs (by binomials): %d; want both", byIndex, byBinomials)
 	}
 }
 
@@ -384,7 +382,7 @@ func TestBootstrapCountsReference(t *testing.T) {
 // arm64 build under qemu. It pins the counts scheme: a change of the sampler, the
 // multinomial step or their stream use changes it (the test prints the new value), and
 // needs a new scheme name, never an edit of counts-v2.
-const binomialBitsWant = "bb7e46de4a354cec81a5edcc9745c8042e0c88412256c4c94773a24a220692fb"
+const binomialBitsWant = "a47a6996451ec864d893a66c11a4c03cfadc156e87ad9b09cbf7df9cf3f778cf"
 
 // TestBinomialCountBits hashes binomial counts drawn on a seeded grid of n and p = a/b
 // reaching inversion and every region of BTPE, and the bits of counts-scheme intervals of
@@ -405,11 +403,16 @@ func TestBinomialCountBits(t *testing.T) {
 		a := rng.Int64N(b + 1)
 		put(uint64(binomialCount(s, n, a, b)))
 	}
-	groups := make([][]float64, 4)
-	distinct := []int{100, 32, 52, 72} // the first group is drawn by indices, the others by binomials
-	for i := range groups {
+	groups := make([][]float64, 5)
+	distinct := []int{100, 32, 52, 72} // runs of 2 in the first group (indices), longer in the others
+	for i := range 4 {
 		for j := range 200 + 300*i {
 			groups[i] = append(groups[i], float64((j*7919+i*31)%distinct[i]))
+		}
+	}
+	for j := range 60 { // short and long runs mixed: 1, 2, ..., 10 times the value j
+		for range j%10 + 1 {
+			groups[4] = append(groups[4], float64(j))
 		}
 	}
 	r := bootRanking(t, groups)
@@ -428,23 +431,23 @@ func TestBinomialCountBits(t *testing.T) {
 }
 
 // TestDrawCountsStops checks the context check within one resample of the counts scheme:
-// a group drawn by conditional binomials over more than cancelEvery runs gives the
+// a group drawn by conditional binomials over more than cancelEvery long runs gives the
 // resample up (drawCounts returns false, and resampleCounts sets stopped) once its
 // Done channel is closed; with a channel never closed the counts are those drawn without
 // one.
 func TestDrawCountsStops(t *testing.T) {
 	const m = cancelEvery + 10
-	groups := [][]float64{make([]float64, 0, 4*m), {1, 2, 3}}
-	for i := range 4 * m {
-		groups[0] = append(groups[0], float64(i/4)) // m runs of 4: drawn by binomials
+	groups := [][]float64{make([]float64, 0, CountsShortRun*m), {1, 2, 3}}
+	for i := range CountsShortRun * m {
+		groups[0] = append(groups[0], float64(i/CountsShortRun)) // m long runs: drawn by binomials
 	}
 	r := mustRank(t, groups)
 	bi, err := newBootIndex(r)
 	if err != nil {
 		t.Fatal(err)
 	}
-	bi.prepareBinomials()
-	if bi.runs[0].binomials == nil {
+	bi.prepareCells()
+	if len(bi.runs[0].cells.long) != m {
 		t.Fatal("the group is not drawn by binomials")
 	}
 	key := stream.Key(CountsPurpose, 3, "a", 0)

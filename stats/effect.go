@@ -206,7 +206,7 @@ func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOption
 		}
 	case BootstrapCounts:
 		purpose, blockSize, counts = CountsPurpose, CountsBlockSize, true
-		bi.prepareBinomials()
+		bi.prepareCells()
 	default:
 		return Bootstrap{}, fmt.Errorf("bootstrap: unknown resampling scheme %d", int(opt.Scheme))
 	}
@@ -336,9 +336,26 @@ type groupRuns struct {
 	bounds []int32 // len(blocks) + 1 entries; the last is n_i
 	coarse []int32
 	shift  uint
-	// binomials[l] is the binomial of run l under the counts scheme, when the group is
-	// drawn by conditional binomials (see bootIndex.prepareBinomials); nil otherwise.
-	binomials []binomialParams
+	// cells is how the counts scheme draws the group (see bootIndex.prepareCells); nil
+	// until prepared.
+	cells *runCells
+}
+
+// index builds g's position table (shift, coarse) from g.bounds.
+func (g *groupRuns) index() {
+	n := int(g.bounds[len(g.bounds)-1])
+	// A bucket of 2^shift positions, at most the mean run length, holds few run ends.
+	for g.shift < 30 && 2<<g.shift*len(g.blocks) <= n {
+		g.shift++
+	}
+	g.coarse = make([]int32, (n-1)>>g.shift+1)
+	l := int32(0)
+	for b := range g.coarse {
+		for g.bounds[l+1] <= int32(b<<g.shift) {
+			l++
+		}
+		g.coarse[b] = l
+	}
 }
 
 // newBootIndex finds the runs of equal values of every group, each with its pooled
@@ -363,18 +380,7 @@ func newBootIndex(r *Ranking) (*bootIndex, error) {
 			}
 		}
 		g.bounds = append(g.bounds, int32(n))
-		// A bucket of 2^shift positions, at most the mean run length, holds few run ends.
-		for g.shift < 30 && 2<<g.shift*len(g.blocks) <= n {
-			g.shift++
-		}
-		g.coarse = make([]int32, (n-1)>>g.shift+1)
-		l := int32(0)
-		for b := range g.coarse {
-			for g.bounds[l+1] <= int32(b<<g.shift) {
-				l++
-			}
-			g.coarse[b] = l
-		}
+		g.index()
 	}
 	return bi, nil
 }
@@ -386,10 +392,12 @@ type bootWorker struct {
 	draws    []int32   // !byGroup: the block index of each drawn value, groups in order
 	count    []int64   // per distinct value: how often it was drawn, then its doubled midrank
 	runCount [][]int32 // byGroup: runCount[i][l], how often group i drew from its run l
-	rankSum2 []int64
-	blocks   []Block
-	done     <-chan struct{} // the context's Done channel, checked every cancelEvery draws (nil: never)
-	stopped  bool            // a resample was given up because done was closed
+	// shortCount[i][k] is how often group i drew its k-th short run (counts scheme).
+	shortCount [][]int32
+	rankSum2   []int64
+	blocks     []Block
+	done       <-chan struct{} // the context's Done channel, checked every cancelEvery draws (nil: never)
+	stopped    bool            // a resample was given up because done was closed
 }
 
 // newBootWorker returns the scratch buffers of one goroutine; counts says that the
@@ -402,7 +410,14 @@ func newBootWorker(r *Ranking, bi *bootIndex, counts bool) *bootWorker {
 		for i, g := range bi.runs {
 			w.runCount[i] = make([]int32, len(g.blocks))
 		}
-	} else {
+	}
+	switch {
+	case counts:
+		w.shortCount = make([][]int32, r.K)
+		for i, g := range bi.runs {
+			w.shortCount[i] = make([]int32, len(g.cells.short.blocks))
+		}
+	case !bi.byGroup:
 		w.draws = make([]int32, r.N)
 	}
 	return w
@@ -421,7 +436,7 @@ func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool)
 		for i, vals := range r.Sorted {
 			cnt := w.runCount[i]
 			clear(cnt)
-			if !w.drawIndices(s, &bi.runs[i], cnt, uint64(len(vals))) {
+			if !w.drawIndices(s, &bi.runs[i], cnt, uint64(len(vals)), uint64(len(vals))) {
 				w.stopped = true
 				return 0, false
 			}

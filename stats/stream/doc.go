@@ -108,17 +108,22 @@
 // A bootstrap resample of a group of n sorted values in m runs of equal values, of
 // lengths t_0..t_{m−1} (ascending values), needs only the count of draws from each run.
 // Under the counts scheme (purpose "kw-effect-counts", blocks of 64 resamples), each
-// resample draws, for each group in order:
+// resample draws, for each group in order, with the runs shorter than 8 ("short"; total
+// length S) laid end to end in ascending order as one cell:
 //
-//	if n < 4·m:  n times j = Below(n), counting the run that holds position j
-//	else:        R = n;  L = n
-//	             for l = 0 .. m − 1:  x_l = Binomial(R, t_l/L) (§6, a = t_l, b = L);
-//	                                   R = R − x_l;  L = L − t_l
+//	R = n;  L = n
+//	if S > 0:  X = Binomial(R, S/L) (§6);  R = R − X;  L = L − S
+//	for each run l of length t_l >= 8, ascending, while R > 0:
+//	           x_l = Binomial(R, t_l/L) (§6, a = t_l, b = L);  R = R − x_l;  L = L − t_l
+//	X times:   j = Below(S), counting the short run that holds position j of the cell
 //
-// (once R is 0, the remaining runs are 0 with no draw; the last run has t = L, so it takes
-// R without a draw). Sequential conditional binomials give the multinomial
-// (n; t_0/n, ..., t_{m−1}/n), the law of the counts of n uniform draws (common
-// practice). The first branch draws the same law more cheaply when runs are short.
+// (a run left out once R is 0 has count 0; a cell whose length is all that is left,
+// t = L, takes R without a draw, so a group of short runs alone draws n times
+// Below(n)). Sequential conditional binomials give the multinomial of the cells, and
+// given X the short cell's draws are X uniform positions in it, so the counts are
+// Multinomial(n; t_0/n, ..., t_{m−1}/n), the law of the counts of n uniform draws
+// (common practice). Short runs go through indices because a binomial costs several
+// index draws.
 //
 // # Versioning
 //
