@@ -424,10 +424,14 @@ func effectSizes(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking,
 		iv.PopulationEffect = &results.ClippedBounds{Low: ei.Low, High: ei.High, Clipped: ei.Clipped}
 		return es, nil
 	case spec.BootstrapInterval:
+		scheme, streamText := stats.BootstrapIndices, fmt.Sprintf("purpose %q, blocks of %d resamples", stats.BootstrapPurpose, stats.BootstrapBlockSize)
+		if in.Analysis.EffectSize.BootstrapScheme() == spec.CountsScheme {
+			scheme, streamText = stats.BootstrapCounts, fmt.Sprintf("%s, purpose %q, blocks of %d resamples", stream.Label, stats.CountsPurpose, stats.CountsBlockSize)
+		}
 		bs, err := await(ctx, "bootstrap", func() (stats.Bootstrap, error) {
 			return stats.KruskalWallisBootstrap(ctx, r, stats.BootstrapOptions{
 				Seed: uint64(p.Seed), AnalysisID: in.Analysis.ID, Resamples: in.Analysis.EffectSize.Resamples,
-				Level: level, Workers: opt.Workers,
+				Level: level, Workers: opt.Workers, Scheme: scheme,
 				Progress: opt.progress(in.Analysis.ID, TaskBootstrap),
 			})
 		})
@@ -444,7 +448,8 @@ func effectSizes(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking,
 			EpsilonSquared: &results.Bounds{Low: lo, High: hi},
 			Resamples:      strconv.FormatInt(bs.Resamples, 10),
 			Degenerate:     strconv.FormatInt(bs.Degenerate, 10),
-			Stream:         fmt.Sprintf("purpose %q, blocks of %d resamples", stats.BootstrapPurpose, stats.BootstrapBlockSize),
+			Stream:         streamText,
+			Scheme:         in.Analysis.EffectSize.Scheme,
 			Warnings: smallGroupWarning(in.Groups, r.Counts, stats.BootstrapSmallGroup, "resampling within a group of n values gives at most C(2n - 1, n) "+
 				"different resamples (1, 3, 10, 35 for n = 1 to 4; a single value never varies), so the percentile interval "+
 				"reflects those few resamples rather than the spread of H, and need not even contain the estimate"),

@@ -272,6 +272,7 @@ func closeRunFolder(ctx context.Context, w *folder.Writer, in *runInputs, ex *ex
 			Uses: []folder.StreamUse{
 				{Purpose: stats.PermutationPurpose, BlockSize: stats.PermutationBlockSize},
 				{Purpose: stats.BootstrapPurpose, BlockSize: stats.BootstrapBlockSize},
+				{Purpose: stats.CountsPurpose, BlockSize: stats.CountsBlockSize},
 			},
 		}}
 		if a.PValue != nil {

@@ -165,8 +165,9 @@ func (d Draft) YAML() []byte {
 	if d.EffectResamples > 0 {
 		p("      interval: %s  # %s\n", BootstrapInterval, choices(IntervalMethods()))
 		p("      resamples: %d  # bootstrap resamples (within groups)\n", d.EffectResamples)
+		p("      scheme: %s  # %s (how resamples are drawn)\n", CountsScheme, choices(BootstrapSchemes()))
 	} else {
-		p("      interval: %s  # %s\n", DefaultEffectInterval, strings.Replace(choices(IntervalMethods()), string(BootstrapInterval), string(BootstrapInterval)+" (then also resamples: 2000)", 1))
+		p("      interval: %s  # %s\n", DefaultEffectInterval, strings.Replace(choices(IntervalMethods()), string(BootstrapInterval), string(BootstrapInterval)+" (then also resamples: 2000, scheme: "+string(CountsScheme)+")", 1))
 	}
 	p("      level: %s  # confidence level of the interval\n", strconv.FormatFloat(DefaultEffectLevel, 'g', -1, 64))
 	p("    posthoc:\n")

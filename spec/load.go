@@ -351,6 +351,9 @@ func (p *Plan) check(dt doubt) ErrorList {
 				}
 			}
 		}
+		if es := a.EffectSize; es.Scheme != "" && es.Interval != BootstrapInterval && dt.clean(at+".effect_size") {
+			add(at+".effect_size.scheme", "applies only to effect_size.interval \"bootstrap\", not %q, which draws no resamples; remove scheme", es.Interval)
+		}
 		if dt.clean(at + ".posthoc") {
 			checkPostHoc(a.PostHoc, at, add)
 		}

@@ -126,6 +126,20 @@ type EffectSize struct {
 	Level     float64        `json:"level"`               // confidence level of the intervals; default 0.95
 	Interval  IntervalMethod `json:"interval"`            // default noncentral
 	Resamples int64          `json:"resamples,omitempty"` // bootstrap resamples, with interval bootstrap only
+	// Scheme is how the bootstrap draws its resamples, with interval bootstrap only. Empty
+	// (the key absent) means [IndicesScheme], the scheme of plans written before the key
+	// existed; it stays empty rather than being filled in, so that such a plan's
+	// canonical form, and so its hash and lock, are unchanged.
+	Scheme BootstrapScheme `json:"scheme,omitempty"`
+}
+
+// BootstrapScheme is the scheme the bootstrap of e uses: [IndicesScheme] when the plan
+// names none.
+func (e EffectSize) BootstrapScheme() BootstrapScheme {
+	if e.Scheme == "" {
+		return IndicesScheme
+	}
+	return e.Scheme
 }
 
 // DefaultMissingTokens returns a new copy of the default of data.missing.tokens (part of

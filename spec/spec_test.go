@@ -232,6 +232,13 @@ func parseErrorCases(t *testing.T) []parseErrorCase {
 			[]string{"plan.yaml:15:51: analyses[0].effect_size.resamples: 0 resamples make no interval; for the estimates alone set effect_size.interval: none and remove resamples"}},
 		{"effect resamples 0 with the default interval", goodPlan + "    effect_size: {resamples: 0}\n",
 			[]string{"plan.yaml:15:30: analyses[0].effect_size.resamples: 0 resamples make no interval; for the estimates alone set effect_size.interval: none and remove resamples"}},
+		{"bootstrap scheme with the default interval", goodPlan + "    effect_size: {scheme: counts-v2}\n",
+			[]string{`plan.yaml:15:27: analyses[0].effect_size.scheme: applies only to effect_size.interval "bootstrap", not "noncentral", which draws no resamples; remove scheme`}},
+		{"bootstrap scheme and resamples with none", goodPlan + "    effect_size: {interval: none, resamples: 10, scheme: indices-v1}\n",
+			[]string{`plan.yaml:15:46: analyses[0].effect_size.resamples: applies only to effect_size.interval "bootstrap", not "none", which draws no resamples; remove resamples, or set effect_size.interval: bootstrap to keep a percentile bootstrap`,
+				`plan.yaml:15:58: analyses[0].effect_size.scheme: applies only to effect_size.interval "bootstrap", not "none", which draws no resamples; remove scheme`}},
+		{"bootstrap scheme unknown", goodPlan + "    effect_size: {interval: bootstrap, resamples: 10, scheme: counts}\n",
+			[]string{`plan.yaml:15:63: analyses[0].effect_size.scheme: expected one of "counts-v2", "indices-v1"; found the text "counts"`}},
 		{"effect interval unknown", goodPlan + "    effect_size: {interval: percentile}\n",
 			[]string{`plan.yaml:15:29: analyses[0].effect_size.interval: expected one of "noncentral", "bootstrap", "none"; found the text "percentile"`}},
 		{"not implemented test", edit(t, "test: kruskal-wallis", "test: median"),
@@ -399,16 +406,16 @@ func TestDraftParses(t *testing.T) {
 			if tokens == nil {
 				tokens = DefaultMissingTokens()
 			}
-			interval, resamples := DefaultEffectInterval, int64(0)
+			interval, resamples, scheme := DefaultEffectInterval, int64(0), BootstrapScheme("")
 			if d.EffectResamples > 0 {
-				interval, resamples = BootstrapInterval, d.EffectResamples
+				interval, resamples, scheme = BootstrapInterval, d.EffectResamples, CountsScheme
 			}
 			a := p.Analyses[0]
 			if p.Title != d.Title || p.Data.Group != d.Group || p.Data.Outcome != d.Outcome || p.Data.File != d.DataFile ||
 				uint64(p.Seed) != d.Seed || p.Alpha != 0.01 || p.Data.Decimal != "," || p.Data.Delimiter != ";" ||
 				p.Data.SHA256 != "" || p.Data.Unit != d.Unit || !reflect.DeepEqual(p.Data.Missing.Tokens, tokens) ||
 				!reflect.DeepEqual(p.Groups.Include, d.Groups) || a.PValue.Method != d.PValue || a.PValue.Resamples != d.Resamples ||
-				a.EffectSize.Interval != interval || a.EffectSize.Resamples != resamples {
+				a.EffectSize.Interval != interval || a.EffectSize.Resamples != resamples || a.EffectSize.Scheme != scheme {
 				t.Errorf("draft did not round-trip: %+v", p)
 			}
 		})
@@ -547,5 +554,33 @@ func TestIntervalLevelDefault(t *testing.T) {
 	}
 	if DefaultIntervalLevel != 0.95 {
 		t.Errorf("DefaultIntervalLevel = %v; plan format 1 says 0.95", DefaultIntervalLevel)
+	}
+}
+
+// TestBootstrapSchemeAbsent: a plan without effect_size.scheme means the indices scheme,
+// and its typed form, which is what is hashed, holds no scheme member, so plans written
+// before the key existed keep their hash; a plan that names a scheme keeps it.
+func TestBootstrapSchemeAbsent(t *testing.T) {
+	for _, tc := range []struct {
+		yaml   string
+		want   BootstrapScheme
+		member bool
+	}{
+		{"    effect_size: {interval: bootstrap, resamples: 10}\n", IndicesScheme, false},
+		{"    effect_size: {interval: bootstrap, resamples: 10, scheme: indices-v1}\n", IndicesScheme, true},
+		{"    effect_size: {interval: bootstrap, resamples: 10, scheme: counts-v2}\n", CountsScheme, true},
+	} {
+		p, err := Parse("plan.yaml", []byte(goodPlan+tc.yaml))
+		if err != nil {
+			t.Fatalf("%s: %v", tc.yaml, err)
+		}
+		es := p.Analyses[0].EffectSize
+		b, err := json.Marshal(es)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if es.BootstrapScheme() != tc.want || strings.Contains(string(b), `"scheme"`) != tc.member {
+			t.Errorf("%s: scheme %q, JSON %s", tc.yaml, es.BootstrapScheme(), b)
+		}
 	}
 }

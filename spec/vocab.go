@@ -148,6 +148,28 @@ func IntervalMethods() []IntervalMethod {
 	return []IntervalMethod{NoncentralInterval, BootstrapInterval, NoInterval}
 }
 
+// BootstrapScheme names how the bootstrap interval of the effect sizes draws its
+// resamples (effect_size.scheme, with interval bootstrap only).
+type BootstrapScheme string
+
+// The bootstrap resampling schemes a plan can name. Both resample within groups with
+// replacement; they differ in the draws, so the same seed gives other intervals.
+const (
+	// CountsScheme draws each group's counts over its distinct values as a multinomial,
+	// by conditional binomials (stats.BootstrapCounts): the work of a resample grows with
+	// the number of distinct values, not of observations. `init` writes it.
+	CountsScheme BootstrapScheme = "counts-v2"
+	// IndicesScheme draws one uniform index per observation (stats.BootstrapIndices), the
+	// scheme of the first releases; a plan without effect_size.scheme means it, so that
+	// the runs of plans registered before the key existed are reproduced.
+	IndicesScheme BootstrapScheme = "indices-v1"
+)
+
+// BootstrapSchemes returns every bootstrap scheme, the one `init` writes first.
+func BootstrapSchemes() []BootstrapScheme {
+	return []BootstrapScheme{CountsScheme, IndicesScheme}
+}
+
 // MissingPolicy says what happens to rows with a missing group or outcome.
 type MissingPolicy string
 

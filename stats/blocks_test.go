@@ -206,6 +206,9 @@ func TestResampleStops(t *testing.T) {
 	r := mustRank(t, groups)
 	for _, byGroup := range []bool{true, false} {
 		bi, err := newBootIndex(r)
+		if err == nil {
+			err = bi.withIndex(r)
+		}
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -214,7 +217,7 @@ func TestResampleStops(t *testing.T) {
 
 		closed := make(chan struct{})
 		close(closed)
-		w := newBootWorker(r, bi)
+		w := newBootWorker(r, bi, false)
 		w.done = closed
 		s := stream.New(key)
 		w.resample(s)
@@ -227,7 +230,7 @@ func TestResampleStops(t *testing.T) {
 		}
 
 		live := make(chan struct{})
-		a, b := newBootWorker(r, bi), newBootWorker(r, bi)
+		a, b := newBootWorker(r, bi, false), newBootWorker(r, bi, false)
 		b.done = live
 		ha, da := a.resample(stream.New(key))
 		hb, db := b.resample(stream.New(key))

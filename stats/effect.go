@@ -137,8 +137,10 @@ type BootstrapOptions struct {
 	Resamples  int64   // at least 1
 	Level      float64 // confidence level, in (0, 1)
 	Workers    int     // 0 or less: runtime.GOMAXPROCS(0); the result does not depend on it
+	// Scheme is how resamples are drawn; the zero value is [BootstrapIndices].
+	Scheme BootstrapScheme
 	// Progress, if not nil, is called with the resamples finished so far after each
-	// block of BootstrapBlockSize, from the worker goroutines (see [Progress]). The
+	// block of resamples (BootstrapBlockSize or CountsBlockSize), from the worker goroutines (see [Progress]). The
 	// result does not depend on it.
 	Progress Progress
 }
@@ -160,10 +162,19 @@ type Bootstrap struct {
 // [KruskalWallisTest] does. A resample whose values are all tied has no H; it counts as
 // H* = 0 (the groups are then identical) and is counted in Degenerate.
 //
-// The draws follow the stream rules of package stream: resamples are cut into blocks of
-// [BootstrapBlockSize]; block j draws from stream.New(stream.Key(BootstrapPurpose, Seed,
-// AnalysisID, j)), one stream.Below(n_i) per drawn value, groups in order, resamples in
-// order. Blocks run on Workers goroutines; each resample's H* is stored at its index, so
+// The draws follow the stream rules of package stream, by opt.Scheme:
+//
+//   - [BootstrapIndices]: resamples are cut into blocks of [BootstrapBlockSize]; block j
+//     draws from stream.New(stream.Key(BootstrapPurpose, Seed, AnalysisID, j)), one
+//     stream.Below(n_i) per drawn value, groups in order, resamples in order.
+//   - [BootstrapCounts]: blocks of [CountsBlockSize] under [CountsPurpose]; each resample
+//     draws, groups in order, the group's counts over its runs of equal values as one
+//     multinomial (conditional binomials, or indices when runs are short; package
+//     stream §6 and §7, docs/methods.md §2.1), so that its cost grows with the number
+//     of distinct values rather than of observations. Its resamples have the law of the
+//     first scheme's, not its draws.
+//
+// Blocks run on Workers goroutines; each resample's H* is stored at its index, so
 // the result is identical for any number of workers. The interval is the type 7 quantile
 // pair (Hyndman & Fan 1996) of the sorted H* values at (1 ∓ Level)/2 (percentile method;
 // Efron & Tibshirani 1993, An Introduction to the Bootstrap, ch. 13, recalled from memory).
@@ -184,31 +195,50 @@ func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOption
 	if err != nil {
 		return Bootstrap{}, err
 	}
+	purpose, blockSize := BootstrapPurpose, int64(BootstrapBlockSize)
+	counts := false
+	switch opt.Scheme {
+	case BootstrapIndices:
+		if !bi.byGroup {
+			if err := bi.withIndex(r); err != nil {
+				return Bootstrap{}, err
+			}
+		}
+	case BootstrapCounts:
+		purpose, blockSize, counts = CountsPurpose, CountsBlockSize, true
+		bi.prepareCells()
+	default:
+		return Bootstrap{}, fmt.Errorf("bootstrap: unknown resampling scheme %d", int(opt.Scheme))
+	}
 	m := opt.Resamples
 	hs := make([]float64, m)
 	degenerate := make([]bool, m)
-	blocks := (m + BootstrapBlockSize - 1) / BootstrapBlockSize
+	blocks := (m + blockSize - 1) / blockSize
 	workers := resolveWorkers(opt.Workers, blocks)
 	progress := newProgressCounter(opt.Progress, m)
 	scratch := make([]*bootWorker, workers)
 	done := ctx.Done()
 	err = runBlocks(ctx, blocks, workers, nil, func(w int, j int64) error {
 		if scratch[w] == nil {
-			scratch[w] = newBootWorker(r, bi)
+			scratch[w] = newBootWorker(r, bi, counts)
 			scratch[w].done = done
 		}
-		s := stream.New(stream.Key(BootstrapPurpose, opt.Seed, opt.AnalysisID, uint64(j)))
-		end := min((j+1)*BootstrapBlockSize, m)
-		for b := j * BootstrapBlockSize; b < end; b++ {
+		s := stream.New(stream.Key(purpose, opt.Seed, opt.AnalysisID, uint64(j)))
+		end := min((j+1)*blockSize, m)
+		for b := j * blockSize; b < end; b++ {
 			if cancelled(done) {
 				return ctx.Err()
 			}
-			hs[b], degenerate[b] = scratch[w].resample(s)
+			if counts {
+				hs[b], degenerate[b] = scratch[w].resampleCounts(s)
+			} else {
+				hs[b], degenerate[b] = scratch[w].resample(s)
+			}
 			if scratch[w].stopped {
 				return ctx.Err()
 			}
 		}
-		progress.add(end - j*BootstrapBlockSize)
+		progress.add(end - j*blockSize)
 		return nil
 	})
 	if err != nil {
@@ -227,13 +257,10 @@ func KruskalWallisBootstrap(ctx context.Context, r *Ranking, opt BootstrapOption
 	return out, nil
 }
 
-// valueIndex returns, for each value of r.Sorted (groups in order, one slice of length N
-// sharing the groups' order), the index of its tie block in r.Blocks: the position of its
-// value among the distinct values of the pooled sample, ascending. Values that compare
-// equal (-0 and +0 among them) share a block, as in [Rank]. It sorts only each group's
-// distinct values (its sorted values with repeats dropped), O(N + Σ m_i log Σ m_i), and is
-// computed once for all resamples.
-func valueIndex(r *Ranking) ([]int32, error) {
+// pooledDistinct returns the distinct values of the pooled sample, ascending; values
+// that compare equal (-0 and +0 among them) count once, as in [Rank]. It sorts only each
+// group's distinct values (its sorted values with repeats dropped), O(N + Σ m_i log Σ m_i).
+func pooledDistinct(r *Ranking) ([]float64, error) {
 	if r.N > math.MaxInt32 {
 		return nil, fmt.Errorf("bootstrap: %d observations are more than the index can hold", r.N)
 	}
@@ -250,6 +277,19 @@ func valueIndex(r *Ranking) ([]int32, error) {
 	if len(distinct) != len(r.Blocks) {
 		return nil, fmt.Errorf("bootstrap: the ranking has %d tie blocks but its values hold %d distinct values", len(r.Blocks), len(distinct))
 	}
+	return distinct, nil
+}
+
+// valueIndex returns, for each value of r.Sorted (groups in order, one slice of length N
+// sharing the groups' order), the index of its tie block in r.Blocks: the position of its
+// value among the distinct values of the pooled sample ([pooledDistinct]), ascending. It is
+// computed once for all resamples, and only where a resample keeps each draw's block
+// (the indices scheme with many distinct values): it takes 4 bytes per observation.
+func valueIndex(r *Ranking) ([]int32, error) {
+	distinct, err := pooledDistinct(r)
+	if err != nil {
+		return nil, err
+	}
 	idx := make([]int32, 0, r.N)
 	for _, vals := range r.Sorted {
 		u := 0
@@ -263,6 +303,16 @@ func valueIndex(r *Ranking) ([]int32, error) {
 	return idx, nil
 }
 
+// withIndex sets bi.index to valueIndex(r) unless it is set already.
+func (bi *bootIndex) withIndex(r *Ranking) error {
+	if bi.index != nil {
+		return nil
+	}
+	idx, err := valueIndex(r)
+	bi.index = idx
+	return err
+}
+
 // bootIndex is what every resample of a ranking reads, built once and shared read-only.
 //
 // A resample is ranked in one of two ways that give the same integers. With few distinct
@@ -271,7 +321,7 @@ func valueIndex(r *Ranking) ([]int32, error) {
 // those counts, O(N + Σ m_i) for m_i distinct values in group i; otherwise it keeps each
 // draw's block index (from index) and sums over the draws, O(N + m).
 type bootIndex struct {
-	index   []int32 // valueIndex(r)
+	index   []int32 // valueIndex(r), when a resample needs it (see bootIndex.withIndex); else nil
 	byGroup bool
 	runs    []groupRuns // per group
 }
@@ -286,39 +336,51 @@ type groupRuns struct {
 	bounds []int32 // len(blocks) + 1 entries; the last is n_i
 	coarse []int32
 	shift  uint
+	// cells is how the counts scheme draws the group (see bootIndex.prepareCells); nil
+	// until prepared.
+	cells *runCells
 }
 
+// index builds g's position table (shift, coarse) from g.bounds.
+func (g *groupRuns) index() {
+	n := int(g.bounds[len(g.bounds)-1])
+	// A bucket of 2^shift positions, at most the mean run length, holds few run ends.
+	for g.shift < 30 && 2<<g.shift*len(g.blocks) <= n {
+		g.shift++
+	}
+	g.coarse = make([]int32, (n-1)>>g.shift+1)
+	l := int32(0)
+	for b := range g.coarse {
+		for g.bounds[l+1] <= int32(b<<g.shift) {
+			l++
+		}
+		g.coarse[b] = l
+	}
+}
+
+// newBootIndex finds the runs of equal values of every group, each with its pooled
+// block, straight from the sorted values (no per-observation table).
 func newBootIndex(r *Ranking) (*bootIndex, error) {
-	index, err := valueIndex(r)
+	distinct, err := pooledDistinct(r)
 	if err != nil {
 		return nil, err
 	}
-	bi := &bootIndex{index: index, byGroup: int64(r.K)*int64(len(r.Blocks)) <= int64(r.N), runs: make([]groupRuns, r.K)}
-	off := 0
+	bi := &bootIndex{byGroup: int64(r.K)*int64(len(r.Blocks)) <= int64(r.N), runs: make([]groupRuns, r.K)}
 	for i, vals := range r.Sorted {
 		n := len(vals)
-		idx := index[off : off+n]
 		g := &bi.runs[i]
-		for j, u := range idx {
-			if j == 0 || u != idx[j-1] {
-				g.blocks = append(g.blocks, u)
+		u := 0
+		for j, v := range vals {
+			if j == 0 || v != vals[j-1] {
+				for distinct[u] < v {
+					u++
+				}
+				g.blocks = append(g.blocks, int32(u))
 				g.bounds = append(g.bounds, int32(j))
 			}
 		}
 		g.bounds = append(g.bounds, int32(n))
-		// A bucket of 2^shift positions, at most the mean run length, holds few run ends.
-		for g.shift < 30 && 2<<g.shift*len(g.blocks) <= n {
-			g.shift++
-		}
-		g.coarse = make([]int32, (n-1)>>g.shift+1)
-		l := int32(0)
-		for b := range g.coarse {
-			for g.bounds[l+1] <= int32(b<<g.shift) {
-				l++
-			}
-			g.coarse[b] = l
-		}
-		off += n
+		g.index()
 	}
 	return bi, nil
 }
@@ -330,73 +392,122 @@ type bootWorker struct {
 	draws    []int32   // !byGroup: the block index of each drawn value, groups in order
 	count    []int64   // per distinct value: how often it was drawn, then its doubled midrank
 	runCount [][]int32 // byGroup: runCount[i][l], how often group i drew from its run l
-	rankSum2 []int64
-	blocks   []Block
-	done     <-chan struct{} // the context's Done channel, checked every cancelEvery draws (nil: never)
-	stopped  bool            // a resample was given up because done was closed
+	// shortCount[i][k] is how often group i drew its k-th short run (counts scheme).
+	shortCount [][]int32
+	rankSum2   []int64
+	blocks     []Block
+	done       <-chan struct{} // the context's Done channel, checked every cancelEvery draws (nil: never)
+	stopped    bool            // a resample was given up because done was closed
 }
 
-func newBootWorker(r *Ranking, bi *bootIndex) *bootWorker {
+// newBootWorker returns the scratch buffers of one goroutine; counts says that the
+// resamples are of the [BootstrapCounts] scheme, which always counts per group and run.
+func newBootWorker(r *Ranking, bi *bootIndex, counts bool) *bootWorker {
 	m := len(r.Blocks)
 	w := &bootWorker{r: r, bi: bi, count: make([]int64, m), rankSum2: make([]int64, r.K), blocks: make([]Block, 0, m)}
-	if bi.byGroup {
+	if bi.byGroup || counts {
 		w.runCount = make([][]int32, r.K)
 		for i, g := range bi.runs {
 			w.runCount[i] = make([]int32, len(g.blocks))
 		}
-	} else {
+	}
+	switch {
+	case counts:
+		w.shortCount = make([][]int32, r.K)
+		for i, g := range bi.runs {
+			w.shortCount[i] = make([]int32, len(g.cells.short.blocks))
+		}
+	case !bi.byGroup:
 		w.draws = make([]int32, r.N)
 	}
 	return w
 }
 
-// resample draws one bootstrap resample and returns its tie-corrected H*. A drawn value is
-// one of the pooled sample's distinct values, so the resample is ranked by counting how
-// often each distinct value was drawn (no comparison sort): a value drawn t times after b
-// smaller draws has the doubled midrank 2b + t + 1, the same integers, tie blocks and H*
-// as sorting the resample would give. When w.done is closed during the draws it gives
-// the resample up and sets w.stopped; the result is then meaningless.
+// resample draws one bootstrap resample of the [BootstrapIndices] scheme and returns its
+// tie-corrected H*. A drawn value is one of the pooled sample's distinct values, so the
+// resample is ranked by counting how often each distinct value was drawn (no comparison
+// sort): a value drawn t times after b smaller draws has the doubled midrank 2b + t + 1,
+// the same integers, tie blocks and H* as sorting the resample would give. When w.done is
+// closed during the draws it gives the resample up and sets w.stopped; the result is then
+// meaningless.
 func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool) {
 	r, bi := w.r, w.bi
-	clear(w.count)
 	if bi.byGroup {
 		for i, vals := range r.Sorted {
-			n := uint64(len(vals))
-			g, cnt := &bi.runs[i], w.runCount[i]
+			cnt := w.runCount[i]
 			clear(cnt)
-			for q := range n {
-				if q&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
-					w.stopped = true
-					return 0, false
-				}
-				j := int32(s.Below(n))
-				l := g.coarse[j>>g.shift]
-				for g.bounds[l+1] <= j {
-					l++
-				}
-				cnt[l]++
-			}
-			for l, c := range cnt {
-				w.count[g.blocks[l]] += int64(c)
+			if !w.drawIndices(s, &bi.runs[i], cnt, uint64(len(vals)), uint64(len(vals))) {
+				w.stopped = true
+				return 0, false
 			}
 		}
-	} else {
-		off := 0
-		for _, vals := range r.Sorted {
-			n := len(vals)
-			idx, dr := bi.index[off:off+n], w.draws[off:off+n]
-			for j := range dr {
-				if j&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
-					w.stopped = true
-					return 0, false
-				}
-				u := idx[s.Below(uint64(n))]
-				dr[j] = u
-				w.count[u]++
+		return w.hFromRunCounts()
+	}
+	clear(w.count)
+	off := 0
+	for _, vals := range r.Sorted {
+		n := len(vals)
+		idx, dr := bi.index[off:off+n], w.draws[off:off+n]
+		for j := range dr {
+			if j&(cancelEvery-1) == cancelEvery-1 && cancelled(w.done) {
+				w.stopped = true
+				return 0, false
 			}
-			off += n
+			u := idx[s.Below(uint64(n))]
+			dr[j] = u
+			w.count[u]++
+		}
+		off += n
+	}
+	w.midranks()
+	off = 0
+	for i, vals := range r.Sorted {
+		var sum int64
+		for _, u := range w.draws[off : off+len(vals)] {
+			sum += w.count[u]
+		}
+		w.rankSum2[i] = sum
+		off += len(vals)
+	}
+	return w.hStar()
+}
+
+// resampleCounts draws one resample of the [BootstrapCounts] scheme ([bootWorker.drawCounts])
+// and returns its tie-corrected H*, ranked from the counts as [bootWorker.resample] does.
+// When w.done is closed during the draws it gives the resample up and sets w.stopped.
+func (w *bootWorker) resampleCounts(s *stream.Stream) (hStar float64, degenerate bool) {
+	if !w.drawCounts(s) {
+		w.stopped = true
+		return 0, false
+	}
+	return w.hFromRunCounts()
+}
+
+// hFromRunCounts returns H* of the resample whose counts per group and run are in
+// w.runCount: the pooled count of each distinct value, its doubled midrank, and each
+// group's sum of doubled midranks Σ_l runCount[i][l]·d(value of run l).
+func (w *bootWorker) hFromRunCounts() (hStar float64, degenerate bool) {
+	clear(w.count)
+	for i, g := range w.bi.runs {
+		for l, c := range w.runCount[i] {
+			w.count[g.blocks[l]] += int64(c)
 		}
 	}
+	w.midranks()
+	for i, g := range w.bi.runs {
+		var sum int64
+		for l, c := range w.runCount[i] {
+			sum += int64(c) * w.count[g.blocks[l]]
+		}
+		w.rankSum2[i] = sum
+	}
+	return w.hStar()
+}
+
+// midranks turns w.count from how often each distinct value was drawn into its doubled
+// midrank 2b + t + 1 (t draws of it after b smaller ones), and lists the tie blocks of the
+// resample in w.blocks.
+func (w *bootWorker) midranks() {
 	w.blocks = w.blocks[:0]
 	var below int64
 	for u, t := range w.count {
@@ -408,26 +519,12 @@ func (w *bootWorker) resample(s *stream.Stream) (hStar float64, degenerate bool)
 		w.blocks = append(w.blocks, Block{Rank2: d, Size: int(t)})
 		below += t
 	}
-	if bi.byGroup {
-		for i, g := range bi.runs {
-			var sum int64
-			for l, c := range w.runCount[i] {
-				sum += int64(c) * w.count[g.blocks[l]]
-			}
-			w.rankSum2[i] = sum
-		}
-	} else {
-		off := 0
-		for i, vals := range r.Sorted {
-			var sum int64
-			for _, u := range w.draws[off : off+len(vals)] {
-				sum += w.count[u]
-			}
-			w.rankSum2[i] = sum
-			off += len(vals)
-		}
-	}
-	_, hStar, c := tieCorrectedH(r.N, r.Counts, w.rankSum2, w.blocks)
+}
+
+// hStar is H* of the resample whose rank sums and tie blocks are in w.rankSum2 and
+// w.blocks; a resample with every value tied is degenerate and counts as 0.
+func (w *bootWorker) hStar() (hStar float64, degenerate bool) {
+	_, hStar, c := tieCorrectedH(w.r.N, w.r.Counts, w.rankSum2, w.blocks)
 	if !(c > 0) {
 		return 0, true
 	}

@@ -172,6 +172,9 @@ func TestBootstrapCountingRanks(t *testing.T) {
 func checkCountingRanks(t *testing.T, name string, groups [][]float64, byGroup bool) {
 	r := bootRanking(t, groups)
 	bi, err := newBootIndex(r)
+	if err == nil {
+		err = bi.withIndex(r)
+	}
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -195,7 +198,7 @@ func checkCountingRanks(t *testing.T, name string, groups [][]float64, byGroup b
 	}
 	// Force the path under test.
 	bi.byGroup = byGroup
-	w := newBootWorker(r, bi)
+	w := newBootWorker(r, bi, false)
 	key := stream.Key(BootstrapPurpose, 7, name, 0)
 	s, ref := stream.New(key), stream.New(key)
 	for b := 0; b < 200; b++ {

@@ -486,12 +486,14 @@ func FuzzSampleStats(f *testing.F) {
 				t.Fatalf("KruskalWallisPermutation with StopAfter %d: %+v", h, p)
 			}
 		})
-		within(t, "KruskalWallisBootstrap", func() {
-			b, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 1, AnalysisID: "fuzz", Resamples: in.resamp, Level: level, Workers: 1})
-			if err == nil && intact && !(b.HLow >= 0 && b.HLow <= b.HHigh && b.HHigh <= float64(n-1)) {
-				t.Fatalf("KruskalWallisBootstrap: %+v", b)
-			}
-		})
+		for _, scheme := range []BootstrapScheme{BootstrapIndices, BootstrapCounts} {
+			within(t, "KruskalWallisBootstrap", func() {
+				b, err := KruskalWallisBootstrap(context.Background(), r, BootstrapOptions{Seed: 1, AnalysisID: "fuzz", Resamples: in.resamp, Level: level, Workers: 1, Scheme: scheme})
+				if err == nil && intact && !(b.HLow >= 0 && b.HLow <= b.HHigh && b.HHigh <= float64(n-1)) {
+					t.Fatalf("KruskalWallisBootstrap, scheme %d: %+v", scheme, b)
+				}
+			})
+		}
 	})
 }
 

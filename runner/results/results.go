@@ -322,6 +322,9 @@ type EffectInterval struct {
 	Resamples        string         `json:"resamples,omitempty"`
 	Degenerate       string         `json:"degenerate,omitempty"` // resamples with every value tied (H* taken as 0)
 	Stream           string         `json:"stream,omitempty"`
+	// Scheme is how the bootstrap drew its resamples, when the plan names one; absent
+	// for plans without effect_size.scheme, whose runs keep the results of before.
+	Scheme spec.BootstrapScheme `json:"scheme,omitempty"`
 	// Warnings say why the interval may not mean what it seems to for these data.
 	Warnings []string `json:"warnings,omitempty"`
 }
