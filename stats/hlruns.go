@@ -82,9 +82,6 @@ func NewSortedRuns(sorted []float64) (*SortedRuns, error) {
 	return s, nil
 }
 
-// Len is the number of values of the sample.
-func (s *SortedRuns) Len() int { return s.n }
-
 // PairWork holds the buffers of the pairwise effect sizes and Hodges-Lehmann selections,
 // reused from one pair to the next, so that a family of pairs allocates them once (about
 // 24 bytes per run of the larger first sample). The zero value is ready to use. A PairWork

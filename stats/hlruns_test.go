@@ -372,7 +372,7 @@ func TestNewSortedRuns(t *testing.T) {
 		if !tc.ok {
 			continue
 		}
-		if len(s.val) != tc.runs || (s.cum != nil) != tc.copied || s.tied != tc.tied || s.negZero != tc.negZero || s.Len() != len(tc.in) {
+		if len(s.val) != tc.runs || (s.cum != nil) != tc.copied || s.tied != tc.tied || s.negZero != tc.negZero || s.n != len(tc.in) {
 			t.Errorf("%s: %+v", tc.name, s)
 		}
 		// The runs hold every value in order, with its bits.
@@ -405,6 +405,12 @@ func TestNewSortedRuns(t *testing.T) {
 	}
 	if _, err := w.HodgesLehmann(one, one, math.NaN()); err == nil {
 		t.Error("HodgesLehmann took a NaN level")
+	}
+	dm, _ := w.matrix(one, one)
+	for _, k := range []int64{0, 2, -1} {
+		if _, err := w.kth(&dm, k); err == nil {
+			t.Errorf("order statistic %d of 1 accepted", k)
+		}
 	}
 }
 
@@ -491,6 +497,62 @@ func BenchmarkHodgesLehmannPair(b *testing.B) {
 		for b.Loop() {
 			if _, err := NewSortedRuns(x); err != nil {
 				b.Fatal(err)
+			}
+		}
+	})
+}
+
+// FuzzRunsMatchElementwise decodes fuzz bytes into groups (decodeSample: NaN, ±Inf, −0,
+// subnormals, ±1e308, ±MaxFloat64 and raw bit patterns among small tied integers) and
+// compares group 0 against each other group: the run-based effect sizes and Hodges-Lehmann
+// results must be bit for bit the element-wise ones, errors included, wherever the latter
+// are defined (oldDomain); on pairs of at most 400 differences every order statistic must be
+// that of the sorted differences, however the selection is driven. Run it with e.g.
+//
+//	go test ./stats -run XXX -fuzz '^FuzzRunsMatchElementwise$' -fuzztime 5000x -parallel=1
+func FuzzRunsMatchElementwise(f *testing.F) {
+	f.Add([]byte{3, 0, 4, 8, 0, 0x01, 0x12, 0x23, 0x04, 0x15, 0x26, 0x07, 0x11, 0x22}, 0.95)
+	f.Add([]byte{2, 0, 4, 8, 0, 0x01, 0x01, 0x11, 0x11}, 0.95)                   // all tied
+	f.Add([]byte{2, 0, 4, 8, 0, 0x0c, 0x10, 0x01, 0x11, 0x0c, 0x1c}, 0.5)        // −0 and +0
+	f.Add([]byte{2, 0, 4, 8, 0, 0x0d, 0, 0x0d, 2, 0x1d, 1, 0x1d, 3}, 0.95)       // subnormals
+	f.Add([]byte{2, 0, 4, 8, 0, 0x0e, 0, 0x0e, 1, 0x1e, 0, 0x1e, 1}, 0.9)        // ±1e308
+	f.Add([]byte{2, 0, 4, 8, 0, 0x0f, 0, 0x0f, 1, 0x1f, 0, 0x1f, 1, 0x01}, 0.95) // ±MaxFloat64
+	f.Add([]byte{3, 9, 4, 8, 0, 0x01, 0x12, 0x23, 0x04, 0x15, 0x26}, 0.99)       // 512 copies
+	f.Fuzz(func(t *testing.T, data []byte, level float64) {
+		in := decodeSample(data)
+		for i := 1; i < len(in.byGroup); i++ {
+			x, y := in.byGroup[0], in.byGroup[i]
+			var e, olde PairEffect
+			var err, olderr error
+			within(t, "PairEffectSizes", func() { e, err = PairEffectSizes(x, y) })
+			within(t, "element-wise PairEffectSizes", func() { olde, olderr = oldPairEffectSizes(x, y) })
+			if (err == nil) != (olderr == nil) || e != olde {
+				t.Fatalf("effect sizes %+v %v, element-wise %+v %v", e, err, olde, olderr)
+			}
+			if err != nil || !oldDomain(x, y) {
+				continue
+			}
+			var hl, old HodgesLehmann
+			within(t, "HodgesLehmannShift", func() { hl, err = HodgesLehmannShift(x, y, level) })
+			within(t, "element-wise HodgesLehmannShift", func() { old, olderr = oldHodgesLehmannShift(x, y, level) })
+			if (err == nil) != (olderr == nil) || (err == nil && !sameHL(hl, old)) {
+				t.Fatalf("level %v: %+v %v, element-wise %+v %v", level, hl, err, old, olderr)
+			}
+			mn := len(x) * len(y)
+			if mn > 400 {
+				continue
+			}
+			d := allDifferences(x, y)
+			xr, yr, _ := sortedPair(x, y)
+			for _, cfg := range hlWorkConfigs {
+				w := cfg.work()
+				dm, _ := w.matrix(xr, yr)
+				for k := 1; k <= mn; k++ {
+					r, err := w.kth(&dm, int64(k))
+					if err != nil || r.v != d[k-1] {
+						t.Fatalf("%s, k = %d: %v %v, sorted differences %v", cfg.name, k, r.v, err, d[k-1])
+					}
+				}
 			}
 		}
 	})
