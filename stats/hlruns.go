@@ -83,14 +83,15 @@ func NewSortedRuns(sorted []float64) (*SortedRuns, error) {
 }
 
 // PairWork holds the buffers of the pairwise effect sizes and Hodges-Lehmann selections,
-// reused from one pair to the next, so that a family of pairs allocates them once (about
-// 24 bytes per run of the larger first sample). The zero value is ready to use. A PairWork
-// must not be used by two goroutines at once.
+// reused from one pair to the next, so that a family of pairs allocates them once: 32 bytes
+// per run of the largest first sample of a pair, and 4 bytes per value of the largest
+// sample read value by value. The zero value is ready to use. A PairWork must not be used
+// by two goroutines at once.
 type PairWork struct {
 	ones           []int32 // 0, 1, 2, …: the cumulative counts of a view without its own
 	beg, end       []int32 // each row's window of candidate columns [beg, end)
 	pa, pb, pc, pd []int32 // a pass's column pointers, see pass
-	pre            []int64 // cumulative candidate counts by row, for sampling
+	draws          []int64 // positions of a sample among the candidates
 	sample         []float64
 	gather         []weightedDiff
 	rng            uint64
@@ -391,7 +392,9 @@ func (w *PairWork) kth(d *diffMatrix, k int64) (kthResult, error) {
 		}
 		var lo, hi float64
 		if sampled {
-			lo, hi = w.pivots(d, k-s.below, s.upTo-s.below)
+			if lo, hi = w.pivots(d, k-s.below, s.upTo-s.below); math.IsNaN(lo) {
+				return kthResult{}, errSelectionLost
+			}
 		} else {
 			lo = fromOrderKey(s.kLo + int64((uint64(s.kHi)-uint64(s.kLo))/2)) // the keys' span may exceed MaxInt64
 			hi = lo
@@ -486,28 +489,31 @@ func (w *PairWork) pass(d *diffMatrix, lo, hi float64) passCounts {
 
 // pivots draws a sample of the candidate differences (each value pair in the windows
 // equally likely, from a fixed generator: the pivots steer only the cost) and returns its
-// order statistics about 1.5 √s below and above the target's share t/W of the sample.
+// order statistics about 1.5 √s below and above the target's share t/W of the sample. The
+// draws are sorted first, so that one walk over the rows' candidate counts places them all.
 func (w *PairWork) pivots(d *diffMatrix, t, total int64) (float64, float64) {
 	rx, ry := len(d.xv), len(d.yv)
-	w.pre = slices.Grow(w.pre[:0], rx)[:rx]
-	var sum int64
-	for a := range rx {
-		sum += int64(d.xc[a+1]-d.xc[a]) * int64(d.yc[w.end[a]]-d.yc[w.beg[a]])
-		w.pre[a] = sum
-	}
 	s := min(max((rx+ry)/64, 64), 4096)
+	w.draws = slices.Grow(w.draws[:0], s)[:s]
+	for j := range w.draws {
+		w.draws[j] = w.below(total)
+	}
+	slices.Sort(w.draws)
 	w.sample = slices.Grow(w.sample[:0], s)[:s]
-	for j := range w.sample {
-		u := w.below(sum)
-		a, _ := slices.BinarySearch(w.pre, u+1) // first row whose cumulative count exceeds u
-		if a > 0 {
-			u -= w.pre[a-1]
-		}
+	j, before := 0, int64(0) // draws placed; candidates in the rows before a
+	for a := 0; a < rx && j < s; a++ {
 		lo, hi := d.yc[w.beg[a]], d.yc[w.end[a]]
-		e := lo + int32(u%int64(hi-lo)) // a value of y in the window
-		// its run: the last column b in the window with yc[b] <= e
-		b := int(w.beg[a]) + sortSearchInt32(d.yc[w.beg[a]:w.end[a]], e)
-		w.sample[j] = d.xv[a] - d.yv[b]
+		in := int64(d.xc[a+1]-d.xc[a]) * int64(hi-lo)
+		for ; j < s && w.draws[j] < before+in; j++ {
+			e := lo + int32((w.draws[j]-before)%int64(hi-lo)) // a value of y in the window
+			// its run: the last column b in the window with yc[b] <= e
+			b := int(w.beg[a]) + sortSearchInt32(d.yc[w.beg[a]:w.end[a]], e)
+			w.sample[j] = d.xv[a] - d.yv[b]
+		}
+		before += in
+	}
+	if j < s { // the windows hold fewer candidates than total: a defect, see kth
+		return math.NaN(), math.NaN()
 	}
 	slices.Sort(w.sample)
 	pos := int(float64(t-1) / float64(total) * float64(s))
