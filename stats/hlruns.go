@@ -14,8 +14,8 @@ import (
 // over a sample of 10^6 values with 10^4 distinct ones takes 10^4 steps, not 10^6.
 //
 // A run is a block of adjacent values with the same bits: −0 and +0 are equal values but
-// separate runs, so that a zero difference keeps the sign the element-wise definition
-// gives it ([PairWork.HodgesLehmann]). The counts do not need maximal runs, and a sample
+// separate runs, so that a zero order statistic keeps the sign it always had (see
+// diffMatrix.sign). The counts do not need maximal runs, and a sample
 // with few ties (more than half its values distinct) is read value by value, without a copy.
 // The zero value is not usable: build one with [NewSortedRuns].
 type SortedRuns struct {
