@@ -131,16 +131,26 @@ func postHoc(ctx context.Context, p *spec.Plan, in *Input, r *stats.Ranking, omn
 	}
 	rej := stats.Reject(adj, p.Alpha)
 	level := in.Analysis.EffectSize.Level
+	// Each group is read as runs of equal values once, from its sorted values, and one work
+	// space serves every pair: no pair copies or sorts a group.
+	runs := make([]*stats.SortedRuns, k)
+	for g := range runs {
+		var err error
+		if runs[g], err = stats.NewSortedRuns(r.Sorted[g]); err != nil {
+			return nil, fmt.Errorf("pairwise effect sizes: group %s: %w", in.Groups[g], err)
+		}
+	}
+	var work stats.PairWork
 	for i, pr := range pairs {
 		if err := ctx.Err(); err != nil {
 			return nil, fmt.Errorf("pairwise effect sizes: %w", err)
 		}
-		x, y := r.Sorted[pr[0]], r.Sorted[pr[1]]
-		e, err := stats.PairEffectSizes(x, y)
+		x, y := runs[pr[0]], runs[pr[1]]
+		e, err := work.EffectSizes(x, y)
 		if err != nil {
 			return nil, err
 		}
-		hl, err := stats.HodgesLehmannShift(x, y, level)
+		hl, err := work.HodgesLehmann(x, y, level)
 		if err != nil {
 			return nil, err
 		}

@@ -70,10 +70,18 @@ func TestKthDifferenceBruteForce(t *testing.T) {
 			}
 		}
 		slices.Sort(d)
-		xs, ys := slices.Sorted(slices.Values(x)), slices.Sorted(slices.Values(y))
+		xr, yr, err := sortedPair(x, y)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var w PairWork
+		dm, err := w.matrix(xr, yr)
+		if err != nil {
+			t.Fatal(err)
+		}
 		for k := int64(1); k <= int64(len(d)); k++ {
-			if got := kthDifference(xs, ys, k); got != d[k-1] {
-				t.Fatalf("trial %d, k = %d: %v, want %v", trial, k, got, d[k-1])
+			if r, err := w.kth(&dm, k); err != nil || r.v != d[k-1] {
+				t.Fatalf("trial %d, k = %d: %v %v, want %v", trial, k, r.v, err, d[k-1])
 			}
 		}
 		e, _ := PairEffectSizes(x, y)
