@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"strconv"
 
 	"rankplan/runner/audit"
@@ -98,6 +99,11 @@ func (prep *Prepared) CheckWork(ctx context.Context) error {
 				return fmt.Errorf("analysis %q: %w", a.ID, err)
 			}
 		}
+		if a.PostHoc.Method != spec.NoPostHoc && len(in.Values) > 0 {
+			if e := spanTooWide(p, at, in.Values); e != nil {
+				errs = append(errs, e)
+			}
+		}
 		if m := a.PValue.Resamples; monteCarlo && m*n > MaxResampleDraws {
 			errs = append(errs, tooManyDraws(p, at+".pvalue.resamples", "Monte Carlo", m, n))
 		}
@@ -109,6 +115,22 @@ func (prep *Prepared) CheckWork(ctx context.Context) error {
 		return &InputError{Err: errs.Err()}
 	}
 	return nil
+}
+
+// spanTooWide refuses post-hoc comparisons of values whose range, largest minus
+// smallest, is beyond the largest double (about 1.8e308): a pairwise difference, and so
+// a Hodges-Lehmann shift or an end of its interval, could then not be represented. When
+// the range is finite, every difference between two of the values is finite too.
+func spanTooWide(p *spec.Plan, at string, values []float64) *spec.Error {
+	lo, hi := values[0], values[0]
+	for _, v := range values[1:] {
+		lo, hi = min(lo, v), max(hi, v)
+	}
+	if !math.IsInf(hi-lo, 0) {
+		return nil
+	}
+	return p.Errorf(at+".posthoc", "the outcome's values run from %s to %s, a range beyond the largest number a double holds (about 1.8e308), so the pairwise shifts cannot be represented; rescale the outcome (for example state it in a unit 1e300 times larger) or drop the post-hoc comparisons",
+		strconv.FormatFloat(lo, 'g', -1, 64), strconv.FormatFloat(hi, 'g', -1, 64))
 }
 
 func tooManyDraws(p *spec.Plan, key, what string, m, n int64) *spec.Error {
