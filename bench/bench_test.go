@@ -107,12 +107,16 @@ func BenchmarkExecute(b *testing.B) {
 	}{
 		{"kw", 1_000_000}, {"dunn", 1_000_000}, {"kw", 10_000_000}, {"dunn", 10_000_000}, {"full", 100_000},
 	}
-	files := map[int]string{}
+	parent := b
+	files := map[int]string{} // one file per size, kept by the parent for every plan
 	for _, c := range cases {
 		b.Run(fmt.Sprintf("%s/rows=%d", c.plan, c.rows), func(b *testing.B) {
 			dir, ok := files[c.rows]
 			if !ok {
-				dir = dataDir(b, c.rows, groups, seed, shift)
+				dir = parent.TempDir()
+				if err := writeDataDir(dir, c.rows, groups, seed, shift); err != nil {
+					b.Fatal(err)
+				}
 				files[c.rows] = dir
 			}
 			p, err := spec.Load(filepath.Join(dir, c.plan+".yaml"))
@@ -137,7 +141,10 @@ func BenchmarkExecute(b *testing.B) {
 // on the 30-row file for the plans kw, dunn and full: the fixed cost of a run (schema,
 // audit log with its syncs, provenance with the executable's hash, renderings).
 func BenchmarkRunSmall(b *testing.B) {
-	dir := dataDir(b, smallRows, smallGroups, smallSeed, smallShift)
+	dir := b.TempDir()
+	if err := writeDataDir(dir, smallRows, smallGroups, smallSeed, smallShift); err != nil {
+		b.Fatal(err)
+	}
 	for _, plan := range []string{"kw", "dunn", "full"} {
 		b.Run(plan, func(b *testing.B) {
 			out := b.TempDir()
@@ -154,35 +161,34 @@ func BenchmarkRunSmall(b *testing.B) {
 	}
 }
 
-// dataDir writes data.csv (benchdata.WriteCSV) and copies of the plans of bench/plans into
-// a new temporary folder, as bench/side-by-side.py lays them out, and returns the folder.
-func dataDir(b *testing.B, rows, k int, seed uint64, shift float64) string {
-	b.Helper()
-	dir := b.TempDir()
+// writeDataDir writes data.csv (benchdata.WriteCSV) and copies of the plans of bench/plans
+// into dir, as bench/side-by-side.py lays them out.
+func writeDataDir(dir string, rows, k int, seed uint64, shift float64) error {
 	f, err := os.Create(filepath.Join(dir, "data.csv"))
 	if err != nil {
-		b.Fatal(err)
+		return err
 	}
 	if err := benchdata.WriteCSV(f, rows, k, seed, shift); err != nil {
-		b.Fatal(err)
+		f.Close()
+		return err
 	}
 	if err := f.Close(); err != nil {
-		b.Fatal(err)
+		return err
 	}
 	plans, err := filepath.Glob(filepath.Join("plans", "*.yaml"))
 	if err != nil || len(plans) == 0 {
-		b.Fatalf("no plans in bench/plans: %v", err)
+		return fmt.Errorf("no plans in bench/plans: %v", err)
 	}
 	for _, p := range plans {
 		text, err := os.ReadFile(p)
 		if err != nil {
-			b.Fatal(err)
+			return err
 		}
 		if err := os.WriteFile(filepath.Join(dir, filepath.Base(p)), text, 0o644); err != nil {
-			b.Fatal(err)
+			return err
 		}
 	}
-	return dir
+	return nil
 }
 
 // columns returns rows observations as benchdata.Generate makes them, as group indices

@@ -42,6 +42,7 @@ import hashlib
 import json
 import os
 import platform
+import shlex
 import shutil
 import statistics
 import subprocess
@@ -369,7 +370,7 @@ def text_table(head, rows):
 
 
 def markdown(report):
-    env, head = report["environment"], None
+    env = report["environment"]
     head, rows = table_rows(report["records"])
     md = [MARKER_BEGIN, "",
           f"Taken {report['started']} to {report['finished']} with `{report['command']}`; "
@@ -410,6 +411,9 @@ def main():
                                  epilog=__doc__.split("\n\n", 1)[1])
     ap.add_argument("--sizes", type=parse_sizes, default=parse_sizes("1e4,1e5,1e6,1e7"),
                     help="rows of the kw, dunn and full cases, comma-separated (default 1e4,1e5,1e6,1e7)")
+    ap.add_argument("--full-sizes", type=parse_sizes,
+                    help="rows of the full case, if fewer than --sizes (the bootstrap of 10^7 rows takes "
+                         "about ten minutes a side)")
     ap.add_argument("--workloads", default="kw,dunn,full,mc,small",
                     help="cases to run: any of kw, dunn, full (at --sizes), small (kw, dunn, full at 30 rows), mc")
     ap.add_argument("-r", "--repetitions", type=int, default=5, help="runs of each side per case (default 5)")
@@ -430,7 +434,7 @@ def main():
     if args.repetitions < 1:
         ap.error("--repetitions must be at least 1")
     if args.smoke:
-        args.sizes, args.repetitions = [10_000], 1
+        args.sizes, args.full_sizes, args.repetitions = [10_000], None, 1
         if args.label == ap.get_default("label"):
             args.label = "Smoke run: one repetition at 10^4 rows checks the harness, not the speed."
     cleanup = None
@@ -454,7 +458,8 @@ def main():
         cases = []
         for w in WORKLOADS:
             if w in wanted:
-                cases += [dict(workload=w, rows=n, **LARGE) for n in args.sizes]
+                sizes = args.full_sizes if w == "full" and args.full_sizes else args.sizes
+                cases += [dict(workload=w, rows=n, **LARGE) for n in sizes]
         if "small" in wanted:
             cases += [dict(workload=w, **SMALL) for w in WORKLOADS]
         if "mc" in wanted:
@@ -471,12 +476,10 @@ def main():
             records.append(measure(c, exe, args.repetitions, args.max_seconds, scratch, log))
             if c["workload"] == "mc":
                 workers = workers_identical(exe, c["dir"], scratch)
-        command = "/usr/bin/python3 bench/side-by-side.py " + " ".join(
-            a if a.replace(",", "").replace(".", "").replace("-", "").replace("/", "").replace("_", "").isalnum()
-            else repr(a) for a in sys.argv[1:])
+        command = shlex.join(["/usr/bin/python3", "bench/side-by-side.py"] + sys.argv[1:])
         report = {
             "format": "rankplan-side-by-side/1",
-            "command": command.strip(),
+            "command": command,
             "label": args.label,
             "started": started.strftime("%Y-%m-%dT%H:%M:%SZ"),
             "finished": datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ"),
@@ -495,7 +498,10 @@ def main():
         for t in report["targets"]:
             print(f"target: {t['target']}: {fmt(t['value'])} (limit {fmt(t['limit'])}): "
                   f"{'within' if t['met'] else 'NOT within'}")
-        print(f"written: {json_path}")
+        if cleanup and not args.json:
+            print(f"written: {json_path} (removed with the temporary work folder; --json PATH keeps it)")
+        else:
+            print(f"written: {json_path}")
         if args.markdown:
             write_markdown(args.markdown, markdown(report))
             print(f"rewritten: the side-by-side section of {args.markdown}")
