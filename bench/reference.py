@@ -7,7 +7,8 @@ peak memory the side-by-side script measures.
     /usr/bin/python3 bench/reference.py WORKLOAD DATA.csv [--seed S] [--resamples B]
 
 WORKLOAD is one of
-  kw    read the CSV with pandas, scipy.stats.kruskal: H and its asymptotic p;
+  kw    read the CSV with pandas, scipy.stats.kruskal: H and its asymptotic p (and its
+        log10, from mpmath where scipy's p underflows to 0);
   dunn  kw, then Dunn's z for every pair of groups from the pooled midranks with the tie
         correction of the rank variance (Dunn 1964, Technometrics 6:241-252), two-sided
         normal p, Holm adjustment with statsmodels multipletests, Cliff's delta and the
@@ -134,6 +135,20 @@ def bootstrap_h(df, names, resamples, seed):
     return out
 
 
+def log10_p(res, k):
+    """log10 of the asymptotic p; where scipy's p is below the smallest normal double (it
+    returns 0 there, and chi2.logsf returns -inf), the upper regularized incomplete gamma
+    Q((k-1)/2, H/2) in mpmath at 30 digits."""
+    if res.pvalue >= np.finfo(np.float64).tiny:
+        return float(np.log10(res.pvalue))
+    import mpmath
+
+    mpmath.mp.dps = 30
+    q = mpmath.gammainc(mpmath.mpf(k - 1) / 2, mpmath.mpf(float(res.statistic)) / 2, mpmath.inf,
+                        regularized=True)
+    return float(mpmath.log10(q))
+
+
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("workload", choices=["kw", "dunn", "full", "mc"])
@@ -145,7 +160,7 @@ def main():
     df, names, groups = load(args.data)
     res = stats.kruskal(*groups)
     out = {"workload": args.workload, "n": int(df.shape[0]), "groups": names,
-           "h": float(res.statistic), "p": float(res.pvalue)}
+           "h": float(res.statistic), "p": float(res.pvalue), "log10_p": log10_p(res, len(names))}
 
     if args.workload in ("dunn", "full"):
         i, j, z, p, p_holm = dunn(df, names)
