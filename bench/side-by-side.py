@@ -129,7 +129,8 @@ def environment(exe):
     return {
         "cpu": model, "nproc": os.cpu_count(), "memory_gib": round(mem_kib / 2**20, 1),
         "kernel": platform.release(), "go": output(["go", "version"]),
-        "rankplan": output([exe, "version"]).splitlines()[0], "revision": revision,
+        "rankplan": output([exe, "version"]).splitlines()[0].removeprefix("rankplan ").strip(),
+        "revision": revision,
         "python": py[0], "numpy": py[1], "pandas": py[2], "scipy": py[3], "statsmodels": py[4],
     }
 
@@ -321,7 +322,7 @@ def targets(records, workers):
     for rows, limit in ((big, 2.0), (1_000_000, 1.0)):
         f, d = find(records, "full", rows), find(records, "dunn", rows)
         if f and d and f["rankplan"]["median_wall_s"] and d["script"]["median_wall_s"]:
-            add(f"full, {rows:.0e} rows: rankplan wall / script's dunn wall",
+            add(f"full, 10^{len(str(rows)) - 1} rows: rankplan wall / script's dunn wall",
                 f["rankplan"]["median_wall_s"] / d["script"]["median_wall_s"], limit)
     if full and dunn and full["rankplan"]["median_peak_rss_kib"] and dunn["script"]["median_peak_rss_kib"]:
         add("full, 10^7 rows: rankplan memory / script's dunn memory",
