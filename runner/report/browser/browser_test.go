@@ -20,7 +20,6 @@ import (
 	"github.com/chromedp/cdproto/page"
 	"github.com/chromedp/chromedp"
 
-	"rankplan/runner"
 	"rankplan/runner/results"
 )
 
@@ -62,10 +61,7 @@ func TestReportInChromium(t *testing.T) {
 		name := filepath.Base(filepath.Dir(plan))
 		t.Run(name, func(t *testing.T) {
 			t.Parallel()
-			dir := filepath.Join(t.TempDir(), "run")
-			if _, err := runner.Run(context.Background(), plan, runner.RunOptions{Out: dir, Workers: 2}); err != nil {
-				t.Fatal(err)
-			}
+			dir, _ := runExample(t, plan)
 			var res results.Results
 			b, err := os.ReadFile(filepath.Join(dir, "results.json"))
 			if err != nil {

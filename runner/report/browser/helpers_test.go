@@ -2,9 +2,15 @@ package browser
 
 import (
 	"context"
+	"os"
+	"path/filepath"
+	"strconv"
+	"sync"
 	"testing"
 
 	"github.com/chromedp/chromedp"
+
+	"rankplan/runner"
 )
 
 // newBrowser starts one headless Chromium (exe) for a test's tabs, with the network
@@ -24,4 +30,56 @@ func newBrowser(t *testing.T, exe string) context.Context {
 		t.Fatalf("start %s: %v", exe, err)
 	}
 	return bctx
+}
+
+// exampleRuns holds the run folder of each example, made once for every test of the
+// package that opens it (a run of the largest example takes seconds).
+var exampleRuns struct {
+	sync.Mutex
+	base string
+	m    map[string]*exampleRun
+}
+
+type exampleRun struct {
+	once sync.Once
+	dir  string
+	rec  *runner.RunRecord
+	err  error
+}
+
+// TestMain removes the shared example runs when every test has finished.
+func TestMain(m *testing.M) {
+	code := m.Run()
+	if exampleRuns.base != "" {
+		os.RemoveAll(exampleRuns.base)
+	}
+	os.Exit(code)
+}
+
+// runExample runs the plan once per test binary, into a folder shared by the tests that
+// ask for it (they only read it), and returns the folder and the run's record.
+func runExample(t *testing.T, plan string) (string, *runner.RunRecord) {
+	t.Helper()
+	exampleRuns.Lock()
+	if exampleRuns.m == nil {
+		base, err := os.MkdirTemp("", "rankplan-browser-")
+		if err != nil {
+			exampleRuns.Unlock()
+			t.Fatal(err)
+		}
+		exampleRuns.base, exampleRuns.m = base, map[string]*exampleRun{}
+	}
+	r, ok := exampleRuns.m[plan]
+	if !ok {
+		r = &exampleRun{dir: filepath.Join(exampleRuns.base, strconv.Itoa(len(exampleRuns.m)), "run")}
+		exampleRuns.m[plan] = r
+	}
+	exampleRuns.Unlock()
+	r.once.Do(func() {
+		r.rec, r.err = runner.Run(context.Background(), plan, runner.RunOptions{Out: r.dir, Workers: 2})
+	})
+	if r.err != nil {
+		t.Fatalf("run %s: %v", plan, r.err)
+	}
+	return r.dir, r.rec
 }

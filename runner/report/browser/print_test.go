@@ -16,7 +16,6 @@ import (
 	"github.com/chromedp/cdproto/page"
 	"github.com/chromedp/chromedp"
 
-	"rankplan/runner"
 	"rankplan/runner/report"
 	"rankplan/runner/results"
 )
@@ -42,11 +41,7 @@ func TestReportPrintLength(t *testing.T) {
 		name := filepath.Base(filepath.Dir(plan))
 		t.Run(name, func(t *testing.T) {
 			t.Parallel()
-			dir := filepath.Join(t.TempDir(), "run")
-			res, err := runner.Run(context.Background(), plan, runner.RunOptions{Out: dir, Workers: 2})
-			if err != nil {
-				t.Fatal(err)
-			}
+			dir, res := runExample(t, plan)
 			analyses := len(res.Results.Analyses)
 			ctx, cancel := chromedp.NewContext(bctx)
 			defer cancel()
