@@ -19,9 +19,17 @@ import (
 // (t.Cleanup, not defer).
 func newBrowser(t *testing.T, exe string) context.Context {
 	t.Helper()
+	return startBrowser(t, exe, chromedp.WindowSize(1100, 1400))
+}
+
+// startBrowser is [newBrowser] with the allocator options extra, and the browser's
+// default window size unless extra sets one.
+func startBrowser(t *testing.T, exe string, extra ...chromedp.ExecAllocatorOption) context.Context {
+	t.Helper()
 	opts := append(chromedp.DefaultExecAllocatorOptions[:], chromedp.ExecPath(exe),
-		chromedp.NoSandbox, chromedp.Flag("disable-gpu", true), chromedp.WindowSize(1100, 1400),
+		chromedp.NoSandbox, chromedp.Flag("disable-gpu", true),
 		chromedp.Flag("host-resolver-rules", "MAP * ~NOTFOUND"), chromedp.ProxyServer("127.0.0.1:9"))
+	opts = append(opts, extra...)
 	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
 	t.Cleanup(cancelAlloc)
 	bctx, cancelBrowser := chromedp.NewContext(actx)

@@ -86,17 +86,7 @@ func TestReportPrintLength(t *testing.T) {
 // its context; the browser is closed when the test and its subtests have finished.
 func offlineBrowser(t *testing.T, exe string) context.Context {
 	t.Helper()
-	opts := append(chromedp.DefaultExecAllocatorOptions[:], chromedp.ExecPath(exe),
-		chromedp.NoSandbox, chromedp.Flag("disable-gpu", true),
-		chromedp.Flag("host-resolver-rules", "MAP * ~NOTFOUND"), chromedp.ProxyServer("127.0.0.1:9"))
-	actx, cancelAlloc := chromedp.NewExecAllocator(context.Background(), opts...)
-	t.Cleanup(cancelAlloc)
-	bctx, cancelBrowser := chromedp.NewContext(actx)
-	t.Cleanup(cancelBrowser)
-	if err := chromedp.Do(bctx); err != nil {
-		t.Fatalf("start %s: %v", exe, err)
-	}
-	return bctx
+	return startBrowser(t, exe)
 }
 
 // pdfObject finds the dictionary of indirect object "num gen obj … endobj" in an
