@@ -91,3 +91,12 @@ func runExample(t *testing.T, plan string) (string, *runner.RunRecord) {
 	}
 	return r.dir, r.rec
 }
+
+// longMode skips a test unless the long variants run (RANKPLAN_EXHAUSTIVE=1, as .ci/run
+// sets it): printing every example to PDF takes seconds of the browser's time.
+func longMode(t *testing.T) {
+	t.Helper()
+	if os.Getenv("RANKPLAN_EXHAUSTIVE") != "1" {
+		t.Skip("printed page counts are checked with RANKPLAN_EXHAUSTIVE=1 (CI sets it)")
+	}
+}

@@ -31,6 +31,7 @@ var papers = []struct {
 // checks that nothing that works only on screen (the links of the contents) is printed.
 // The counts are logged (go test -v).
 func TestReportPrintLength(t *testing.T) {
+	longMode(t)
 	exe := chromium(t)
 	plans, err := filepath.Glob("../../../examples/*/plan.yaml")
 	if err != nil || len(plans) == 0 {
@@ -192,6 +193,7 @@ func TestPDFPageCount(t *testing.T) {
 // on screen the pairs table shows every pair, on paper only the 5 that differ or are not
 // computable, and the whole report prints on at most two pages.
 func TestLongPairsPrint(t *testing.T) {
+	longMode(t)
 	exe := chromium(t)
 	b, err := os.ReadFile("../testdata/html/dissolution.results.json")
 	if err != nil {
